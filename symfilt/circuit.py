@@ -1,0 +1,528 @@
+"""Circuits as values: parts, ports, source and load fixtures, and their symbols.
+
+A :class:`Circuit` is frozen. It is built from a circuit file
+(:func:`symfilt.circuit_file.load_circuit`), from the catalogue, or directly in Python::
+
+    >>> c = Circuit.build(
+    ...     [Part.resistor("R1", "in", "out", "4k7"), Part.capacitor("C1", "out", "gnd", "22n")],
+    ...     source="600", load="10k")
+    >>> sorted(c.symbols())
+    ['C1', 'R1', 'R_L', 'R_s', 's']
+
+Ground is the node ``0`` or ``gnd`` (any case); it is stored as ``"0"``.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass, field, replace
+from typing import Iterable, Mapping
+
+import sympy
+
+from .errors import CircuitError
+from .values import parse_value
+
+#: Part kinds and their pins.
+KINDS: dict[str, tuple[str, ...]] = {
+    "resistor": ("a", "b"),
+    "capacitor": ("a", "b"),
+    "inductor": ("a", "b"),
+    "opamp": ("plus", "minus", "out"),
+    "vcvs": ("out+", "out-", "ctrl+", "ctrl-"),
+    "vccs": ("out+", "out-", "ctrl+", "ctrl-"),
+    "ccvs": ("out+", "out-"),
+    "cccs": ("out+", "out-"),
+}
+#: Op-amp models.
+OPAMP_MODELS = ("ideal", "gain", "single-pole")
+#: Kinds whose current can control a ccvs or cccs.
+CONTROL_KINDS = ("resistor", "capacitor", "inductor", "vcvs", "ccvs")
+#: Names of the fixture symbols.
+SOURCE_R, LOAD_R, LOAD_C = "R_s", "R_L", "C_L"
+#: The Laplace variable.
+S = sympy.Symbol("s")
+GROUND = "0"
+MAX_NAME = 32
+_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
+_RESERVED = {"s", SOURCE_R, LOAD_R, LOAD_C, "pi", "oo", "j", "w", "omega"}
+
+
+def is_ground(node: str) -> bool:
+    """True when a node name means ground (``0`` or ``gnd``, any case).
+
+    Examples
+    --------
+    >>> is_ground("GND"), is_ground("0"), is_ground("out")
+    (True, True, False)
+    """
+    return node.strip().lower() in ("0", "gnd")
+
+
+def _node(name: object, where: str) -> str:
+    if not isinstance(name, str) or not name.strip():
+        raise CircuitError(where, f"node {name!r} is not a name", "write node names as non-empty text such as \"in\" or \"gnd\"")
+    name = name.strip()
+    if len(name) > MAX_NAME:
+        raise CircuitError(where, f"node name is {len(name)} characters long", f"use at most {MAX_NAME} characters")
+    return GROUND if is_ground(name) else name
+
+
+def _value(text, where: str):
+    return None if text is None else parse_value(text, where=where)
+
+
+def part_symbol(name: str, kind: str = "resistor") -> sympy.Symbol:
+    """The sympy symbol of a part or fixture.
+
+    Passive parts, fixtures and op-amp parameters are positive; controlled-source
+    gains are real (they may be negative).
+
+    Examples
+    --------
+    >>> part_symbol("R1").is_positive, part_symbol("E1", "vcvs").is_positive
+    (True, None)
+    """
+    if kind in ("vcvs", "vccs", "ccvs", "cccs"):
+        return sympy.Symbol(name, real=True)
+    return sympy.Symbol(name, positive=True)
+
+
+@dataclass(frozen=True)
+class Part:
+    """One part of a circuit.
+
+    Parameters
+    ----------
+    name : str
+        Unique name, also the part's symbol (``R1``, ``C2``, ``U1``, ``E1``).
+    kind : str
+        One of :data:`KINDS`.
+    nodes : tuple of str
+        The pins in the order of :data:`KINDS` for that kind.
+    value : sympy.Rational or None
+        Resistance, capacitance, inductance, or a controlled source's gain; None keeps it symbolic.
+    model : str
+        Op-amp model: ``ideal``, ``gain`` or ``single-pole``.
+    gain, gbw : sympy.Rational or None
+        Op-amp open-loop DC gain and gain-bandwidth product in Hz.
+    control : str or None
+        For ccvs and cccs, the name of the part whose current controls it.
+    iout_max, slew : sympy.Rational or None
+        Op-amp output current limit (A) and slew rate (V/µs), for the drive check.
+
+    Examples
+    --------
+    >>> Part.resistor("R1", "in", "gnd", "4k7").value
+    4700
+    >>> Part.opamp("U1", "a", "out", "out").symbols()
+    []
+    """
+
+    name: str
+    kind: str
+    nodes: tuple[str, ...]
+    value: sympy.Rational | None = None
+    model: str = "ideal"
+    gain: sympy.Rational | None = None
+    gbw: sympy.Rational | None = None
+    control: str | None = None
+    iout_max: sympy.Rational | None = None
+    slew: sympy.Rational | None = None
+
+    # --- constructors -------------------------------------------------------
+    @classmethod
+    def resistor(cls, name: str, a: str, b: str, value=None) -> "Part":
+        """A resistor between nodes ``a`` and ``b``.
+
+        Examples
+        --------
+        >>> Part.resistor("R2", "x", "0", "10k").nodes
+        ('x', '0')
+        """
+        return cls.make(name, "resistor", (a, b), value=value)
+
+    @classmethod
+    def capacitor(cls, name: str, a: str, b: str, value=None) -> "Part":
+        """A capacitor between nodes ``a`` and ``b``.
+
+        Examples
+        --------
+        >>> Part.capacitor("C1", "x", "gnd", "22n").kind
+        'capacitor'
+        """
+        return cls.make(name, "capacitor", (a, b), value=value)
+
+    @classmethod
+    def inductor(cls, name: str, a: str, b: str, value=None) -> "Part":
+        """An inductor between nodes ``a`` and ``b``.
+
+        Examples
+        --------
+        >>> Part.inductor("L1", "x", "y", "10m").value
+        1/100
+        """
+        return cls.make(name, "inductor", (a, b), value=value)
+
+    @classmethod
+    def opamp(cls, name: str, plus: str, minus: str, out: str, model: str = "ideal",
+              gain=None, gbw=None, iout_max=None, slew=None) -> "Part":
+        """An op-amp with pins ``plus``, ``minus``, ``out`` (output against ground).
+
+        Examples
+        --------
+        >>> Part.opamp("U1", "a", "out", "out", model="gain", gain="100k").symbols()
+        ['A_U1']
+        """
+        return cls.make(name, "opamp", (plus, minus, out), model=model, gain=gain, gbw=gbw,
+                        iout_max=iout_max, slew=slew)
+
+    @classmethod
+    def make(cls, name: str, kind: str, nodes: Iterable[str], *, value=None, model: str = "ideal",
+             gain=None, gbw=None, control: str | None = None, iout_max=None, slew=None) -> "Part":
+        """Build and check any part, parsing values from text.
+
+        Examples
+        --------
+        >>> Part.make("E1", "vcvs", ["o", "0", "i", "0"], value="2").value
+        2
+        """
+        where = f"part {name}"
+        if not isinstance(name, str) or not _NAME.match(name):
+            raise CircuitError(f"part {name!r}", "a part name must start with a letter and hold only letters, digits and _",
+                               "rename it, e.g. R1 or C_in")
+        if len(name) > MAX_NAME:
+            raise CircuitError(where[:60], f"name is {len(name)} characters long", f"use at most {MAX_NAME} characters")
+        if name in _RESERVED or name.startswith(("A_", "GBW_")):
+            raise CircuitError(where, f"the name {name} is reserved for a symbol of symfilt",
+                               "rename the part (R_s, R_L, C_L, s, A_*, GBW_* are taken)")
+        if kind not in KINDS:
+            raise CircuitError(where, f"unknown kind {kind!r}", "use one of " + ", ".join(KINDS))
+        nodes = tuple(_node(n, where) for n in nodes)
+        if len(nodes) != len(KINDS[kind]):
+            raise CircuitError(where, f"a {kind} has {len(KINDS[kind])} pins ({', '.join(KINDS[kind])}), got {len(nodes)}",
+                               "list exactly those pins")
+        if kind == "opamp":
+            if model not in OPAMP_MODELS:
+                raise CircuitError(where, f"unknown op-amp model {model!r}", "use one of " + ", ".join(OPAMP_MODELS))
+            if value is not None:
+                raise CircuitError(where, "an op-amp has no value", "use gain = ... and gbw = ... for its model")
+        elif any(v is not None for v in (gain, gbw, iout_max, slew)) or model != "ideal":
+            raise CircuitError(where, f"model, gbw, iout_max and slew belong to op-amps, not to a {kind}",
+                               "remove them" + (", and give a controlled source's gain as gain" if kind in ("vcvs", "vccs", "ccvs", "cccs") else ""))
+        if kind in ("ccvs", "cccs"):
+            if not control:
+                raise CircuitError(where, f"a {kind} needs control = \"<part whose current controls it>\"",
+                                   "name a resistor, capacitor, inductor, vcvs or ccvs")
+        elif control is not None:
+            raise CircuitError(where, f"a {kind} takes no control part", "remove control")
+        part = cls(name=name, kind=kind, nodes=nodes, value=_value(value, where), model=model,
+                   gain=_value(gain, f"{where} gain"), gbw=_value(gbw, f"{where} gbw"), control=control,
+                   iout_max=_value(iout_max, f"{where} iout_max"), slew=_value(slew, f"{where} slew"))
+        part.check_values()
+        return part
+
+    # --- checks and symbols ---------------------------------------------------
+    def check_values(self) -> None:
+        """Raise CircuitError for values that no real part has (zero, negative).
+
+        Examples
+        --------
+        >>> Part.resistor("R1", "a", "b", "0")
+        Traceback (most recent call last):
+        ...
+        symfilt.errors.CircuitError: part R1: a resistance of 0 is a wire, use a wire (join the nodes), or remove the part
+        """
+        where = f"part {self.name}"
+        if self.kind in ("resistor", "capacitor", "inductor") and self.value is not None:
+            what = {"resistor": "resistance", "capacitor": "capacitance", "inductor": "inductance"}[self.kind]
+            if self.value == 0:
+                if self.kind == "capacitor":
+                    raise CircuitError(where, "a capacitance of 0 is an open circuit", "remove the part")
+                raise CircuitError(where, f"a {what} of 0 is a wire", "use a wire (join the nodes), or remove the part")
+            if self.value < 0:
+                raise CircuitError(where, f"negative value {self.value}", "give the magnitude; passive parts are positive")
+        if self.kind == "opamp":
+            for label, v in (("gain", self.gain), ("gbw", self.gbw), ("iout_max", self.iout_max), ("slew", self.slew)):
+                if v is not None and v <= 0:
+                    raise CircuitError(where, f"{label} must be positive, got {v}", f"give a positive {label}")
+
+    @property
+    def symbol(self) -> sympy.Symbol:
+        """The part's own symbol (its name).
+
+        Examples
+        --------
+        >>> Part.capacitor("C1", "a", "b").symbol
+        C1
+        """
+        return part_symbol(self.name, self.kind)
+
+    def symbols(self) -> list[str]:
+        """Names of the symbols this part brings into the equations.
+
+        Examples
+        --------
+        >>> Part.opamp("U2", "a", "b", "c", model="single-pole").symbols()
+        ['A_U2', 'GBW_U2']
+        """
+        if self.kind != "opamp":
+            return [self.name]
+        return {"ideal": [], "gain": [f"A_{self.name}"], "single-pole": [f"A_{self.name}", f"GBW_{self.name}"]}[self.model]
+
+
+@dataclass(frozen=True)
+class Fixture:
+    """What drives the input or loads the output: absent, symbolic, or with a value.
+
+    Examples
+    --------
+    >>> Fixture.parse("2k", "source resistance")
+    Fixture(present=True, value=2000)
+    >>> Fixture.parse("none", "x").present
+    False
+    """
+
+    present: bool = False
+    value: sympy.Rational | None = None
+
+    @classmethod
+    def parse(cls, text, where: str) -> "Fixture":
+        """Read ``"none"``, ``"symbol"`` or a value.
+
+        Examples
+        --------
+        >>> Fixture.parse("symbol", "load resistance")
+        Fixture(present=True, value=None)
+        """
+        if text is None or (isinstance(text, str) and text.strip().lower() in ("none", "")):
+            return cls()
+        if isinstance(text, str) and text.strip().lower() == "symbol":
+            return cls(True, None)
+        if isinstance(text, Fixture):
+            return text
+        value = parse_value(text, where=where)
+        if value <= 0:
+            raise CircuitError(where, f"value {value} must be positive",
+                               "write a positive value, \"symbol\" to keep it symbolic, or \"none\" to leave it out")
+        return cls(True, value)
+
+
+@dataclass(frozen=True)
+class Circuit:
+    """A circuit with its ports and fixtures.
+
+    Parameters
+    ----------
+    parts : tuple of Part
+    input, output : str
+        The node the source drives and the node whose voltage is the output.
+    source : Fixture
+        Source resistance ``R_s`` (absent: ideal source).
+    load_resistance, load_capacitance : Fixture
+        Load ``R_L`` and ``C_L`` (absent: open output).
+    title : str
+
+    Examples
+    --------
+    >>> c = Circuit.build([Part.resistor("R1", "in", "out")], load="symbol")
+    >>> c.load_resistance
+    Fixture(present=True, value=None)
+    """
+
+    parts: tuple[Part, ...]
+    input: str = "in"
+    output: str = "out"
+    source: Fixture = field(default_factory=Fixture)
+    load_resistance: Fixture = field(default_factory=Fixture)
+    load_capacitance: Fixture = field(default_factory=Fixture)
+    title: str = ""
+
+    @classmethod
+    def build(cls, parts: Iterable[Part], *, input: str = "in", output: str = "out", source=None,
+              load=None, load_capacitance=None, title: str = "") -> "Circuit":
+        """Build and check a circuit; fixtures as text (``"600"``, ``"symbol"``, ``"none"``) or None.
+
+        Examples
+        --------
+        >>> Circuit.build([Part.resistor("R1", "in", "out", "1k")], source="50").source.value
+        50
+        """
+        c = cls(parts=tuple(parts), input=_node(input, "ports input"), output=_node(output, "ports output"),
+                source=Fixture.parse(source, "source resistance"),
+                load_resistance=Fixture.parse(load, "load resistance"),
+                load_capacitance=Fixture.parse(load_capacitance, "load capacitance"), title=title)
+        c.check()
+        return c
+
+    @classmethod
+    def from_file(cls, path) -> "Circuit":
+        """Read a circuit file (see :mod:`symfilt.circuit_file`).
+
+        Examples
+        --------
+        >>> import tempfile, pathlib
+        >>> p = pathlib.Path(tempfile.mkdtemp()) / "c.toml"
+        >>> _ = p.write_text('[parts]\\nR1 = {kind = "resistor", nodes = ["in", "out"]}\\n'
+        ...                  'C1 = {kind = "capacitor", nodes = ["out", "gnd"]}\\n')
+        >>> len(Circuit.from_file(p).parts)
+        2
+        """
+        from .circuit_file import load_circuit
+
+        return load_circuit(path)
+
+    # --- queries --------------------------------------------------------------
+    def part(self, name: str) -> Part:
+        """The part called ``name``.
+
+        Examples
+        --------
+        >>> Circuit.build([Part.resistor("R1", "in", "out"), Part.resistor("R2", "out", "0")]).part("R1").kind
+        'resistor'
+        """
+        for p in self.parts:
+            if p.name == name:
+                return p
+        raise CircuitError(f"part {name}", "no such part", "use one of " + ", ".join(p.name for p in self.parts))
+
+    def nodes(self) -> list[str]:
+        """Non-ground nodes in first-seen order (ports first).
+
+        Examples
+        --------
+        >>> Circuit.build([Part.resistor("R1", "in", "out"), Part.capacitor("C1", "out", "0")]).nodes()
+        ['in', 'out']
+        """
+        seen: dict[str, None] = {}
+        for n in (self.input, self.output):
+            if n != GROUND:
+                seen.setdefault(n, None)
+        for p in self.parts:
+            for n in p.nodes:
+                if n != GROUND:
+                    seen.setdefault(n, None)
+        return list(seen)
+
+    def symbols(self) -> dict[str, dict]:
+        """Every symbol with its role and value (None when symbolic), in a stable order.
+
+        Roles are ``part``, ``source``, ``load``, ``opamp`` and ``laplace``.
+
+        Examples
+        --------
+        >>> c = Circuit.build([Part.resistor("R1", "in", "out", "1k"), Part.resistor("R2", "out", "0")], source="50")
+        >>> c.symbols()["R_s"]
+        {'role': 'source', 'value': 50, 'symbol': R_s}
+        """
+        out: dict[str, dict] = {}
+        for p in self.parts:
+            if p.kind == "opamp":
+                if p.model in ("gain", "single-pole"):
+                    out[f"A_{p.name}"] = {"role": "opamp", "value": p.gain, "symbol": part_symbol(f"A_{p.name}")}
+                if p.model == "single-pole":
+                    out[f"GBW_{p.name}"] = {"role": "opamp", "value": p.gbw, "symbol": part_symbol(f"GBW_{p.name}")}
+            else:
+                out[p.name] = {"role": "part", "value": p.value, "symbol": p.symbol}
+        if self.source.present:
+            out[SOURCE_R] = {"role": "source", "value": self.source.value, "symbol": part_symbol(SOURCE_R)}
+        if self.load_resistance.present:
+            out[LOAD_R] = {"role": "load", "value": self.load_resistance.value, "symbol": part_symbol(LOAD_R)}
+        if self.load_capacitance.present:
+            out[LOAD_C] = {"role": "load", "value": self.load_capacitance.value, "symbol": part_symbol(LOAD_C)}
+        out["s"] = {"role": "laplace", "value": None, "symbol": S}
+        return out
+
+    def symbol_table(self) -> dict[str, sympy.Symbol]:
+        """Name -> sympy symbol for every symbol of the circuit.
+
+        Examples
+        --------
+        >>> Circuit.build([Part.resistor("E", "in", "out"), Part.resistor("N", "out", "0")]).symbol_table()["E"]
+        E
+        """
+        return {name: info["symbol"] for name, info in self.symbols().items()}
+
+    def values(self) -> dict[sympy.Symbol, sympy.Rational]:
+        """Symbol -> exact value, for the symbols that have one.
+
+        Examples
+        --------
+        >>> Circuit.build([Part.resistor("R1", "in", "out", "1k"), Part.capacitor("C1", "out", "0")]).values()
+        {R1: 1000}
+        """
+        return {info["symbol"]: info["value"] for info in self.symbols().values() if info["value"] is not None}
+
+    # --- transformations -----------------------------------------------------
+    def without_fixtures(self) -> "Circuit":
+        """The stage alone: ideal source, open output.
+
+        Examples
+        --------
+        >>> Circuit.build([Part.resistor("R1", "in", "out")], source="1k").without_fixtures().source.present
+        False
+        """
+        return replace(self, source=Fixture(), load_resistance=Fixture(), load_capacitance=Fixture())
+
+    def with_opamp_model(self, model: str, gain=None, gbw=None) -> "Circuit":
+        """Every op-amp switched to ``model``; parts keep their own gain and gbw values.
+
+        Examples
+        --------
+        >>> c = Circuit.build([Part.opamp("U1", "in", "out", "out"), Part.resistor("R1", "out", "0")])
+        >>> c.with_opamp_model("gain").parts[0].model
+        'gain'
+        """
+        if model not in OPAMP_MODELS:
+            raise CircuitError("opamp model", f"unknown model {model!r}", "use one of " + ", ".join(OPAMP_MODELS))
+        parts = tuple(replace(p, model=model, gain=p.gain if p.gain is not None else _value(gain, "opamp gain"),
+                              gbw=p.gbw if p.gbw is not None else _value(gbw, "opamp gbw"))
+                      if p.kind == "opamp" else p for p in self.parts)
+        return replace(self, parts=parts)
+
+    def with_values(self, values: Mapping[str, object]) -> "Circuit":
+        """A copy with some part or fixture values replaced (name -> value text or number).
+
+        Examples
+        --------
+        >>> c = Circuit.build([Part.resistor("R1", "in", "out", "1k"), Part.resistor("R2", "out", "0")])
+        >>> c.with_values({"R1": "2k"}).part("R1").value
+        2000
+        """
+        parts = list(self.parts)
+        fixtures = {"source": self.source, "load_resistance": self.load_resistance,
+                    "load_capacitance": self.load_capacitance}
+        keys = {SOURCE_R: "source", LOAD_R: "load_resistance", LOAD_C: "load_capacitance"}
+        for name, v in values.items():
+            if name in keys:
+                fixtures[keys[name]] = Fixture.parse(v, name)
+                continue
+            if name.startswith(("A_", "GBW_")):
+                pname = name.split("_", 1)[1]
+                idx = next((i for i, p in enumerate(parts) if p.name == pname and p.kind == "opamp"), None)
+                if idx is None:
+                    raise CircuitError(name, "no op-amp of that name", "name an op-amp's A_ or GBW_ symbol")
+                attr = "gain" if name.startswith("A_") else "gbw"
+                parts[idx] = replace(parts[idx], **{attr: _value(v, name)})
+                continue
+            idx = next((i for i, p in enumerate(parts) if p.name == name), None)
+            if idx is None:
+                raise CircuitError(name, "no such part or symbol", "use one of " + ", ".join(self.symbols()))
+            parts[idx] = replace(parts[idx], value=_value(v, f"part {name}"))
+            parts[idx].check_values()
+        return replace(self, parts=tuple(parts), **fixtures)
+
+    # --- validation ----------------------------------------------------------
+    def check(self) -> None:
+        """Structural checks that need no algebra; raise CircuitError on the first problem.
+
+        Examples
+        --------
+        >>> Circuit.build([Part.resistor("R1", "in", "in")])
+        Traceback (most recent call last):
+        ...
+        symfilt.errors.CircuitError: part R1: both ends are on node in, connect it between two different nodes
+        """
+        from .structure import check_structure
+
+        check_structure(self)

@@ -1,0 +1,88 @@
+"""Exception hierarchy.
+
+Every error symfilt raises on purpose is a :class:`SymfiltError`. Each subclass
+also subclasses a built-in exception, so callers may catch either. An error keeps
+its parts as fields (``where``, ``what``, ``fix``) and builds its one-line message
+from them: ``<where>: <what>, <fix>``.
+
+Examples
+--------
+>>> err = CircuitFileError("stage.toml [parts] R1", "unknown kind 'resistr'", "use one of resistor, capacitor")
+>>> str(err)
+"stage.toml [parts] R1: unknown kind 'resistr', use one of resistor, capacitor"
+>>> isinstance(err, ValueError)
+True
+"""
+
+from __future__ import annotations
+
+
+class SymfiltError(Exception):
+    """Root of every error symfilt raises on purpose.
+
+    Parameters
+    ----------
+    where : str
+        The place in the input the error is about (file, section, part name, option).
+    what : str
+        What is wrong.
+    fix : str
+        How to fix it.
+
+    Examples
+    --------
+    >>> str(SymfiltError("R1", "value '4x7' not understood", "write a number such as 4k7"))
+    "R1: value '4x7' not understood, write a number such as 4k7"
+    """
+
+    def __init__(self, where: str, what: str, fix: str = "") -> None:
+        self.where = where
+        self.what = what
+        self.fix = fix
+        super().__init__(self.message)
+
+    @property
+    def message(self) -> str:
+        """The one-line message ``<where>: <what>, <fix>``."""
+        text = f"{self.where}: {self.what}" if self.where else self.what
+        if self.fix:
+            text += f", {self.fix}"
+        return " ".join(text.split())
+
+    def __str__(self) -> str:
+        return self.message
+
+    def __reduce__(self):  # keep pickling working with the three-argument constructor
+        return (type(self), (self.where, self.what, self.fix))
+
+
+class ValueParseError(SymfiltError, ValueError):
+    """A component value or number could not be read."""
+
+
+class CircuitFileError(SymfiltError, ValueError):
+    """A circuit file is not valid TOML or breaks the schema."""
+
+
+class CircuitError(SymfiltError, ValueError):
+    """A circuit is structurally wrong (pins, nodes, names, ports)."""
+
+
+class SingularCircuitError(SymfiltError, ArithmeticError):
+    """The circuit equations have no unique solution."""
+
+
+class SizeLimitError(SymfiltError, OverflowError):
+    """An input or a derivation is larger than a stated limit."""
+
+
+class ClaimError(SymfiltError, ValueError):
+    """A hand derivation could not be read safely."""
+
+
+class OutputError(SymfiltError, OSError):
+    """An output file could not be written."""
+
+
+class UsageError(SymfiltError, ValueError):
+    """A command-line option or API argument is not valid."""

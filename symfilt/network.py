@@ -1,0 +1,362 @@
+"""Network functions: exact ratios of polynomials in s, and deriving them from a circuit.
+
+:func:`derive` turns a circuit into a :class:`NetworkFunction` (transfer function,
+input impedance or output impedance) through :mod:`symfilt.mna` and
+:mod:`symfilt.elimination`. A NetworkFunction is frozen; every operation returns
+a new one.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable, Mapping
+
+import flint
+import sympy
+
+from .circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, S
+from .elimination import DEFAULT_MAX_TERMS, solve
+from .errors import SingularCircuitError
+from .mna import build_system
+
+#: Quantities derive() knows, with the MNA mode that gives each.
+QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
+
+
+def _poly_parts(expr: sympy.Expr, gens) -> dict:
+    return sympy.Poly(expr, *gens).as_dict() if gens else {(): expr}
+
+
+def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Expr]:
+    """Cancel the common factor of two polynomial expressions exactly (python-flint).
+
+    Coefficients must be rational; the number pi may appear as a factor.
+
+    Examples
+    --------
+    >>> x, y = sympy.symbols("x y", positive=True)
+    >>> cancel_ratio(x**2 - y**2, 2*x + 2*y)
+    (x/2 - y/2, 1)
+    """
+    num, den = sympy.expand(num), sympy.expand(den)
+    if num == 0:
+        return sympy.Integer(0), sympy.Integer(1)
+    pi_sym = sympy.Dummy("pi")
+    num, den = num.subs(sympy.pi, pi_sym), den.subs(sympy.pi, pi_sym)
+    gens = sorted(num.free_symbols | den.free_symbols, key=lambda z: z.name)
+    if not gens:
+        q = sympy.Rational(num) / sympy.Rational(den)
+        return q, sympy.Integer(1)
+    ctx = flint.fmpq_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(gens))), "degrevlex")
+
+    def to_flint(e):
+        d = _poly_parts(e, gens)
+        return ctx.from_dict({k: flint.fmpq(int(sympy.Rational(v).p), int(sympy.Rational(v).q)) for k, v in d.items()})
+
+    fn, fd = to_flint(num), to_flint(den)
+    g = fn.gcd(fd)
+    if not g.is_one():
+        fn, fd = fn / g, fd / g
+    # make the denominator's trailing (lowest) coefficient 1
+    lead = fd.coeffs()[-1]
+    fn, fd = fn / lead, fd / lead
+
+    def back(p):
+        terms = []
+        for exps, c in zip(p.monoms(), p.coeffs()):
+            c = sympy.Rational(int(c.p), int(c.q))
+            terms.append(c * sympy.Mul(*[gg**e for gg, e in zip(gens, exps) if e]))
+        return sympy.Add(*terms).subs(pi_sym, sympy.pi)
+
+    return back(fn), back(fd)
+
+
+@dataclass(frozen=True)
+class NetworkFunction:
+    """An exact ratio of polynomials in ``s``: a transfer function or an impedance.
+
+    Parameters
+    ----------
+    num, den : sympy.Expr
+        Expanded polynomials in ``s`` whose coefficients are polynomials in the
+        circuit's symbols; coprime.
+    quantity : str
+        ``transfer``, ``zin`` or ``zout``.
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> h = NetworkFunction.from_expr(1 / (1 + S * R * C))
+    >>> h.order(), h.dc_gain(), h.hf_gain()
+    (1, 1, 0)
+    """
+
+    num: sympy.Expr
+    den: sympy.Expr
+    quantity: str = "transfer"
+
+    @classmethod
+    def from_expr(cls, expr, quantity: str = "transfer") -> "NetworkFunction":
+        """Build from any rational expression in ``s`` (cancelled exactly).
+
+        Examples
+        --------
+        >>> NetworkFunction.from_expr((S + 1) / (S**2 - 1)).as_expr()
+        1/(s - 1)
+        """
+        n, d = sympy.fraction(sympy.together(sympy.sympify(expr)))
+        n, d = cancel_ratio(n, d)
+        return cls(n, d, quantity)
+
+    # --- views ------------------------------------------------------------------
+    def as_expr(self) -> sympy.Expr:
+        """The ratio as one sympy expression.
+
+        Examples
+        --------
+        >>> NetworkFunction(sympy.Integer(1), 1 + S).as_expr()
+        1/(s + 1)
+        """
+        return self.num / self.den
+
+    def coefficients(self) -> tuple[list[sympy.Expr], list[sympy.Expr]]:
+        """Coefficients of numerator and denominator, lowest power of s first.
+
+        Examples
+        --------
+        >>> NetworkFunction(S, 1 + 2 * S).coefficients()
+        ([0, 1], [1, 2])
+        """
+        return _coeffs(self.num), _coeffs(self.den)
+
+    def normalized(self) -> tuple[sympy.Expr, sympy.Expr]:
+        """Numerator and denominator with the denominator's lowest-order coefficient made 1.
+
+        Each coefficient is cancelled and, when small, factored.
+
+        Examples
+        --------
+        >>> R, C, Rl = sympy.symbols("R C R_L", positive=True)
+        >>> NetworkFunction.from_expr(Rl / (R + Rl + S * R * Rl * C)).normalized()
+        (R_L/(R + R_L), C*R*R_L*s/(R + R_L) + 1)
+        """
+        ncs, dcs = self.coefficients()
+        low = next(c for c in dcs if c != 0)
+
+        def tidy(c):
+            if c == 0:
+                return sympy.Integer(0)
+            q = sympy.cancel(c / low)
+            return sympy.factor(q) if sympy.count_ops(q) < 80 else q
+
+        num = sympy.Add(*[tidy(c) * S**k for k, c in enumerate(ncs)])
+        den = sympy.Add(*[tidy(c) * S**k for k, c in enumerate(dcs)])
+        return num, den
+
+    def normalized_expr(self) -> sympy.Expr:
+        """The normalized ratio as one unevaluated-looking expression.
+
+        Examples
+        --------
+        >>> R, C = sympy.symbols("R C", positive=True)
+        >>> NetworkFunction.from_expr(2 / (2 + 2 * S * R * C)).normalized_expr()
+        1/(C*R*s + 1)
+        """
+        n, d = self.normalized()
+        return n / d
+
+    def free_symbols(self) -> set:
+        """Symbols appearing in the function (``s`` included).
+
+        Examples
+        --------
+        >>> sorted(map(str, NetworkFunction(S, S + 1).free_symbols()))
+        ['s']
+        """
+        return self.num.free_symbols | self.den.free_symbols
+
+    # --- quantities --------------------------------------------------------------
+    def order(self) -> int:
+        """The order: the larger of the degrees in s of numerator and denominator.
+
+        Examples
+        --------
+        >>> NetworkFunction(sympy.Integer(1), S**2 + S + 1).order()
+        2
+        """
+        return max(sympy.degree(self.num, S), sympy.degree(self.den, S))
+
+    def dc_gain(self) -> sympy.Expr:
+        """Value at s = 0 (``oo`` when the function has a pole there).
+
+        Examples
+        --------
+        >>> NetworkFunction(S, S + 1).dc_gain()
+        0
+        """
+        return _ratio_limit(self.num, self.den, S, 0)
+
+    def hf_gain(self) -> sympy.Expr:
+        """Limit as s -> oo (``oo`` when it grows without bound).
+
+        Examples
+        --------
+        >>> NetworkFunction(2 * S, S + 1).hf_gain()
+        2
+        """
+        return _ratio_limit(self.num, self.den, S, sympy.oo)
+
+    def limit(self, symbol: sympy.Symbol, point) -> "NetworkFunction":
+        """The function as ``symbol`` goes to 0 or oo (exact, on the polynomials).
+
+        Raises SingularCircuitError when the limit is infinite.
+
+        Examples
+        --------
+        >>> Rl = sympy.Symbol("R_L", positive=True)
+        >>> NetworkFunction(Rl, Rl + 1 + S).limit(Rl, sympy.oo).as_expr()
+        1
+        """
+        if symbol not in self.free_symbols():
+            return self
+        ncs, dcs = sympy.Poly(self.num, symbol), sympy.Poly(self.den, symbol)
+        if point == 0:
+            a, b = min(m[0] for m in ncs.monoms()), min(m[0] for m in dcs.monoms())
+            if a < b:
+                raise SingularCircuitError(str(symbol), f"the {self.quantity} grows without bound as {symbol} -> 0",
+                                           "keep that fixture in the circuit")
+            if a > b:
+                return NetworkFunction(sympy.Integer(0), sympy.Integer(1), self.quantity)
+            n, d = ncs.coeff_monomial(symbol**a), dcs.coeff_monomial(symbol**b)
+        else:
+            a, b = ncs.degree(), dcs.degree()
+            if a > b:
+                raise SingularCircuitError(str(symbol), f"the {self.quantity} grows without bound as {symbol} -> oo",
+                                           "keep that fixture in the circuit")
+            if a < b:
+                return NetworkFunction(sympy.Integer(0), sympy.Integer(1), self.quantity)
+            n, d = ncs.coeff_monomial(symbol**a), dcs.coeff_monomial(symbol**b)
+        n, d = cancel_ratio(n, d)
+        return NetworkFunction(n, d, self.quantity)
+
+    def ideal(self) -> "NetworkFunction":
+        """The stage alone: R_s -> 0, R_L -> oo, C_L -> 0 (for those present).
+
+        Examples
+        --------
+        >>> from symfilt import catalogue
+        >>> derive(catalogue.build("rc-lowpass")).ideal().as_expr()
+        1/(C1*R1*s + 1)
+        """
+        out = self
+        for name, point in ((SOURCE_R, 0), (LOAD_R, sympy.oo), (LOAD_C, 0)):
+            sym = sympy.Symbol(name, positive=True)
+            out = out.limit(sym, point)
+        return out
+
+    def subs(self, values: Mapping) -> "NetworkFunction":
+        """Substitute exact values (symbol or name -> number) and cancel.
+
+        Examples
+        --------
+        >>> R = sympy.Symbol("R", positive=True)
+        >>> NetworkFunction(sympy.Integer(1), 1 + S * R).subs({R: 2}).as_expr()
+        1/(2*s + 1)
+        """
+        m = {}
+        for k, v in values.items():
+            m[sympy.Symbol(k, positive=True) if isinstance(k, str) else k] = sympy.nsimplify(v) if isinstance(v, float) else v
+        n, d = cancel_ratio(self.num.xreplace(m), self.den.xreplace(m))
+        return NetworkFunction(n, d, self.quantity)
+
+    def evaluate(self, values: Mapping, s_values):
+        """Evaluate numerically at complex frequencies (numpy, imported here).
+
+        Parameters
+        ----------
+        values : mapping
+            Symbol -> number for every symbol but s.
+        s_values : array_like of complex
+
+        Examples
+        --------
+        >>> R = sympy.Symbol("R", positive=True)
+        >>> complex(NetworkFunction(sympy.Integer(1), 1 + S * R).evaluate({R: 1}, [1j])[0])
+        (0.5-0.5j)
+        """
+        import numpy as np
+
+        sub = {k: float(v) for k, v in values.items()}
+        ncs, dcs = self.coefficients()
+        nc = [complex(sympy.N(c.xreplace(sub), 30)) if c != 0 else 0j for c in ncs]
+        dc = [complex(sympy.N(c.xreplace(sub), 30)) if c != 0 else 0j for c in dcs]
+        sv = np.asarray(s_values, dtype=complex)
+        return np.polyval(nc[::-1], sv) / np.polyval(dc[::-1], sv)
+
+
+def _coeffs(p: sympy.Expr) -> list[sympy.Expr]:
+    poly = sympy.Poly(p, S)
+    deg = poly.degree()
+    if deg < 0:
+        return [sympy.Integer(0)]
+    return [poly.coeff_monomial(S**k) for k in range(deg + 1)]
+
+
+def _ratio_limit(num, den, var, point):
+    pn, pd = sympy.Poly(num, var), sympy.Poly(den, var)
+    if pn.is_zero:
+        return sympy.Integer(0)
+    if point == 0:
+        a, b = min(m[0] for m in pn.monoms()), min(m[0] for m in pd.monoms())
+    else:
+        a, b = pn.degree(), pd.degree()
+        a, b = -a, -b
+    if a > b:
+        return sympy.Integer(0)
+    if a < b:
+        return sympy.oo
+    k_n = -a if point != 0 else a
+    k_d = -b if point != 0 else b
+    n, d = cancel_ratio(pn.coeff_monomial(var**k_n), pd.coeff_monomial(var**k_d))
+    q = n / d
+    return sympy.factor(q) if sympy.count_ops(q) < 80 else q
+
+
+def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEFAULT_MAX_TERMS,
+           progress: Callable[[str], None] | None = None) -> NetworkFunction:
+    """Derive a network function of the loaded circuit, exactly and symbolically.
+
+    Parameters
+    ----------
+    circuit : Circuit
+    quantity : {"transfer", "zin", "zout"}
+        ``transfer`` is V(output)/V(source); ``zin`` the impedance the source sees
+        behind R_s; ``zout`` the impedance the load sees.
+    max_terms : int
+        Size budget of the elimination (see :mod:`symfilt.elimination`).
+    progress : callable, optional
+        Receives stage names.
+
+    Returns
+    -------
+    NetworkFunction
+        In every symbol; numbers are substituted only by :meth:`NetworkFunction.subs`.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> h = derive(catalogue.build("inverting-lowpass"))
+    >>> sympy.factor(h.as_expr())
+    -R2/((R1 + R_s)*(C1*R2*s + 1))
+    """
+    if quantity not in QUANTITIES:
+        raise ValueError(f"quantity must be one of {list(QUANTITIES)}")
+    if progress:
+        progress(f"stamping {quantity}")
+    system = build_system(circuit, QUANTITIES[quantity])
+    where = circuit.title or "circuit"
+    ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
+    if progress:
+        progress("converting to sympy")
+    num, den = ratio.to_sympy()
+    return NetworkFunction(num, den, quantity)
