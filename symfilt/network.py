@@ -36,7 +36,7 @@ def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Ex
     --------
     >>> x, y = sympy.symbols("x y", positive=True)
     >>> cancel_ratio(x**2 - y**2, 2*x + 2*y)
-    (x/2 - y/2, 1)
+    (x - y, 2)
     """
     num, den = sympy.expand(num), sympy.expand(den)
     if num == 0:
@@ -57,9 +57,13 @@ def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Ex
     g = fn.gcd(fd)
     if not g.is_one():
         fn, fd = fn / g, fd / g
-    # make the denominator's trailing (lowest) coefficient 1
-    lead = fd.coeffs()[-1]
-    fn, fd = fn / lead, fd / lead
+    # integer coefficients without a common factor; the denominator's trailing coefficient positive
+    coeffs = [sympy.Rational(int(c.p), int(c.q)) for c in list(fn.coeffs()) + list(fd.coeffs())]
+    scale = sympy.ilcm(*[c.q for c in coeffs]) if len(coeffs) > 1 else coeffs[0].q
+    scale = sympy.Rational(scale, sympy.igcd(*[(c * scale).p for c in coeffs]) if len(coeffs) > 1 else abs((coeffs[0] * scale).p))
+    if fd.coeffs()[-1] < 0:
+        scale = -scale
+    fn, fd = fn * flint.fmpq(int(scale.p), int(scale.q)), fd * flint.fmpq(int(scale.p), int(scale.q))
 
     def back(p):
         terms = []
@@ -101,8 +105,8 @@ class NetworkFunction:
 
         Examples
         --------
-        >>> NetworkFunction.from_expr((S + 1) / (S**2 - 1)).as_expr()
-        1/(s - 1)
+        >>> NetworkFunction.from_expr((S + 1) / (2 * S**2 + 3 * S + 1)).as_expr()
+        1/(2*s + 1)
         """
         n, d = sympy.fraction(sympy.together(sympy.sympify(expr)))
         n, d = cancel_ratio(n, d)
