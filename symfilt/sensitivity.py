@@ -1,0 +1,168 @@
+"""Normalized sensitivities S_x^y = (x / y) * dy/dx and their sum-rule self-checks.
+
+Sum rules (Schaumann & Van Valkenburg, *Design of Analog Filters*, sensitivity
+chapter; from memory): for a circuit of resistors, capacitors and ideal op-amps
+(or op-amps of a pure, dimensionless gain), impedance scaling leaves w0 and Q
+unchanged and frequency scaling moves w0 inversely with every capacitor, so
+
+* sum over resistors of S_R^w0 = -1, sum over capacitors of S_C^w0 = -1,
+* the same sums for Q are 0 (and for a dimensionless DC gain, 0).
+
+They hold only when every resistor is counted (R_s and R_L included) and no
+inductor or single-pole op-amp is present (its bandwidth is itself a frequency).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Mapping
+
+import sympy
+
+_SMALL = 120
+
+
+def sensitivity(y: sympy.Expr, x: sympy.Symbol) -> sympy.Expr:
+    """The normalized sensitivity S_x^y = (x/y) dy/dx, simplified when small.
+
+    Parameters
+    ----------
+    y : sympy.Expr
+    x : sympy.Symbol
+
+    Examples
+    --------
+    >>> R1, R2, C1, C2 = sympy.symbols("R1 R2 C1 C2", positive=True)
+    >>> sensitivity(1 / sympy.sqrt(R1 * R2 * C1 * C2), R1)
+    -1/2
+    """
+    if y == 0 or x not in y.free_symbols:
+        return sympy.Integer(0)
+    e = x * sympy.diff(y, x) / y
+    if sympy.count_ops(e) < 600:
+        e = sympy.cancel(sympy.powsimp(sympy.expand_power_base(e, force=True), force=True))
+        if sympy.count_ops(e) < _SMALL:
+            e = sympy.factor(e)
+    return e
+
+
+def product_sensitivity(factors, x: sympy.Symbol) -> sympy.Expr:
+    """S_x^y for y = product of polynomials p_i ** e_i, as sum of e_i * (x / p_i) dp_i/dx.
+
+    Exact and cheap: every term is a ratio of polynomials, so the result is a
+    cancelled rational function (no radicals), even when y itself has square roots.
+
+    Parameters
+    ----------
+    factors : iterable of (sympy.Expr, number)
+        Polynomials and their exponents.
+    x : sympy.Symbol
+
+    Examples
+    --------
+    >>> R1, R2, C1, C2 = sympy.symbols("R1 R2 C1 C2", positive=True)
+    >>> q = [(R1 * R2 * C1 * C2, sympy.Rational(1, 2)), (C2 * (R1 + R2), -1)]
+    >>> product_sensitivity(q, R1)
+    (-R1 + R2)/(2*(R1 + R2))
+    """
+    terms = [(p, e) for p, e in factors if x in p.free_symbols]
+    if not terms:
+        return sympy.Integer(0)
+    from .network import cancel_ratio
+
+    den = sympy.Mul(*[p for p, _e in terms])
+    num = sympy.Add(*[e * x * sympy.diff(p, x) * sympy.Mul(*[q for q, _f in terms if q is not p])
+                      for p, e in terms])
+    n, d = cancel_ratio(num, den)
+    total = n / d
+    return sympy.factor(total) if sympy.count_ops(total) < _SMALL else total
+
+
+def sensitivities(y: sympy.Expr | None, symbols) -> dict[str, sympy.Expr] | None:
+    """S_x^y for every symbol x in ``symbols`` (names -> expressions); None when y is None.
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> sensitivities(1 / (R * C), [R, C])
+    {'R': -1, 'C': -1}
+    """
+    if y is None:
+        return None
+    return {str(x): sensitivity(y, x) for x in symbols}
+
+
+@dataclass(frozen=True)
+class SumRule:
+    """One sum-rule self-check.
+
+    Attributes
+    ----------
+    quantity : str
+        ``w0`` or ``q``.
+    group : str
+        ``resistors`` or ``capacitors``.
+    expected : int
+    total : sympy.Expr
+        The sum of the derived sensitivities (simplified).
+    holds : bool
+    """
+
+    quantity: str
+    group: str
+    expected: int
+    total: sympy.Expr
+    holds: bool
+
+
+def sum_rules(sens: Mapping[str, Mapping[str, sympy.Expr] | None], resistors, capacitors) -> tuple[SumRule, ...]:
+    """Check the classical sum rules on derived sensitivities.
+
+    Parameters
+    ----------
+    sens : mapping
+        quantity (``w0``, ``q``) -> symbol name -> sensitivity.
+    resistors, capacitors : iterable of str
+        Names of every resistive and capacitive symbol (fixtures included).
+
+    Examples
+    --------
+    >>> R1, R2, C1, C2 = sympy.symbols("R1 R2 C1 C2", positive=True)
+    >>> w0 = 1 / sympy.sqrt(R1 * R2 * C1 * C2)
+    >>> rules = sum_rules({"w0": sensitivities(w0, [R1, R2, C1, C2])}, ["R1", "R2"], ["C1", "C2"])
+    >>> [(r.group, r.holds) for r in rules]
+    [('resistors', True), ('capacitors', True)]
+    """
+    out = []
+    for quantity, expected in (("w0", -1), ("q", 0)):
+        table = sens.get(quantity)
+        if not table:
+            continue
+        for group, names in (("resistors", resistors), ("capacitors", capacitors)):
+            names = [n for n in names if n in table]
+            if not names:
+                continue
+            total = sympy.Add(*[table[n] for n in names])
+            total = sympy.cancel(sympy.together(total))
+            holds = sympy.cancel(total - expected) == 0
+            out.append(SumRule(quantity, group, expected, total, bool(holds)))
+    return tuple(out)
+
+
+def numeric_sensitivity(f, x0: float, rel_step: float = 1e-6) -> float | None:
+    """Normalized sensitivity of a numeric function at x0 by a central difference in log x.
+
+    Used where a quantity has no closed form (cutoff beyond second order).
+
+    Examples
+    --------
+    >>> round(numeric_sensitivity(lambda x: 1 / x**2, 3.0), 6)
+    -2.0
+    """
+    import math
+
+    lo, hi = f(x0 * (1 - rel_step)), f(x0 * (1 + rel_step))
+    mid = f(x0)
+    if lo is None or hi is None or mid in (None, 0):
+        return None
+    return (math.log(abs(hi)) - math.log(abs(lo))) / (math.log1p(rel_step) - math.log1p(-rel_step))
