@@ -448,7 +448,7 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     >>> from symfilt import catalogue
     >>> a = analyse(catalogue.build("sallen-key-lowpass"))
     >>> a.ideal.form.kind, a.ideal.form.q
-    ('lowpass', sqrt(C1)*sqrt(C2)*sqrt(R1)*sqrt(R2)/(C2*(R1 + R2)))
+    ('lowpass', sqrt(C1)*sqrt(R1)*sqrt(R2)/(sqrt(C2)*(R1 + R2)))
     >>> [r.holds for r in a.rules]
     [True, True, True, True]
     """

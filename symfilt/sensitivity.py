@@ -63,7 +63,7 @@ def product_sensitivity(factors, x: sympy.Symbol) -> sympy.Expr:
     >>> R1, R2, C1, C2 = sympy.symbols("R1 R2 C1 C2", positive=True)
     >>> q = [(R1 * R2 * C1 * C2, sympy.Rational(1, 2)), (C2 * (R1 + R2), -1)]
     >>> product_sensitivity(q, R1)
-    (-R1 + R2)/(2*(R1 + R2))
+    -(R1 - R2)/(2*(R1 + R2))
     """
     terms = [(p, e) for p, e in factors if x in p.free_symbols]
     if not terms:
