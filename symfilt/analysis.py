@@ -463,6 +463,9 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     ideal = _stage(h.ideal(), zin.ideal(), zout.ideal(), symbols, sensitivity)
     values = circuit.values()
     numeric = {"loaded": numeric_values(loaded, values), "ideal": numeric_values(ideal, values)}
+    if sensitivity:
+        for key, st in (("loaded", loaded), ("ideal", ideal)):
+            numeric[key]["sensitivity"] = numeric_sensitivities(st, values)
     rules: tuple = ()
     note = ""
     if sensitivity:
@@ -476,3 +479,197 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
             caps = [p.name for p in circuit.parts if p.kind == "capacitor"] + [n for n in (LOAD_C,) if n in table]
             rules = sum_rules(loaded.sensitivity, res, caps)
     return Analysis(circuit, loaded, ideal, numeric, rules, note)
+
+
+def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
+    """Sensitivities of a stage as numbers at the given values.
+
+    Returns quantity -> symbol name -> float, only for tables whose every symbol has a value.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> c = catalogue.build("rc-lowpass")
+    >>> numeric_sensitivities(analyse(c).ideal, c.values())["w0"]
+    {'R1': -1.0, 'C1': -1.0}
+    """
+    out = {}
+    for quantity, table in stage.sensitivity.items():
+        if not table:
+            continue
+        row = {}
+        for name, e in table.items():
+            e = sympy.sympify(e)
+            if e.free_symbols - set(values):
+                row = None
+                break
+            row[name] = _finite(e.xreplace(dict(values)))
+        if row is not None:
+            out[quantity] = row
+    return out
+
+
+def substitute(analysis: Analysis) -> Analysis:
+    """The same analysis with the circuit's values put into every formula.
+
+    Symbols without a value stay symbols. Numbers stay exact.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> a = substitute(analyse(catalogue.build("rc-lowpass"), sensitivity=False))
+    >>> a.ideal.form.w0
+    5000000/517
+    """
+    values = dict(analysis.circuit.values())
+
+    def sub(e):
+        if e is None:
+            return None
+        e = sympy.sympify(e).xreplace(values)
+        return _tidy(e) if not e.has(sympy.sqrt(2)) or sympy.count_ops(e) < 200 else e
+
+    def stage(st: StageResult) -> StageResult:
+        f = st.form
+        form = StandardForm(f.order, f.kind, sub(f.gain), sub(f.w0), sub(f.q), sub(f.tau), {})
+        cut = Cutoff(sub(st.cutoff.value), None if st.cutoff.edges is None else tuple(sub(e) for e in st.cutoff.edges),
+                     sub(st.cutoff.bandwidth), st.cutoff.reason)
+        sens = {k: (None if v is None else {n: sub(e) for n, e in v.items()}) for k, v in st.sensitivity.items()}
+        return StageResult(st.transfer.subs(values), st.zin.subs(values), st.zout.subs(values), form, cut, sens)
+
+    return Analysis(analysis.circuit, stage(analysis.loaded), stage(analysis.ideal), analysis.numeric,
+                    analysis.rules, analysis.rules_note)
+
+
+@dataclass(frozen=True)
+class LoadLimit:
+    """The bound on one fixture that keeps the cutoff within a tolerance of ideal.
+
+    Each fixture is taken alone: the other fixtures are at their ideal limits.
+
+    Attributes
+    ----------
+    fixture : str
+        ``R_L``, ``R_s`` or ``C_L``.
+    bound : str
+        ``min`` (R_L must be at least the value) or ``max`` (R_s, C_L at most).
+    tolerance : float
+        Allowed relative change of the cutoff, as a fraction (0.02 for 2%).
+    value : float or None
+        The bound at the circuit's values (None when it cannot be computed).
+    exact : sympy.Expr or None
+        Closed form of the bound, where one exists (first order).
+    note : str
+    """
+
+    fixture: str
+    bound: str
+    tolerance: float
+    value: float | None
+    exact: sympy.Expr | None
+    note: str = ""
+
+
+def _fixture_alone(h: NetworkFunction, keep: str) -> NetworkFunction:
+    for name, point in ((SOURCE_R, 0), (LOAD_R, sympy.oo), (LOAD_C, 0)):
+        if name != keep:
+            h = h.limit(sympy.Symbol(name, positive=True), point)
+    return h
+
+
+def _cutoff_at(h: NetworkFunction, values: Mapping) -> float | None:
+    form = standard_form(h)
+    cut = cutoff(form)
+    if cut.value is not None:
+        return _finite(sympy.sympify(cut.value).xreplace(dict(values)))
+    return numeric_cutoff(h, values)
+
+
+def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
+    """Smallest R_L, largest R_s (and largest C_L) for which the cutoff stays within
+    ``tolerance`` of the ideal cutoff.
+
+    Closed form for first order (solving the cutoff ratio = 1 +- tolerance), else a
+    numeric bracket and bisection on a logarithmic scan at the circuit's values.
+
+    Parameters
+    ----------
+    analysis : Analysis
+    tolerance : float
+        Fraction, e.g. 0.02.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> lims = load_limits(analyse(catalogue.build("rc-lowpass"), sensitivity=False), 0.02)
+    >>> [(x.fixture, x.bound, x.exact, round(x.value)) for x in lims]
+    [('R_s', 'max', R1/49, 96), ('R_L', 'min', 50*R1, 235000)]
+    """
+    c = analysis.circuit
+    values = dict(c.values())
+    out = []
+    h_loaded = analysis.loaded.transfer
+    ideal_cut = analysis.ideal.cutoff.value
+    for name, bound, present, scan in ((SOURCE_R, "max", c.source.present, (-3, 9)),
+                                       (LOAD_R, "min", c.load_resistance.present, (-3, 12)),
+                                       (LOAD_C, "max", c.load_capacitance.present, (-18, -1))):
+        if not present:
+            continue
+        x = sympy.Symbol(name, positive=True)
+        h = _fixture_alone(h_loaded, name)
+        if x not in h.free_symbols():
+            out.append(LoadLimit(name, bound, tolerance, None, None, "does not change the transfer function"))
+            continue
+        exact = None
+        form = standard_form(h)
+        if form.order == 1 and form.w0 is not None and ideal_cut is not None:
+            ratio = sympy.cancel(form.w0 / ideal_cut)
+            tol = sympy.nsimplify(tolerance)
+            sols = []
+            for target in (1 + tol, 1 - tol):
+                try:
+                    sols += [r for r in sympy.solve(sympy.Eq(ratio, target), x) if r.is_positive is not False]
+                except NotImplementedError:
+                    sols = []
+            sols = [sympy.factor(r) for r in sols if not r.has(sympy.I)]
+            if len(sols) == 1:
+                exact = sols[0]
+        value = None
+        note = ""
+        if exact is not None and not (exact.free_symbols - set(values)):
+            value = _finite(exact.xreplace(values))
+        else:
+            others = {k: v for k, v in values.items() if k != x}
+            ideal_num = analysis.numeric["ideal"].get("cutoff_hz")
+            if ideal_num is None or (h.free_symbols() - {S, x} - set(others)):
+                note = "needs values for every part to compute"
+            else:
+                w_ideal = ideal_num * 2 * math.pi
+
+                def dev(v: float) -> float:
+                    w = _cutoff_at(h, {**others, x: sympy.Rational(repr(v))})
+                    return math.inf if w is None else abs(w / w_ideal - 1) - tolerance
+
+                grid = [10.0 ** (k / 4) for k in range(scan[0] * 4, scan[1] * 4 + 1)]
+                order = grid[::-1] if bound == "min" else grid
+                prev = None
+                for v in order:
+                    if dev(v) > 0:
+                        if prev is None:
+                            note = "outside the range scanned"
+                        else:
+                            lo, hi = sorted((prev, v))
+                            for _ in range(60):
+                                mid = math.sqrt(lo * hi)
+                                inside = dev(mid) <= 0
+                                if (bound == "min") == inside:
+                                    hi = mid
+                                else:
+                                    lo = mid
+                            value = math.sqrt(lo * hi)
+                        break
+                    prev = v
+                else:
+                    note = "the cutoff stays within the tolerance over the whole range scanned"
+        out.append(LoadLimit(name, bound, tolerance, value, exact, note))
+    return out

@@ -423,7 +423,7 @@ class Circuit:
                 if p.model == "single-pole":
                     out[f"GBW_{p.name}"] = {"role": "opamp", "value": p.gbw, "symbol": part_symbol(f"GBW_{p.name}")}
             else:
-                out[p.name] = {"role": "part", "value": p.value, "symbol": p.symbol}
+                out[p.name] = {"role": "part", "value": p.value, "symbol": p.symbol, "kind": p.kind}
         if self.source.present:
             out[SOURCE_R] = {"role": "source", "value": self.source.value, "symbol": part_symbol(SOURCE_R)}
         if self.load_resistance.present:

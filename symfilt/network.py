@@ -8,13 +8,13 @@ a new one.
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from typing import Callable, Mapping
 
 import flint
 import sympy
 
-from .circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, S
+from .circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
 from .elimination import DEFAULT_MAX_TERMS, solve
 from .errors import SingularCircuitError
 from .mna import build_system
@@ -113,14 +113,27 @@ class NetworkFunction:
         return cls(n, d, quantity)
 
     # --- views ------------------------------------------------------------------
+    @property
+    def infinite(self) -> bool:
+        """True for an infinite function (an input that draws no current: Zin = oo).
+
+        Examples
+        --------
+        >>> NetworkFunction(sympy.Integer(1), sympy.Integer(0), "zin").infinite
+        True
+        """
+        return self.den == 0
+
     def as_expr(self) -> sympy.Expr:
-        """The ratio as one sympy expression.
+        """The ratio as one sympy expression (``oo`` when infinite).
 
         Examples
         --------
         >>> NetworkFunction(sympy.Integer(1), 1 + S).as_expr()
         1/(s + 1)
         """
+        if self.infinite:
+            return sympy.oo
         return self.num / self.den
 
     def coefficients(self) -> tuple[list[sympy.Expr], list[sympy.Expr]]:
@@ -144,6 +157,8 @@ class NetworkFunction:
         >>> NetworkFunction.from_expr(Rl / (R + Rl + S * R * Rl * C)).normalized()
         (R_L/(R + R_L), C*R*R_L*s/(R + R_L) + 1)
         """
+        if self.infinite:
+            return sympy.Integer(1), sympy.Integer(0)
         ncs, dcs = self.coefficients()
         low = next(c for c in dcs if c != 0)
 
@@ -157,6 +172,32 @@ class NetworkFunction:
         den = sympy.Add(*[tidy(c) * S**k for k, c in enumerate(dcs)])
         return num, den
 
+    def gain_form(self) -> tuple[sympy.Expr, list[sympy.Expr], list[sympy.Expr]]:
+        """``K`` and the coefficient lists of ``N(s)``, ``D(s)`` with H = K N(s)/D(s), where
+        the lowest-order coefficients of N and D are 1 (the trade's ``K/(1 + s tau)`` shape).
+
+        Examples
+        --------
+        >>> R, C, Rl = sympy.symbols("R C R_L", positive=True)
+        >>> NetworkFunction.from_expr(Rl / (R + Rl + S * R * Rl * C)).gain_form()
+        (R_L/(R + R_L), [1], [1, C*R*R_L/(R + R_L)])
+        """
+        if self.infinite:
+            return sympy.oo, [sympy.Integer(1)], [sympy.Integer(1)]
+        ncs, dcs = self.coefficients()
+        if all(c == 0 for c in ncs):
+            return sympy.Integer(0), [sympy.Integer(1)], [sympy.Integer(1)]
+        n_low = next(c for c in ncs if c != 0)
+        d_low = next(c for c in dcs if c != 0)
+
+        def tidy(c, by):
+            if c == 0:
+                return sympy.Integer(0)
+            q = sympy.cancel(c / by)
+            return sympy.factor(q) if sympy.count_ops(q) < 80 else q
+
+        return tidy(n_low, d_low), [tidy(c, n_low) for c in ncs], [tidy(c, d_low) for c in dcs]
+
     def normalized_expr(self) -> sympy.Expr:
         """The normalized ratio as one unevaluated-looking expression.
 
@@ -166,6 +207,8 @@ class NetworkFunction:
         >>> NetworkFunction.from_expr(2 / (2 + 2 * S * R * C)).normalized_expr()
         1/(C*R*s + 1)
         """
+        if self.infinite:
+            return sympy.oo
         n, d = self.normalized()
         return n / d
 
@@ -221,7 +264,7 @@ class NetworkFunction:
         >>> NetworkFunction(Rl, Rl + 1 + S).limit(Rl, sympy.oo).as_expr()
         1
         """
-        if symbol not in self.free_symbols():
+        if self.infinite or symbol not in self.free_symbols():
             return self
         ncs, dcs = sympy.Poly(self.num, symbol), sympy.Poly(self.den, symbol)
         if point == 0:
@@ -267,6 +310,8 @@ class NetworkFunction:
         >>> NetworkFunction(sympy.Integer(1), 1 + S * R).subs({R: 2}).as_expr()
         1/(2*s + 1)
         """
+        if self.infinite:
+            return self
         m = {}
         for k, v in values.items():
             m[sympy.Symbol(k, positive=True) if isinstance(k, str) else k] = sympy.nsimplify(v) if isinstance(v, float) else v
@@ -307,6 +352,8 @@ def _coeffs(p: sympy.Expr) -> list[sympy.Expr]:
 
 
 def _ratio_limit(num, den, var, point):
+    if den == 0:
+        return sympy.oo
     pn, pd = sympy.Poly(num, var), sympy.Poly(den, var)
     if pn.is_zero:
         return sympy.Integer(0)
@@ -357,8 +404,22 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
         raise ValueError(f"quantity must be one of {list(QUANTITIES)}")
     if progress:
         progress(f"stamping {quantity}")
-    system = build_system(circuit, QUANTITIES[quantity])
     where = circuit.title or "circuit"
+    if quantity == "zin":
+        # Drive the input with an ideal unit voltage source (no R_s) and solve for the
+        # source's branch current: Zin = 1 / Yin. This also covers an input that draws
+        # no current at all (Zin infinite), where a current drive would be singular.
+        alone = replace(circuit, source=Fixture())
+        system = build_system(alone, "transfer")
+        system = replace(system, target=system.unknowns.index("I(source)"))
+        ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
+        num, den = ratio.to_sympy()
+        if num == 0:
+            return NetworkFunction(sympy.Integer(1), sympy.Integer(0), quantity)
+        # the branch current flows from the node into the source: Yin = -I
+        n, d = cancel_ratio(-den, num)
+        return NetworkFunction(n, d, quantity)
+    system = build_system(circuit, QUANTITIES[quantity])
     ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
     if progress:
         progress("converting to sympy")

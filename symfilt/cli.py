@@ -1,0 +1,206 @@
+"""The ``symfilt`` command line: thin click commands over the Python API.
+
+Results go to stdout, messages to stderr. Exit 0 done, 1 a check found a
+difference, 2 bad input or usage (one line ``error: <where>: <what>, <how to fix>``).
+"""
+
+from __future__ import annotations
+
+import sys
+from pathlib import Path
+
+import click
+
+from .errors import SymfiltError, UsageError
+
+FORMATS = ("text", "latex", "mathml", "json")
+QUANTITIES = ("transfer", "dc-gain", "cutoff", "w0", "q", "zin", "zout", "sensitivity")
+
+
+class _Group(click.Group):
+    """A click group whose every failure is one ``error:`` line and exit 2."""
+
+    def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
+        try:
+            rv = super().main(args=args, prog_name=prog_name or "symfilt", complete_var=complete_var,
+                              standalone_mode=False, **extra)
+        except click.exceptions.Exit as exc:
+            rv = exc.exit_code
+        except click.ClickException as exc:
+            where = exc.ctx.command_path if getattr(exc, "ctx", None) is not None else "symfilt"
+            message = " ".join(exc.format_message().split())
+            hint = f"run `{where} --help`"
+            click.echo(f"error: {where}: {message.rstrip('.')}, {hint}", err=True)
+            rv = 2
+        except click.exceptions.Abort:
+            click.echo("error: symfilt: interrupted, nothing was written", err=True)
+            rv = 130
+        except SymfiltError as exc:
+            click.echo(f"error: {exc}", err=True)
+            rv = 2
+        except KeyboardInterrupt:
+            click.echo("error: symfilt: interrupted, nothing was written", err=True)
+            rv = 130
+        except RecursionError:
+            click.echo("error: symfilt: the input is nested too deeply, simplify it", err=True)
+            rv = 2
+        except MemoryError:
+            click.echo("error: symfilt: out of memory, give parts values or split the circuit", err=True)
+            rv = 2
+        if standalone_mode:
+            sys.exit(rv or 0)
+        return rv
+
+
+def load(source: str):
+    """A circuit from a file path or ``@name`` of a built-in.
+
+    Examples
+    --------
+    >>> load("@rc-lowpass").title
+    'RC low-pass'
+    """
+    from . import catalogue
+    from .circuit_file import load_circuit
+
+    if source.startswith("@"):
+        return catalogue.build(source)
+    return load_circuit(source)
+
+
+def _emit(text: str) -> None:
+    """Write the whole result at once, so an error never leaves half an answer."""
+    sys.stdout.write(text)
+    sys.stdout.flush()
+
+
+def _percent(text: str, where: str) -> float:
+    t = text.strip()
+    try:
+        value = float(t[:-1]) / 100 if t.endswith("%") else float(t)
+    except ValueError:
+        raise UsageError(where, f"{text!r} is not a tolerance", "write it as 2% or 0.02") from None
+    if not 0 < value < 1:
+        raise UsageError(where, f"{text!r} is outside 0..100%", "write a tolerance such as 2%")
+    return value
+
+
+def _progress():
+    from .elimination import DelayedProgress
+
+    return DelayedProgress(lambda msg: click.echo(f"symfilt: {msg}", err=True))
+
+
+@click.group(cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
+@click.version_option(package_name="symfilt", prog_name="symfilt")
+def cli():
+    """Exact symbolic derivation of filter and amplifier stages, loaded and ideal."""
+
+
+@cli.command()
+@click.argument("circuit")
+@click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True)
+@click.option("--quantity", type=click.Choice(QUANTITIES), help="Print only this quantity.")
+@click.option("--substitute", is_flag=True, help="Put the parts' values into the formulas.")
+@click.option("--load-limit", "load_limit", metavar="TOL",
+              help="Report the smallest R_L and largest R_s keeping the cutoff within TOL (e.g. 2%) of ideal.")
+@click.option("--opamp-model", type=click.Choice(["ideal", "gain", "single-pole"]),
+              help="Switch every op-amp to this model.")
+@click.option("--max-terms", type=click.IntRange(min=10), default=None,
+              help="Size budget of the elimination (terms per polynomial).")
+def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_terms):
+    """Derive H(s), gains, w0, Q, cutoff, Zin, Zout and sensitivities of CIRCUIT (a file or @name)."""
+    from .analysis import analyse, load_limits, substitute as put_values
+    from .elimination import DEFAULT_MAX_TERMS
+    from .structure import structure_warnings
+
+    c = load(circuit)
+    if opamp_model:
+        c = c.with_opamp_model(opamp_model)
+    for w in structure_warnings(c):
+        click.echo(f"warning: {w}", err=True)
+    tol = _percent(load_limit, "--load-limit") if load_limit else None
+    want_sens = quantity in (None, "sensitivity")
+    a = analyse(c, sensitivity=want_sens, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=_progress())
+    limits = load_limits(a, tol) if tol is not None else None
+    shown = put_values(a) if substitute else a
+    if fmt == "json":
+        from .export import json as jx
+
+        extra = {}
+        if limits is not None:
+            extra["load_limit"] = [{"fixture": x.fixture, "bound": x.bound, "tolerance": x.tolerance,
+                                    "value": x.value, "exact": None if x.exact is None else str(x.exact),
+                                    "note": x.note or None} for x in limits]
+        data = jx.analysis_dict(shown, extra)
+        if quantity:
+            data = _select_json(data, quantity)
+        _emit(jx.dumps(data) + "\n")
+    elif fmt == "latex":
+        from .export import latex
+
+        _emit(latex.render(shown, quantity))
+    elif fmt == "mathml":
+        from .export import mathml
+
+        _emit(mathml.render(shown, quantity))
+    else:
+        from .export import text
+
+        _emit(text.render(shown, quantity, limits))
+
+
+def _select_json(data: dict, quantity: str) -> dict:
+    key = {"transfer": "transfer", "dc-gain": "dc_gain", "cutoff": "cutoff", "w0": "w0", "q": "q",
+           "zin": "input_impedance", "zout": "output_impedance", "sensitivity": "sensitivity"}[quantity]
+    return {"title": data["title"], "quantity": quantity,
+            "loaded": data["loaded"][key], "ideal": data["ideal"][key], "symbols": data["symbols"]}
+
+
+@cli.command()
+@click.argument("name", required=False)
+@click.option("--write", "write", type=click.Path(dir_okay=False), help="Write the circuit as a circuit file.")
+def catalogue(name, write):
+    """List the built-in circuits, or show or write one of them."""
+    from . import catalogue as cat
+    from .circuit_file import circuit_to_text
+    from .outfile import write_text_atomic
+
+    if not name:
+        width = max(len(n) for n in cat.names())
+        _emit("".join(f"@{n:<{width}}  {cat.CATALOGUE[n].summary}\n" for n in cat.names()))
+        return
+    c = cat.build(name)
+    text = circuit_to_text(c)
+    if write:
+        write_text_atomic(write, text)
+        click.echo(f"wrote {write}", err=True)
+    else:
+        _emit(text)
+
+
+@cli.command()
+def demo():
+    """Run the built-in scenario: a sensor into an ADC, passive versus buffered."""
+    from . import demo as scenario
+    from .analysis import analyse
+    from .export.text import render_demo
+
+    results = [analyse(c, sensitivity=False) for c in scenario.stages()]
+    _emit(render_demo(results))
+
+
+def main(argv=None) -> int:
+    """Console entry point.
+
+    Examples
+    --------
+    >>> main(["catalogue"])  # doctest: +ELLIPSIS
+    @rc-lowpass ...
+    0
+    """
+    return cli.main(args=argv, prog_name="symfilt", standalone_mode=False) or 0
+
+
+if __name__ == "__main__":  # pragma: no cover
+    sys.exit(cli.main(prog_name="symfilt"))

@@ -1,0 +1,179 @@
+"""Shared pieces of the exporters: symbol display names, parallel combinations, labels.
+
+Nothing here changes a result; it only decides how an expression is written.
+"""
+
+from __future__ import annotations
+
+from itertools import combinations
+
+import sympy
+
+GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "kappa", "lambda", "mu",
+         "nu", "xi", "rho", "sigma", "tau", "phi", "chi", "psi", "omega"}
+
+#: Display labels of the quantities, in report order.
+LABELS = {
+    "transfer": "H(s)",
+    "dc_gain": "DC gain H(0)",
+    "hf_gain": "HF gain H(∞)",
+    "w0": "w0",
+    "q": "Q",
+    "cutoff": "cutoff ωc",
+    "zin": "Zin",
+    "zout": "Zout",
+}
+
+
+def latex_name(name: str) -> str:
+    """The trade's LaTeX for a symbol name: R1 -> R_{1}, R_s -> R_{s}, A_U1 -> A_{U1}.
+
+    Examples
+    --------
+    >>> [latex_name(n) for n in ["R1", "R_s", "A_U1", "Rb", "GBW_U1", "beta", "E"]]
+    ['R_{1}', 'R_{s}', 'A_{U1}', 'R_{b}', '\\\\mathrm{GBW}_{U1}', '\\\\beta', 'E']
+    """
+    if name in GREEK:
+        return "\\" + name
+    if "_" in name:
+        head, tail = name.split("_", 1)
+        head_tex = latex_name(head) if len(head) == 1 or head in GREEK else f"\\mathrm{{{head}}}"
+        return f"{head_tex}_{{{tail}}}"
+    if len(name) > 1 and name[0].isalpha() and name[0].isupper():
+        return f"{name[0]}_{{{name[1:]}}}"
+    if len(name) > 1:
+        return f"\\mathrm{{{name}}}"
+    return name
+
+
+def symbol_names(expr) -> dict:
+    """symbol -> LaTeX name for every free symbol of ``expr`` (for sympy's latex printer).
+
+    Examples
+    --------
+    >>> symbol_names(sympy.Symbol("R1") + sympy.Symbol("s"))[sympy.Symbol("R1")]
+    'R_{1}'
+    """
+    if expr is None or not hasattr(expr, "free_symbols"):
+        return {}
+    return {x: latex_name(x.name) for x in expr.free_symbols}
+
+
+class Parallel(sympy.Function):
+    """Display-only parallel combination a || b = a b / (a + b)."""
+
+    nargs = 2
+
+    def _latex(self, printer):
+        a, b = (printer._print(x) for x in self.args)
+        wrap = lambda x, t: f"\\left({t}\\right)" if isinstance(x, sympy.Add) else t
+        return f"\\left({wrap(self.args[0], a)} \\parallel {wrap(self.args[1], b)}\\right)"
+
+    def _sympystr(self, printer):
+        a, b = (printer._print(x) for x in self.args)
+        wrap = lambda x, t: f"({t})" if isinstance(x, sympy.Add) else t
+        return f"({wrap(self.args[0], a)} || {wrap(self.args[1], b)})"
+
+    def _pretty(self, printer):
+        from sympy.printing.pretty.stringpict import prettyForm
+
+        a, b = (printer._print(x) for x in self.args)
+        if isinstance(self.args[0], sympy.Add):
+            a = prettyForm(*a.parens())
+        if isinstance(self.args[1], sympy.Add):
+            b = prettyForm(*b.parens())
+        out = prettyForm(*a.right(" ‖ "))
+        out = prettyForm(*out.right(b))
+        return prettyForm(*out.parens())
+
+
+def _split_parallel(num_factors: list, den_sum: sympy.Expr):
+    """Find A + B = den_sum with A * B dividing the numerator's product."""
+    terms = sympy.Add.make_args(den_sum)
+    if len(terms) < 2 or len(terms) > 10:
+        return None
+    num = sympy.Mul(*num_factors)
+    for k in range(1, len(terms) // 2 + 1):
+        for group in combinations(range(len(terms)), k):
+            a = sympy.Add(*[terms[i] for i in group])
+            b = sympy.Add(*[terms[i] for i in range(len(terms)) if i not in group])
+            rest = sympy.cancel(num / (a * b))
+            if sympy.fraction(rest)[1] == 1 and not (a.is_number or b.is_number):
+                return sympy.factor(a), sympy.factor(b), rest
+    return None
+
+
+def readable(expr):
+    """Rewrite ``a b / (a + b)`` as ``a || b`` where it appears, for display only.
+
+    The result prints with ``||`` (text) or ``\\parallel`` (LaTeX) and equals the
+    input; JSON never uses it.
+
+    Examples
+    --------
+    >>> R1, Rs, RL, C1 = sympy.symbols("R1 R_s R_L C1", positive=True)
+    >>> print(readable((R1 + Rs + RL) / (C1 * RL * (R1 + Rs))))
+    1/(C1*((R1 + R_s) || R_L))
+    >>> print(readable(RL / (R1 + Rs + RL)))
+    R_L/(R1 + R_L + R_s)
+    """
+    if expr is None or not isinstance(expr, sympy.Expr) or expr.is_number or sympy.count_ops(expr) > 150:
+        return expr
+    if expr.has(sympy.Symbol("s")):
+        return expr
+    num, den = sympy.fraction(sympy.factor(expr))
+    nf, df = list(sympy.Mul.make_args(num)), list(sympy.Mul.make_args(den))
+    for target, other, invert in ((df, nf, False), (nf, df, True)):
+        for f in target:
+            if isinstance(f, sympy.Add):
+                found = _split_parallel(other, f)
+                if found:
+                    a, b, rest = found
+                    if isinstance(b, sympy.Add) and not isinstance(a, sympy.Add):
+                        a, b = b, a
+                    others = sympy.Mul(*[g for g in target if g is not f])
+                    if not invert:  # expr = rest * (a||b) / others
+                        return rest * Parallel(a, b) / others
+                    return others / (rest * Parallel(a, b))
+    return expr
+
+
+def transfer_parts(h, *, parallel: bool = True):
+    """H(s) = K * N(s) / D(s), with N and D starting at 1: returns (K, N, D) for printing.
+
+    N and D are unevaluated sums in descending powers of s; print them with
+    ``order="none"`` to keep that order.
+
+    Parameters
+    ----------
+    h : NetworkFunction
+    parallel : bool
+        Write parallel combinations as ``a || b`` inside the coefficients.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.network import derive
+    >>> k, n, d = transfer_parts(derive(catalogue.build("rc-lowpass")))
+    >>> print(k, "|", n, "|", sympy.sstr(d, order="none"))
+    R_L/(R1 + R_L + R_s) | 1 | C1*((R1 + R_s) || R_L)*s + 1
+    """
+    s = sympy.Symbol("s")
+    k, ncs, dcs = h.gain_form()
+    fix = readable if parallel else (lambda e: e)
+
+    def poly(cs):
+        terms = []
+        for i, c in enumerate(cs):
+            if c == 0:
+                continue
+            power = sympy.Integer(1) if i == 0 else (s if i == 1 else sympy.Pow(s, i, evaluate=False))
+            c = fix(c)
+            if i and c != 1:
+                factors = c.args if isinstance(c, sympy.Mul) else (c,)
+                terms.append(sympy.Mul(*factors, power, evaluate=False))
+            else:
+                terms.append(c if i == 0 else power)
+        return sympy.Add(*terms[::-1], evaluate=False) if len(terms) > 1 else terms[0]
+
+    return fix(k), poly(ncs), poly(dcs)

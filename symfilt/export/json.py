@@ -1,0 +1,160 @@
+"""JSON per the DESIGN.md contract.
+
+Expressions are sympy ``str()`` text; ``sympy.sympify(text, locals=symbols)`` reads
+them back, with ``symbols`` built from the ``"symbols"`` table (:func:`read_symbols`).
+"""
+
+from __future__ import annotations
+
+import json as _json
+import math
+
+import sympy
+
+from ..analysis import Analysis, StageResult
+
+
+def _s(e):
+    if e is None:
+        return None
+    return str(e)
+
+
+def _num(x):
+    if x is None:
+        return None
+    if isinstance(x, float) and not math.isfinite(x):
+        return None
+    return x
+
+
+def transfer_text(h) -> str:
+    """H(s) as sympy-readable text ``(K)*(N)/(D)`` with N and D starting at 1.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.network import derive
+    >>> transfer_text(derive(catalogue.build("rc-lowpass")))
+    '(R_L/(R1 + R_L + R_s))*1/(C1*R_L*(R1 + R_s)*s/(R1 + R_L + R_s) + 1)'
+    """
+    from .common import transfer_parts
+
+    if h.infinite:
+        return "oo"
+    k, n, d = transfer_parts(h, parallel=False)
+    p = lambda e: sympy.sstr(e, order="none")
+    body = p(n) if n == 1 else f"({p(n)})"
+    if d != 1:
+        body += f"/({p(d)})"
+    return body if k == 1 else f"({p(k)})*{body}"
+
+
+def stage_dict(st: StageResult) -> dict:
+    """One view (loaded or ideal) as a JSON-ready dict.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> d = stage_dict(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal)
+    >>> d["transfer"], d["kind"], d["cutoff"]
+    ('1/(C1*R1*s + 1)', 'lowpass', '1/(C1*R1)')
+    """
+    num, den = st.transfer.normalized()
+    dc, hf = st.transfer.dc_gain(), st.transfer.hf_gain()
+    out = {
+        "transfer": transfer_text(st.transfer),
+        "numerator": _s(num),
+        "denominator": _s(den),
+        "order": int(st.transfer.order()),
+        "kind": st.form.kind,
+        "dc_gain": _s(dc),
+        "hf_gain": _s(hf),
+        "gain_k": _s(st.form.gain),
+        "w0": _s(st.form.w0),
+        "q": _s(st.form.q),
+        "tau": _s(st.form.tau),
+        "cutoff": _s(st.cutoff.value),
+        "cutoff_note": st.cutoff.reason or None,
+        "band_edges": None if st.cutoff.edges is None else [_s(e) for e in st.cutoff.edges],
+        "bandwidth": _s(st.cutoff.bandwidth),
+        "input_impedance": _s(st.zin.normalized_expr()),
+        "output_impedance": _s(st.zout.normalized_expr()),
+        "sensitivity": {q: (None if t is None else {k: _s(v) for k, v in t.items()})
+                        for q, t in st.sensitivity.items()} if st.sensitivity else
+        {"cutoff": None, "w0": None, "q": None, "dc_gain": None},
+    }
+    return out
+
+
+def analysis_dict(a: Analysis, extra: dict | None = None) -> dict:
+    """The whole ``derive`` result as a JSON-ready dict (DESIGN.md contract).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> d = analysis_dict(analyse(catalogue.build("rc-lowpass")))
+    >>> sorted(d)
+    ['ideal', 'input', 'loaded', 'numeric', 'output', 'ratios', 'sum_rules', 'symbols', 'title']
+    >>> d["symbols"]["R1"]
+    {'role': 'part', 'value': '4700', 'kind': 'resistor'}
+    """
+    c = a.circuit
+    symbols = {name: {"role": info["role"], "value": None if info["value"] is None else str(info["value"]),
+                      **({"kind": info["kind"]} if "kind" in info else {})}
+               for name, info in c.symbols().items()}
+    numeric = {k: {kk: (_num(vv) if not isinstance(vv, dict) else vv) for kk, vv in v.items()}
+               for k, v in a.numeric.items()}
+    out = {
+        "title": c.title,
+        "input": c.input,
+        "output": c.output,
+        "symbols": symbols,
+        "loaded": stage_dict(a.loaded),
+        "ideal": stage_dict(a.ideal),
+        "numeric": numeric,
+        "ratios": {key: _num(a.ratio(key)) for key in ("cutoff_hz", "f0_hz", "q", "dc_gain")
+                   if a.ratio(key) is not None},
+        "sum_rules": {"checked": [{"quantity": r.quantity, "group": r.group, "expected": r.expected,
+                                   "sum": _s(r.total), "holds": r.holds} for r in a.rules],
+                      "note": a.rules_note or None},
+    }
+    if extra:
+        out.update(extra)
+    return out
+
+
+def dumps(data) -> str:
+    """JSON text, two-space indented, finite numbers only.
+
+    Examples
+    --------
+    >>> dumps({"a": 1})
+    '{\\n  "a": 1\\n}'
+    """
+    return _json.dumps(data, indent=2, ensure_ascii=False, allow_nan=False)
+
+
+def read_symbols(data: dict) -> dict:
+    """Name -> sympy Symbol with the right assumptions, from a JSON result's ``symbols`` table.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> d = analysis_dict(analyse(catalogue.build("rc-lowpass"), sensitivity=False))
+    >>> syms = read_symbols(d)
+    >>> sympy.sympify(d["ideal"]["transfer"], locals=syms) == analyse(catalogue.build("rc-lowpass")).ideal.transfer.as_expr()
+    True
+    """
+    out = {}
+    for name, info in data["symbols"].items():
+        if info["role"] == "laplace":
+            out[name] = sympy.Symbol(name)
+        elif info.get("kind") in ("vcvs", "vccs", "ccvs", "cccs"):
+            out[name] = sympy.Symbol(name, real=True)
+        else:
+            out[name] = sympy.Symbol(name, positive=True)
+    return out

@@ -1,0 +1,152 @@
+"""LaTeX of an analysis: the trade's subscripts (R_{1}, R_{s}, R_{L}), ``\\parallel`` for
+parallel combinations, one ``align*`` environment per view."""
+
+from __future__ import annotations
+
+import sympy
+
+from ..analysis import Analysis, StageResult
+from .common import readable, symbol_names, transfer_parts
+
+
+def transfer_tex(h) -> str:
+    """LaTeX of H(s) as ``K \\cdot \\frac{N(s)}{D(s)}``.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.network import derive
+    >>> print(transfer_tex(derive(catalogue.build("rc-lowpass")).ideal()))
+    \\frac{1}{C_{1} R_{1} s + 1}
+    """
+    if h.infinite:
+        return "\\infty"
+    names = symbol_names(h.as_expr())
+    k, n, d = transfer_parts(h)
+    p = lambda e: sympy.latex(e, symbol_names=names, order="none")
+    body = p(n) if d == 1 else "\\frac{" + p(n) + "}{" + p(d) + "}"
+    if k == 1:
+        return body
+    if k == -1:
+        return "-" + body
+    return p(k) + " \\cdot " + body
+
+
+def tex(expr, *, keep_parallel: bool = True) -> str:
+    """LaTeX of one expression with symfilt's symbol names.
+
+    Examples
+    --------
+    >>> R1, C1 = sympy.symbols("R1 C1", positive=True)
+    >>> tex(1 / (R1 * C1))
+    '\\\\frac{1}{C_{1} R_{1}}'
+    >>> tex(None)
+    '\\\\text{---}'
+    """
+    if expr is None:
+        return "\\text{---}"
+    e = readable(expr) if keep_parallel else expr
+    return sympy.latex(e, symbol_names=symbol_names(expr), ln_notation=False)
+
+
+_LABELS = {"transfer": "H(s)", "gain": "K", "w0": "\\omega_{0}", "q": "Q", "tau": "\\tau",
+           "cutoff": "\\omega_{c}", "dc_gain": "H(0)", "hf_gain": "H(\\infty)", "zin": "Z_{in}",
+           "zout": "Z_{out}", "bandwidth": "B"}
+
+
+def stage_equations(st: StageResult) -> list[tuple[str, str]]:
+    """(LaTeX left-hand side, right-hand side) pairs for one view, in report order.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> dict(stage_equations(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal))["\\\\omega_{c}"]
+    '\\\\frac{1}{C_{1} R_{1}}'
+    """
+    f = st.form
+    eqs = [(_LABELS["transfer"], transfer_tex(st.transfer))]
+    cut = st.cutoff.value
+    if f.order == 2 and f.kind in ("lowpass", "highpass") and cut is not None:
+        root = "\\sqrt{x + \\sqrt{x^{2} + 1}}"
+        rhs = "\\omega_{0} " + root if f.kind == "lowpass" else "\\frac{\\omega_{0}}{" + root + "}"
+        eqs.append(("\\omega_{c}", rhs + ", \\quad x = 1 - \\frac{1}{2 Q^{2}}"))
+        cut = None
+    for key, e in (("gain", f.gain), ("w0", f.w0), ("q", f.q), ("tau", f.tau), ("cutoff", cut),
+                   ("bandwidth", st.cutoff.bandwidth), ("dc_gain", st.transfer.dc_gain()),
+                   ("hf_gain", st.transfer.hf_gain()), ("zin", st.zin.normalized_expr()),
+                   ("zout", st.zout.normalized_expr())):
+        if e is not None:
+            eqs.append((_LABELS[key], tex(e)))
+    return eqs
+
+
+def quantity_latex(st: StageResult, quantity: str) -> str | None:
+    """LaTeX of one named quantity (``transfer``, ``dc-gain``, ``cutoff``, ``w0``, ``q``, ``zin``, ``zout``).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> quantity_latex(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal, "dc-gain")
+    '1'
+    """
+    key = quantity.replace("-", "_")
+    if key == "transfer":
+        return transfer_tex(st.transfer)
+    if key in ("zin", "zout"):
+        return tex(getattr(st, key).normalized_expr())
+    e = st.quantities().get(key)
+    return None if e is None else tex(e)
+
+
+def sensitivity_rows(st: StageResult) -> list[tuple[str, str]]:
+    """(LaTeX lhs, rhs) for every sensitivity of a view.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> sensitivity_rows(analyse(catalogue.build("rc-lowpass")).ideal)[0]
+    ('S_{R_{1}}^{\\\\omega_{c}}', '-1')
+    """
+    rows = []
+    names = {"cutoff": "\\omega_{c}", "w0": "\\omega_{0}", "q": "Q", "dc_gain": "H(0)"}
+    for q, table in st.sensitivity.items():
+        if not table:
+            continue
+        for name, e in table.items():
+            from .common import latex_name
+
+            rows.append((f"S_{{{latex_name(name)}}}^{{{names[q]}}}", tex(e, keep_parallel=False)))
+    return rows
+
+
+def render(a: Analysis, quantity: str | None = None) -> str:
+    """LaTeX for ``symfilt derive --format latex``: align* environments, loaded then ideal.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> out = render(analyse(catalogue.build("rc-lowpass"), sensitivity=False))
+    >>> out.count("\\\\begin{align*}") == out.count("\\\\end{align*}") == 2
+    True
+    """
+    parts = []
+    for key, st in (("loaded", a.loaded), ("ideal", a.ideal)):
+        if quantity and quantity != "sensitivity":
+            body = quantity_latex(st, quantity)
+            lhs = _LABELS.get(quantity.replace("-", "_"), quantity)
+            rows = [(lhs, body)]
+        elif quantity == "sensitivity":
+            rows = sensitivity_rows(st)
+        else:
+            rows = stage_equations(st)
+        parts.append("\\begin{align*}")
+        label = "loaded (as connected)" if key == "loaded" else "ideal (the stage alone)"
+        parts.append(f"  \\intertext{{{label}}}")
+        lines = [f"  {lhs} &= {rhs}" for lhs, rhs in rows if rhs is not None]
+        parts.append(" \\\\\n".join(lines))
+        parts.append("\\end{align*}")
+    return "\n".join(parts) + "\n"

@@ -1,0 +1,52 @@
+"""MathML (via latex2mathml) of an analysis: one well-formed XHTML fragment."""
+
+from __future__ import annotations
+
+from html import escape
+
+from ..analysis import Analysis
+from . import latex
+
+
+def to_mathml(tex_text: str, display: str = "block") -> str:
+    """Convert one LaTeX expression to a ``<math>`` element.
+
+    Examples
+    --------
+    >>> to_mathml("R_{1}").startswith('<math xmlns="http://www.w3.org/1998/Math/MathML" display="block">')
+    True
+    """
+    import latex2mathml.converter
+
+    return latex2mathml.converter.convert(tex_text, display=display)
+
+
+def render(a: Analysis, quantity: str | None = None) -> str:
+    """A ``<div>`` holding each equation as MathML, loaded then ideal (parses as XML).
+
+    Examples
+    --------
+    >>> import xml.dom.minidom
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> doc = render(analyse(catalogue.build("rc-lowpass"), sensitivity=False))
+    >>> xml.dom.minidom.parseString(doc).documentElement.tagName
+    'div'
+    """
+    out = ['<div xmlns="http://www.w3.org/1999/xhtml" class="symfilt-derivation">']
+    out.append(f"<h2>{escape(a.circuit.title or 'circuit')}</h2>")
+    for key, st in (("loaded", a.loaded), ("ideal", a.ideal)):
+        out.append(f'<section class="{key}"><h3>{key}</h3>')
+        if quantity == "sensitivity":
+            rows = latex.sensitivity_rows(st)
+        elif quantity:
+            rows = [(latex._LABELS.get(quantity.replace("-", "_"), quantity), latex.quantity_latex(st, quantity))]
+        else:
+            rows = latex.stage_equations(st)
+        for lhs, rhs in rows:
+            if rhs is None:
+                continue
+            out.append(to_mathml(f"{lhs} = {rhs}"))
+        out.append("</section>")
+    out.append("</div>")
+    return "\n".join(out) + "\n"

@@ -1,0 +1,327 @@
+"""Plain-text (unicode) report of an analysis, for the terminal."""
+
+from __future__ import annotations
+
+import sympy
+
+from ..analysis import Analysis, StageResult
+from ..values import format_value
+from .common import readable, transfer_parts
+
+QUANTITY_KEYS = ("transfer", "dc-gain", "cutoff", "w0", "q", "zin", "zout", "sensitivity")
+_UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
+
+
+def one_line(expr) -> str:
+    """An expression on one line: ``·`` for products, ``^`` for powers, ``||`` for parallel.
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R1 C1", positive=True)
+    >>> one_line(1 / (R * C))
+    '1/(C1·R1)'
+    >>> one_line(None)
+    '—'
+    """
+    if expr is None:
+        return "—"
+    text = sympy.sstr(readable(expr))
+    return text.replace("**", "^").replace("*", "·").replace("oo", "∞")
+
+
+def pretty(expr) -> str:
+    """A 2-D unicode rendering of an expression.
+
+    Examples
+    --------
+    >>> print(pretty(1 / (1 + sympy.Symbol("s"))))
+      1  
+    ─────
+    s + 1
+    """
+    return sympy.pretty(expr, use_unicode=True, wrap_line=False)
+
+
+def transfer_pretty(h) -> str:
+    """H(s) drawn as ``K ⋅ N(s)/D(s)`` in 2-D unicode.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.network import derive
+    >>> print(transfer_pretty(derive(catalogue.build("inverting-lowpass")).ideal()))
+     -R₂       1     
+    ─────⋅──────────
+     R₁   C₁⋅R₂⋅s + 1
+    """
+    from sympy.printing.pretty.pretty import PrettyPrinter
+    from sympy.printing.pretty.stringpict import prettyForm
+
+    if h.infinite:
+        return "∞"
+    k, n, d = transfer_parts(h)
+    pp = PrettyPrinter({"use_unicode": True, "order": "none", "wrap_line": False})
+    if d == 1:
+        ratio = n
+    elif n == 1:
+        ratio = sympy.Pow(d, -1, evaluate=False)
+    else:
+        ratio = sympy.Mul(n, sympy.Pow(d, -1, evaluate=False), evaluate=False)
+    form = pp._print(ratio)
+    if k != 1:
+        form = prettyForm(*pp._print(k).right("⋅", form))
+    return form.render(wrap_line=False)
+
+
+def transfer_line(h) -> str:
+    """H(s) on one line as ``K · (N)/(D)``.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.network import derive
+    >>> transfer_line(derive(catalogue.build("rc-lowpass")))
+    'R_L/(R1 + R_L + R_s) · 1/(C1·((R1 + R_s) || R_L)·s + 1)'
+    """
+    if h.infinite:
+        return "∞"
+    k, n, d = transfer_parts(h)
+    fmt = lambda e: sympy.sstr(e, order="none").replace("**", "^").replace("*", "·")
+    body = fmt(n) if d == 1 else (f"({fmt(n)})" if isinstance(n, sympy.Add) else fmt(n)) + f"/({fmt(d)})"
+    return body if k == 1 else f"{fmt(k)} · {body}"
+
+
+def _indent(text: str, pad: str = "    ") -> str:
+    return "\n".join(pad + line for line in text.splitlines())
+
+
+def _fmt_num(x, unit: str = "") -> str:
+    if x is None:
+        return "undefined at these values"
+    return format_value(x, unit)
+
+
+def _symbol_rows(a: Analysis) -> list[str]:
+    rows = []
+    for name, info in a.circuit.symbols().items():
+        if info["role"] == "laplace":
+            continue
+        unit = {"source": "Ω", "load": "F" if name == "C_L" else "Ω"}.get(info["role"], "")
+        if info["role"] == "part":
+            unit = _UNITS.get(info.get("kind", ""), "")
+        if name.startswith("GBW_"):
+            unit = "Hz"
+        value = "symbolic" if info["value"] is None else format_value(info["value"], unit)
+        rows.append(f"  {name:<10} {info['role']:<7} {value}")
+    return rows
+
+
+def _numbers(a: Analysis) -> list[str]:
+    lo, hi = a.numeric.get("loaded", {}), a.numeric.get("ideal", {})
+    rows = [f"  {'':<14}{'loaded':>16}{'ideal':>16}{'loaded/ideal':>15}"]
+
+    def add(label, key, unit="", raw=False):
+        if key not in lo and key not in hi:
+            return
+        f = (lambda v: "—" if v is None else f"{v:.6g}") if raw else (lambda v: "—" if v is None else format_value(v, unit))
+        ratio = a.ratio(key)
+        rows.append(f"  {label:<14}{f(lo.get(key)):>16}{f(hi.get(key)):>16}{'' if ratio is None else f'{ratio:.4f}':>15}")
+
+    add("cutoff", "cutoff_hz", "Hz")
+    add("low edge", "low_edge_hz", "Hz")
+    add("high edge", "high_edge_hz", "Hz")
+    add("f0", "f0_hz", "Hz")
+    add("Q", "q", raw=True)
+    add("DC gain", "dc_gain", raw=True)
+    if "dc_gain_db" in lo or "dc_gain_db" in hi:
+        f = lambda v: "—" if v is None else f"{v:.3f} dB"
+        rows.append(f"  {'DC gain (dB)':<14}{f(lo.get('dc_gain_db')):>16}{f(hi.get('dc_gain_db')):>16}")
+    return rows if len(rows) > 1 else []
+
+
+def _sens_table(a: Analysis, st: StageResult, key: str) -> list[str]:
+    if not st.sensitivity:
+        return []
+    numeric = a.numeric.get(key, {}).get("sensitivity", {})
+    quantities = [q for q in ("cutoff", "w0", "q", "dc_gain") if st.sensitivity.get(q)]
+    if not quantities:
+        return ["  no closed-form quantity to take sensitivities of"]
+    names = list(st.sensitivity[quantities[0]])
+    out = []
+    if all(q in numeric for q in quantities):
+        out.append(f"  {'S_x^y':<10}" + "".join(f"{q:>12}" for q in quantities))
+        for n in names:
+            out.append(f"  {n:<10}" + "".join(f"{numeric[q][n]:>12.4f}" if numeric[q][n] is not None else f"{'—':>12}"
+                                               for q in quantities))
+    else:
+        for q in quantities:
+            out.append(f"  of {q}:")
+            for n in names:
+                out.append(f"    S_{n} = {one_line(st.sensitivity[q][n])}")
+    return out
+
+
+def _stage_formulas(st: StageResult) -> list[str]:
+    f = st.form
+    rows = [f"  kind: {f.kind}, order {f.order}"]
+    cut = st.cutoff.value
+    if f.order == 2 and f.kind in ("lowpass", "highpass") and cut is not None:
+        op = "·" if f.kind == "lowpass" else "/"
+        rows.append(f"  {'cutoff ωc':<10} = w0{op}√(x + √(x² + 1)), x = 1 − 1/(2·Q²)")
+        cut = None
+    items = [("K", f.gain), ("w0", f.w0), ("Q", f.q), ("tau", f.tau), ("cutoff ωc", cut),
+             ("DC gain", st.transfer.dc_gain()), ("HF gain", st.transfer.hf_gain()),
+             ("Zin", st.zin.normalized_expr()), ("Zout", st.zout.normalized_expr())]
+    for label, e in items:
+        if e is not None:
+            rows.append(f"  {label:<10} = {one_line(e)}")
+    if st.cutoff.edges is not None:
+        rows.append(f"  {'band edges':<10} = {one_line(st.cutoff.edges[0])}  …  {one_line(st.cutoff.edges[1])}")
+        rows.append(f"  {'bandwidth':<10} = {one_line(st.cutoff.bandwidth)}")
+    if st.cutoff.value is None and st.cutoff.reason:
+        rows.append(f"  cutoff: no closed form ({st.cutoff.reason})")
+    return rows
+
+
+def _fixtures_line(a: Analysis) -> str:
+    c = a.circuit
+    gone = []
+    if c.source.present:
+        gone.append("R_s → 0")
+    if c.load_resistance.present:
+        gone.append("R_L → ∞")
+    if c.load_capacitance.present:
+        gone.append("C_L → 0")
+    return ", ".join(gone) if gone else "no source or load fixtures: loaded and ideal are the same"
+
+
+def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
+    """The text report of ``symfilt derive``.
+
+    Parameters
+    ----------
+    a : Analysis
+    quantity : str, optional
+        Only this quantity (one of :data:`QUANTITY_KEYS`).
+    load_limits : sequence of LoadLimit, optional
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> print(render(analyse(catalogue.build("rc-lowpass")), "cutoff"))
+    cutoff ωc, loaded = (R1 + R_L + R_s)/(C1·R_L·(R1 + R_s))
+    cutoff ωc, ideal  = 1/(C1·R1)
+    cutoff (Hz), loaded = 2.088 kHz, ideal = 1.539 kHz
+    """
+    if quantity:
+        return _render_quantity(a, quantity)
+    c = a.circuit
+    out = [f"symfilt — {c.title or 'circuit'}", f"input {c.input} → output {c.output}; ideal means {_fixtures_line(a)}", "",
+           "Symbols"]
+    out += _symbol_rows(a)
+    for key, st in (("loaded", a.loaded), ("ideal", a.ideal)):
+        out += ["", f"Transfer function H(s) = V({c.output})/V(source), {key}"]
+        out.append(_indent(transfer_pretty(st.transfer)))
+        out += [""] + _stage_formulas(st)
+    rows = _numbers(a)
+    if rows:
+        out += ["", "Numbers at the given values"] + rows
+    for key, st in (("loaded", a.loaded), ("ideal", a.ideal)):
+        table = _sens_table(a, st, key)
+        if table:
+            out += ["", f"Sensitivity S_x^y = (x/y)·∂y/∂x, {key}"] + table
+    if a.rules:
+        out += ["", "Sum-rule self-check (Schaumann & Van Valkenburg, Design of Analog Filters; loaded)"]
+        for r in a.rules:
+            out.append(f"  Σ over {r.group} of S^{r.quantity} = {one_line(r.total)} (expected {r.expected}): "
+                       + ("holds" if r.holds else "DOES NOT HOLD"))
+    elif a.rules_note:
+        out += ["", a.rules_note]
+    if load_limits:
+        out += ["", "Load limits"] + [render_limit(x) for x in load_limits]
+    return "\n".join(out) + "\n"
+
+
+def render_limit(lim) -> str:
+    """One line for a load limit.
+
+    Examples
+    --------
+    >>> from symfilt.analysis import LoadLimit
+    >>> render_limit(LoadLimit("R_L", "min", 0.02, 235000.0, sympy.Symbol("R1") * 50, ""))
+    '  R_L ≥ 235 kΩ keeps the cutoff within 2% of ideal  (R_L ≥ 50·R1)'
+    """
+    if lim.value is None:
+        return f"  {lim.fixture}: {lim.note}"
+    unit = "F" if lim.fixture == "C_L" else "Ω"
+    op = "≥" if lim.bound == "min" else "≤"
+    text = f"  {lim.fixture} {op} {format_value(lim.value, unit)} keeps the cutoff within {lim.tolerance * 100:g}% of ideal"
+    if lim.exact is not None:
+        text += f"  ({lim.fixture} {op} {one_line(lim.exact)})"
+    if lim.note:
+        text += f"; {lim.note}"
+    return text
+
+
+def _render_quantity(a: Analysis, quantity: str) -> str:
+    key = quantity.replace("-", "_")
+    lines = []
+    if key == "sensitivity":
+        for k, st in (("loaded", a.loaded), ("ideal", a.ideal)):
+            lines += [f"Sensitivity, {k}"] + _sens_table(a, st, k)
+        return "\n".join(lines) + "\n"
+    label = {"transfer": "H(s)", "dc_gain": "DC gain", "cutoff": "cutoff ωc", "w0": "w0", "q": "Q",
+             "zin": "Zin", "zout": "Zout"}[key]
+    for k, st in (("loaded", a.loaded), ("ideal", a.ideal)):
+        e = st.quantities()[key]
+        if key == "transfer":
+            lines.append(f"{label}, {k:<6} = {transfer_line(st.transfer)}")
+            continue
+        if key in ("zin", "zout"):
+            e = getattr(st, key).normalized_expr()
+        lines.append(f"{label}, {k:<6} = {one_line(e)}")
+    hz = {"cutoff": "cutoff_hz", "w0": "f0_hz", "q": "q", "dc_gain": "dc_gain"}.get(key)
+    if hz:
+        lo, hi = a.numeric["loaded"].get(hz), a.numeric["ideal"].get(hz)
+        if lo is not None or hi is not None:
+            unit = "Hz" if hz.endswith("_hz") else ""
+            name = {"cutoff_hz": "cutoff (Hz)", "f0_hz": "f0 (Hz)"}.get(hz, label)
+            f = (lambda v: _fmt_num(v, unit)) if unit else (lambda v: "undefined" if v is None else f"{v:.6g}")
+            lines.append(f"{name}, loaded = {f(lo)}, ideal = {f(hi)}")
+    return "\n".join(lines) + "\n"
+
+
+def render_demo(results) -> str:
+    """The demo's short report: loaded versus ideal cutoff and DC gain for each stage.
+
+    Parameters
+    ----------
+    results : sequence of Analysis
+
+    Examples
+    --------
+    >>> from symfilt import demo
+    >>> from symfilt.analysis import analyse
+    >>> print(render_demo([analyse(demo.passive_stage(), sensitivity=False)]).splitlines()[0])
+    symfilt demo: a humidity probe (10 kΩ output resistance) into an ADC input (22 kΩ ‖ 100 pF)
+    """
+    c0 = results[0].circuit
+    head = (f"symfilt demo: a humidity probe ({format_value(c0.source.value, 'Ω')} output resistance) into an ADC input "
+            f"({format_value(c0.load_resistance.value, 'Ω')} ‖ {format_value(c0.load_capacitance.value, 'F')})")
+    out = [head, "", f"  {'stage':<34}{'cutoff ideal':>14}{'cutoff loaded':>15}{'shift':>9}{'DC gain ideal':>15}{'loaded':>9}"]
+    for a in results:
+        lo, hi = a.numeric["loaded"], a.numeric["ideal"]
+        shift = a.ratio("cutoff_hz")
+        name = a.circuit.title.split(", ")[-1]
+        out.append(f"  {name:<34}{_fmt_num(hi.get('cutoff_hz'), 'Hz'):>14}{_fmt_num(lo.get('cutoff_hz'), 'Hz'):>15}"
+                   f"{'' if shift is None else f'{(shift - 1) * 100:+.1f}%':>9}"
+                   f"{hi.get('dc_gain', 0):>15.4f}{lo.get('dc_gain', 0):>9.4f}")
+    out.append("")
+    for a in results:
+        name = a.circuit.title.split(", ")[-1]
+        out.append(f"  {name}: ωc loaded = {one_line(a.loaded.cutoff.value)}")
+    out += ["",
+            "  The passive stage's cutoff and gain depend on the probe and the ADC; the buffered one holds",
+            "  its response (within its op-amps' limits). Try: symfilt derive @rc-lowpass, symfilt catalogue."]
+    return "\n".join(out) + "\n"
