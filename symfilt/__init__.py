@@ -1,0 +1,59 @@
+"""symfilt: exact symbolic derivation of filter and amplifier stages, loaded and ideal.
+
+Examples
+--------
+>>> import symfilt
+>>> a = symfilt.analyse(symfilt.catalogue.build("rc-lowpass"))
+>>> a.loaded.cutoff.value
+(R1 + R_L + R_s)/(C1*R_L*(R1 + R_s))
+"""
+
+from . import catalogue
+from .analysis import Analysis, LoadLimit, StandardForm, analyse, load_limits, standard_form, substitute
+from .circuit import Circuit, Fixture, Part
+from .circuit_file import circuit_to_text, load_circuit, parse_circuit_text
+from .errors import (
+    CircuitError,
+    CircuitFileError,
+    ClaimError,
+    OutputError,
+    SingularCircuitError,
+    SizeLimitError,
+    SymfiltError,
+    UsageError,
+    ValueParseError,
+)
+from .network import NetworkFunction, derive
+from .values import format_value, parse_value
+
+__version__ = "0.1.0"
+
+__all__ = [
+    "Analysis",
+    "Circuit",
+    "CircuitError",
+    "CircuitFileError",
+    "ClaimError",
+    "Fixture",
+    "LoadLimit",
+    "NetworkFunction",
+    "OutputError",
+    "Part",
+    "SingularCircuitError",
+    "SizeLimitError",
+    "StandardForm",
+    "SymfiltError",
+    "UsageError",
+    "ValueParseError",
+    "analyse",
+    "catalogue",
+    "circuit_to_text",
+    "derive",
+    "format_value",
+    "load_circuit",
+    "load_limits",
+    "parse_circuit_text",
+    "parse_value",
+    "standard_form",
+    "substitute",
+]
