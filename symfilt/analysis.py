@@ -60,6 +60,11 @@ class StandardForm:
         Quality factor (second order only).
     tau : sympy.Expr or None
         Time constant (first order only).
+
+    Examples
+    --------
+    >>> StandardForm(1, "lowpass", 1, sympy.Integer(1000)).w0
+    1000
     """
 
     order: int
@@ -157,6 +162,11 @@ class Cutoff:
         Band-pass: upper minus lower edge (w0/Q).
     reason : str
         Why there is no closed form (empty when there is one).
+
+    Examples
+    --------
+    >>> Cutoff(None, reason="an all-pass has no cutoff").value is None
+    True
     """
 
     value: sympy.Expr | None
@@ -365,6 +375,13 @@ class Analysis:
         Sum-rule self-checks on the loaded w0 and Q sensitivities (empty when they do not apply).
     rules_note : str
         Why the sum rules do not apply, when they do not.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> a = analyse(catalogue.build("rc-lowpass"), sensitivity=False)
+    >>> round(a.numeric["loaded"]["cutoff_hz"], 2), round(a.numeric["ideal"]["cutoff_hz"], 2)
+    (2088.4, 1539.22)
     """
 
     circuit: Circuit
@@ -560,6 +577,11 @@ class LoadLimit:
     exact : sympy.Expr or None
         Closed form of the bound, where one exists (first order).
     note : str
+
+    Examples
+    --------
+    >>> LoadLimit("R_L", "min", 0.02, 235000.0, None).bound
+    'min'
     """
 
     fixture: str

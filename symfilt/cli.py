@@ -47,6 +47,10 @@ class _Group(click.Group):
         except MemoryError:
             click.echo("error: symfilt: out of memory, give parts values or split the circuit", err=True)
             rv = 2
+        except Exception as exc:  # noqa: BLE001 - the last guard: a bug must still end in one line
+            click.echo(f"error: symfilt: internal error ({type(exc).__name__}: {exc}), "
+                       "please report it with the circuit file", err=True)
+            rv = 2
         if standalone_mode:
             sys.exit(rv or 0)
         return rv
@@ -91,7 +95,7 @@ def _progress():
     return DelayedProgress(lambda msg: click.echo(f"symfilt: {msg}", err=True))
 
 
-@click.group(cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
+@click.group(name="symfilt", cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="symfilt", prog_name="symfilt")
 def cli():
     """Exact symbolic derivation of filter and amplifier stages, loaded and ideal."""

@@ -1,0 +1,129 @@
+"""The command line as a user meets it: every format, errors as one line and exit 2."""
+
+from __future__ import annotations
+
+import json
+import xml.dom.minidom
+
+import pytest
+import sympy
+
+from symfilt import catalogue
+from symfilt.circuit_file import load_circuit
+
+FORMATS = ["text", "latex", "mathml", "json"]
+
+
+@pytest.mark.parametrize("fmt", FORMATS)
+def test_derive_every_format(run_cli, fmt):
+    code, out, err = run_cli("derive", "@rc-lowpass", "--format", fmt)
+    assert code == 0, err
+    assert out.strip()
+    if fmt == "json":
+        data = json.loads(out)
+        assert data["title"] == "RC low-pass"
+    if fmt == "mathml":
+        assert xml.dom.minidom.parseString(out).documentElement.tagName == "div"
+    if fmt == "latex":
+        assert out.count("\\begin{align*}") == out.count("\\end{align*}") == 2
+
+
+def test_sallen_key_mathml_is_well_formed(run_cli):
+    code, out, _ = run_cli("derive", "@sallen-key-lowpass", "--format", "mathml")
+    assert code == 0
+    doc = xml.dom.minidom.parseString(out)
+    assert len(doc.getElementsByTagName("math")) >= 10
+
+
+def test_json_transfer_reads_back_and_keeps_fixtures_symbolic(run_cli):
+    from symfilt.export.json import read_symbols
+
+    code, out, _ = run_cli("derive", "@rc-lowpass", "--format", "json")
+    data = json.loads(out)
+    syms = read_symbols(data)
+    h = sympy.sympify(data["loaded"]["transfer"], locals=syms)
+    R1, C1, Rs, RL, s = (syms[n] for n in ("R1", "C1", "R_s", "R_L", "s"))
+    # Thevenin's theorem (common practice): H = R_L / (R_s + R1 + R_L + s C1 R_L (R_s + R1))
+    assert sympy.cancel(h - RL / (Rs + R1 + RL + s * C1 * RL * (Rs + R1))) == 0
+    assert data["symbols"]["R_s"] == {"role": "source", "value": "600"}
+    assert data["symbols"]["s"]["role"] == "laplace"
+
+
+def test_substitute_puts_numbers_in(run_cli):
+    code, out, _ = run_cli("derive", "@rc-lowpass", "--format", "json", "--substitute", "--quantity", "cutoff")
+    data = json.loads(out)
+    # 1/(R1 C1) with R1 = 4k7, C1 = 22n: 1/(4700 * 22e-9) rad/s, exactly 5000000/517
+    assert sympy.sympify(data["ideal"]) == sympy.Rational(5000000, 517)
+
+
+def test_quantity_prints_only_that(run_cli):
+    code, out, _ = run_cli("derive", "@rc-lowpass", "--quantity", "dc-gain")
+    assert code == 0
+    assert "DC gain, loaded" in out and "Zin" not in out
+
+
+def test_catalogue_lists_and_writes(run_cli, tmp_path):
+    code, out, _ = run_cli("catalogue")
+    assert code == 0
+    for name in catalogue.names():
+        assert f"@{name}" in out
+    target = tmp_path / "sk.toml"
+    code, _, err = run_cli("catalogue", "sallen-key-lowpass", "--write", str(target))
+    assert code == 0, err
+    assert load_circuit(target) == catalogue.build("sallen-key-lowpass")
+
+
+def test_file_and_builtin_give_the_same_result(run_cli, tmp_path):
+    target = tmp_path / "mfb.toml"
+    run_cli("catalogue", "mfb-lowpass", "--write", str(target))
+    a = json.loads(run_cli("derive", str(target), "--format", "json")[1])
+    b = json.loads(run_cli("derive", "@mfb-lowpass", "--format", "json")[1])
+    assert a["loaded"] == b["loaded"] and a["numeric"] == b["numeric"]
+
+
+def test_demo_shows_passive_and_buffered(run_cli):
+    code, out, _ = run_cli("demo")
+    assert code == 0
+    assert "passive RC" in out and "buffered RC" in out
+    assert "+0.0%" in out  # the buffered stage holds its cutoff
+
+
+@pytest.mark.parametrize("args, start", [
+    (["derive", "missing.toml"], "error: missing.toml: no such file"),
+    (["derive", "@no-such-circuit"], "error: @no-such-circuit: no built-in circuit of that name"),
+    (["derive", "@rc-lowpass", "--format", "pdf"], "error: symfilt derive: "),
+    (["derive", "@rc-lowpass", "--load-limit", "abc"], "error: --load-limit: 'abc' is not a tolerance"),
+    (["frobnicate"], "error: symfilt: "),
+])
+def test_bad_input_is_one_error_line(run_cli, args, start):
+    code, out, err = run_cli(*args)
+    assert code == 2
+    assert out == ""
+    lines = err.strip().splitlines()
+    assert len(lines) == 1 and lines[0].startswith(start), err
+    assert "Traceback" not in err
+
+
+def test_malformed_file_is_one_error_line(run_cli, tmp_path):
+    bad = tmp_path / "bad.toml"
+    bad.write_text('[parts]\nR1 = { kind = "resistor", nodes = ["in", "out"], value = "4x7" }\n'
+                   'C1 = { kind = "capacitor", nodes = ["out", "gnd"] }\n')
+    code, out, err = run_cli("derive", str(bad))
+    assert code == 2 and out == ""
+    assert err.strip() == ("error: bad.toml [parts] R1: value '4x7' has an unknown suffix 'x7', use an SI prefix "
+                           "(p n u µ m k M G) and optionally a unit (Ω ohm F H Hz)")
+
+
+def test_broken_toml_is_one_error_line(run_cli, tmp_path):
+    bad = tmp_path / "broken.toml"
+    bad.write_text("[parts\nR1 = 3\n")
+    code, _, err = run_cli("derive", str(bad))
+    assert code == 2
+    assert err.startswith("error: broken.toml: not valid TOML") and len(err.strip().splitlines()) == 1
+
+
+def test_load_limit_line(run_cli):
+    code, out, _ = run_cli("derive", "@rc-lowpass", "--load-limit", "2%")
+    assert code == 0
+    # with R_s -> 0 the cutoff ratio is 1 + R1/R_L, so R_L >= R1/0.02 = 235 kΩ (Thevenin; common practice)
+    assert "R_L ≥ 235 kΩ" in out
