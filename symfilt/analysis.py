@@ -25,7 +25,7 @@ import sympy
 from .circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, S
 from .elimination import DEFAULT_MAX_TERMS
 from .network import NetworkFunction, derive
-from .sensitivity import product_sensitivity, sum_rules
+from .sensitivity import product_sensitivities, sum_rules
 
 KINDS = ("lowpass", "highpass", "bandpass", "notch", "allpass", "general")
 _SMALL = 120  # simplify expressions up to this many operations
@@ -432,7 +432,7 @@ def _stage(transfer: NetworkFunction, zin: NetworkFunction, zout: NetworkFunctio
         b, a = transfer.coefficients()
 
         def table(factors):
-            return None if factors is None else {str(x): product_sensitivity(factors, x) for x in syms}
+            return product_sensitivities(factors, syms)
 
         s_w0, s_q = table(form.factors.get("w0")), table(form.factors.get("q"))
         dc_f = None

@@ -11,26 +11,24 @@ from __future__ import annotations
 from dataclasses import dataclass, replace
 from typing import Callable, Mapping
 
-import flint
 import sympy
 
 from .circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
 from .elimination import DEFAULT_MAX_TERMS, solve
 from .errors import SingularCircuitError
 from .mna import build_system
+from .polybridge import Bridge, integer_scale
 
 #: Quantities derive() knows, with the MNA mode that gives each.
 QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
 
 
-def _poly_parts(expr: sympy.Expr, gens) -> dict:
-    return sympy.Poly(expr, *gens).as_dict() if gens else {(): expr}
-
-
 def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Expr]:
     """Cancel the common factor of two polynomial expressions exactly (python-flint).
 
-    Coefficients must be rational; the number pi may appear as a factor.
+    Coefficients must be rational; the number pi may appear as a factor. The result
+    has integer coefficients without a common factor, and the denominator's trailing
+    coefficient is positive.
 
     Examples
     --------
@@ -41,38 +39,13 @@ def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Ex
     num, den = sympy.expand(num), sympy.expand(den)
     if num == 0:
         return sympy.Integer(0), sympy.Integer(1)
-    pi_sym = sympy.Dummy("pi")
-    num, den = num.subs(sympy.pi, pi_sym), den.subs(sympy.pi, pi_sym)
-    gens = sorted(num.free_symbols | den.free_symbols, key=lambda z: z.name)
-    if not gens:
-        q = sympy.Rational(num) / sympy.Rational(den)
-        return q, sympy.Integer(1)
-    ctx = flint.fmpq_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(gens))), "degrevlex")
-
-    def to_flint(e):
-        d = _poly_parts(e, gens)
-        return ctx.from_dict({k: flint.fmpq(int(sympy.Rational(v).p), int(sympy.Rational(v).q)) for k, v in d.items()})
-
-    fn, fd = to_flint(num), to_flint(den)
+    bridge = Bridge([num, den])
+    fn, fd = bridge.to_flint(num), bridge.to_flint(den)
     g = fn.gcd(fd)
     if not g.is_one():
         fn, fd = fn / g, fd / g
-    # integer coefficients without a common factor; the denominator's trailing coefficient positive
-    coeffs = [sympy.Rational(int(c.p), int(c.q)) for c in list(fn.coeffs()) + list(fd.coeffs())]
-    scale = sympy.ilcm(*[c.q for c in coeffs]) if len(coeffs) > 1 else coeffs[0].q
-    scale = sympy.Rational(scale, sympy.igcd(*[(c * scale).p for c in coeffs]) if len(coeffs) > 1 else abs((coeffs[0] * scale).p))
-    if fd.coeffs()[-1] < 0:
-        scale = -scale
-    fn, fd = fn * flint.fmpq(int(scale.p), int(scale.q)), fd * flint.fmpq(int(scale.p), int(scale.q))
-
-    def back(p):
-        terms = []
-        for exps, c in zip(p.monoms(), p.coeffs()):
-            c = sympy.Rational(int(c.p), int(c.q))
-            terms.append(c * sympy.Mul(*[gg**e for gg, e in zip(gens, exps) if e]))
-        return sympy.Add(*terms).subs(pi_sym, sympy.pi)
-
-    return back(fn), back(fd)
+    fn, fd = integer_scale(fn, fd)
+    return bridge.to_sympy(fn), bridge.to_sympy(fd)
 
 
 @dataclass(frozen=True)

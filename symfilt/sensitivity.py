@@ -78,6 +78,51 @@ def product_sensitivity(factors, x: sympy.Symbol) -> sympy.Expr:
     return sympy.factor(total) if sympy.count_ops(total) < _SMALL else total
 
 
+def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
+    """:func:`product_sensitivity` for many symbols at once, on python-flint polynomials.
+
+    Each factor is converted once; each sensitivity is a cancelled ratio of
+    polynomials. None when ``factors`` is None.
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> product_sensitivities([(R * C, -1)], [R, C])
+    {'R': -1, 'C': -1}
+    """
+    if factors is None:
+        return None
+    import flint
+
+    from .polybridge import Bridge, integer_scale
+
+    factors = [(sympy.sympify(p), sympy.Rational(e)) for p, e in factors if p != 1]
+    bridge = Bridge([p for p, _e in factors] + list(symbols))
+    polys = [(bridge.to_flint(p), flint.fmpq(int(e.p), int(e.q)), p.free_symbols) for p, e in factors]
+    out = {}
+    for x in symbols:
+        used = [(fp, e) for fp, e, free in polys if x in free]
+        if not used:
+            out[str(x)] = sympy.Integer(0)
+            continue
+        den = used[0][0]
+        for fp, _e in used[1:]:
+            den = den * fp
+        xg = bridge.gen(x)
+        num = bridge.ctx.from_dict({})
+        for fp, e in used:
+            num = num + e * xg * bridge.derivative(fp, x) * (den / fp)
+        if num == 0:
+            out[str(x)] = sympy.Integer(0)
+            continue
+        g = num.gcd(den)
+        n, d = (num / g, den / g) if not g.is_one() else (num, den)
+        n, d = integer_scale(n, d)
+        value = bridge.to_sympy(n) / bridge.to_sympy(d)
+        out[str(x)] = sympy.factor(value) if sympy.count_ops(value) < _SMALL else value
+    return out
+
+
 def sensitivities(y: sympy.Expr | None, symbols) -> dict[str, sympy.Expr] | None:
     """S_x^y for every symbol x in ``symbols`` (names -> expressions); None when y is None.
 
