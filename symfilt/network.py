@@ -9,6 +9,7 @@ a new one.
 from __future__ import annotations
 
 from dataclasses import dataclass, replace
+from functools import cached_property
 from typing import Callable, Mapping
 
 import sympy
@@ -117,7 +118,12 @@ class NetworkFunction:
         >>> NetworkFunction(S, 1 + 2 * S).coefficients()
         ([0, 1], [1, 2])
         """
-        return _coeffs(self.num), _coeffs(self.den)
+        ncs, dcs = self._coefficients
+        return list(ncs), list(dcs)
+
+    @cached_property
+    def _coefficients(self):
+        return tuple(_coeffs(self.num)), tuple(_coeffs(self.den))
 
     def normalized(self) -> tuple[sympy.Expr, sympy.Expr]:
         """Numerator and denominator with the denominator's lowest-order coefficient made 1.
@@ -130,6 +136,10 @@ class NetworkFunction:
         >>> NetworkFunction.from_expr(Rl / (R + Rl + S * R * Rl * C)).normalized()
         (R_L/(R + R_L), C*R*R_L*s/(R + R_L) + 1)
         """
+        return self._normalized
+
+    @cached_property
+    def _normalized(self):
         if self.infinite:
             return sympy.Integer(1), sympy.Integer(0)
         ncs, dcs = self.coefficients()
@@ -155,11 +165,16 @@ class NetworkFunction:
         >>> NetworkFunction.from_expr(Rl / (R + Rl + S * R * Rl * C)).gain_form()
         (R_L/(R + R_L), [1], [1, C*R*R_L/(R + R_L)])
         """
+        k, ncs, dcs = self._gain_form
+        return k, list(ncs), list(dcs)
+
+    @cached_property
+    def _gain_form(self):
         if self.infinite:
-            return sympy.oo, [sympy.Integer(1)], [sympy.Integer(1)]
+            return sympy.oo, (sympy.Integer(1),), (sympy.Integer(1),)
         ncs, dcs = self.coefficients()
         if all(c == 0 for c in ncs):
-            return sympy.Integer(0), [sympy.Integer(1)], [sympy.Integer(1)]
+            return sympy.Integer(0), (sympy.Integer(1),), (sympy.Integer(1),)
         n_low = next(c for c in ncs if c != 0)
         d_low = next(c for c in dcs if c != 0)
 
@@ -169,7 +184,7 @@ class NetworkFunction:
             q = sympy.cancel(c / by)
             return sympy.factor(q) if sympy.count_ops(q) < 80 else q
 
-        return tidy(n_low, d_low), [tidy(c, n_low) for c in ncs], [tidy(c, d_low) for c in dcs]
+        return tidy(n_low, d_low), tuple(tidy(c, n_low) for c in ncs), tuple(tidy(c, d_low) for c in dcs)
 
     def normalized_expr(self) -> sympy.Expr:
         """The normalized ratio as one unevaluated-looking expression.

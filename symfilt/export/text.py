@@ -49,10 +49,10 @@ def transfer_pretty(h) -> str:
     --------
     >>> from symfilt import catalogue
     >>> from symfilt.network import derive
-    >>> print(transfer_pretty(derive(catalogue.build("inverting-lowpass")).ideal()))
-     -R₂       1     
-    ─────⋅──────────
-     R₁   C₁⋅R₂⋅s + 1
+    >>> print(transfer_pretty(derive(catalogue.build("inverting-lowpass")).ideal()))  # doctest: +NORMALIZE_WHITESPACE
+    -R₂       1
+    ────⋅───────────
+     R₁  C₁⋅R₂⋅s + 1
     """
     from sympy.printing.pretty.pretty import PrettyPrinter
     from sympy.printing.pretty.stringpict import prettyForm
@@ -213,6 +213,7 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     cutoff ωc, loaded = (R1 + R_L + R_s)/(C1·R_L·(R1 + R_s))
     cutoff ωc, ideal  = 1/(C1·R1)
     cutoff (Hz), loaded = 2.088 kHz, ideal = 1.539 kHz
+    <BLANKLINE>
     """
     if quantity:
         return _render_quantity(a, quantity)
