@@ -210,7 +210,7 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     >>> from symfilt import catalogue
     >>> from symfilt.analysis import analyse
     >>> print(render(analyse(catalogue.build("rc-lowpass")), "cutoff"))
-    cutoff ωc, loaded = (R1 + R_L + R_s)/(C1·R_L·(R1 + R_s))
+    cutoff ωc, loaded = 1/(C1·((R1 + R_s) || R_L))
     cutoff ωc, ideal  = 1/(C1·R1)
     cutoff (Hz), loaded = 2.088 kHz, ideal = 1.539 kHz
     <BLANKLINE>
