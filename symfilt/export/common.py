@@ -177,3 +177,22 @@ def transfer_parts(h, *, parallel: bool = True):
         return sympy.Add(*terms[::-1], evaluate=False) if len(terms) > 1 else terms[0]
 
     return fix(k), poly(ncs), poly(dcs)
+
+
+def impedance_display(z):
+    """An impedance for display: factored when small (``(C1 R1 s + 1)/(C1 s)``), else normalized.
+
+    Examples
+    --------
+    >>> from symfilt.network import NetworkFunction
+    >>> R1, C1 = sympy.symbols("R1 C1", positive=True)
+    >>> s = sympy.Symbol("s")
+    >>> impedance_display(NetworkFunction.from_expr(R1 + 1 / (s * C1), "zin"))
+    (C1*R1*s + 1)/(C1*s)
+    """
+    if z.infinite:
+        return sympy.oo
+    e = z.as_expr()
+    if sympy.count_ops(e) < 150:
+        return sympy.factor(e)
+    return z.normalized_expr()

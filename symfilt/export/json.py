@@ -79,8 +79,8 @@ def stage_dict(st: StageResult) -> dict:
         "cutoff_note": st.cutoff.reason or None,
         "band_edges": None if st.cutoff.edges is None else [_s(e) for e in st.cutoff.edges],
         "bandwidth": _s(st.cutoff.bandwidth),
-        "input_impedance": _s(st.zin.normalized_expr()),
-        "output_impedance": _s(st.zout.normalized_expr()),
+        "input_impedance": _s(st.zin.as_expr()),
+        "output_impedance": _s(st.zout.as_expr()),
         "sensitivity": {q: (None if t is None else {k: _s(v) for k, v in t.items()})
                         for q, t in st.sensitivity.items()} if st.sensitivity else
         {"cutoff": None, "w0": None, "q": None, "dc_gain": None},

@@ -6,7 +6,7 @@ from __future__ import annotations
 import sympy
 
 from ..analysis import Analysis, StageResult
-from .common import readable, symbol_names, transfer_parts
+from .common import impedance_display, readable, symbol_names, transfer_parts
 
 
 def transfer_tex(h) -> str:
@@ -74,8 +74,8 @@ def stage_equations(st: StageResult) -> list[tuple[str, str]]:
         cut = None
     for key, e in (("gain", f.gain), ("w0", f.w0), ("q", f.q), ("tau", f.tau), ("cutoff", cut),
                    ("bandwidth", st.cutoff.bandwidth), ("dc_gain", st.transfer.dc_gain()),
-                   ("hf_gain", st.transfer.hf_gain()), ("zin", st.zin.normalized_expr()),
-                   ("zout", st.zout.normalized_expr())):
+                   ("hf_gain", st.transfer.hf_gain()), ("zin", impedance_display(st.zin)),
+                   ("zout", impedance_display(st.zout))):
         if e is not None:
             eqs.append((_LABELS[key], tex(e)))
     return eqs
@@ -95,7 +95,7 @@ def quantity_latex(st: StageResult, quantity: str) -> str | None:
     if key == "transfer":
         return transfer_tex(st.transfer)
     if key in ("zin", "zout"):
-        return tex(getattr(st, key).normalized_expr())
+        return tex(impedance_display(getattr(st, key)))
     e = st.quantities().get(key)
     return None if e is None else tex(e)
 

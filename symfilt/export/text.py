@@ -6,7 +6,7 @@ import sympy
 
 from ..analysis import Analysis, StageResult
 from ..values import format_value
-from .common import readable, transfer_parts
+from .common import impedance_display, readable, transfer_parts
 
 QUANTITY_KEYS = ("transfer", "dc-gain", "cutoff", "w0", "q", "zin", "zout", "sensitivity")
 _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
@@ -171,7 +171,7 @@ def _stage_formulas(st: StageResult) -> list[str]:
         cut = None
     items = [("K", f.gain), ("w0", f.w0), ("Q", f.q), ("tau", f.tau), ("cutoff ωc", cut),
              ("DC gain", st.transfer.dc_gain()), ("HF gain", st.transfer.hf_gain()),
-             ("Zin", st.zin.normalized_expr()), ("Zout", st.zout.normalized_expr())]
+             ("Zin", impedance_display(st.zin)), ("Zout", impedance_display(st.zout))]
     for label, e in items:
         if e is not None:
             rows.append(f"  {label:<10} = {one_line(e)}")
@@ -280,7 +280,7 @@ def _render_quantity(a: Analysis, quantity: str) -> str:
             lines.append(f"{label}, {k:<6} = {transfer_line(st.transfer)}")
             continue
         if key in ("zin", "zout"):
-            e = getattr(st, key).normalized_expr()
+            e = impedance_display(getattr(st, key))
         lines.append(f"{label}, {k:<6} = {one_line(e)}")
     hz = {"cutoff": "cutoff_hz", "w0": "f0_hz", "q": "q", "dc_gain": "dc_gain"}.get(key)
     if hz:
