@@ -216,7 +216,10 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     <BLANKLINE>
     """
     if quantity:
-        return _render_quantity(a, quantity)
+        text = _render_quantity(a, quantity)
+        if load_limits:
+            text += "Load limits\n" + "".join(render_limit(x) + "\n" for x in load_limits)
+        return text
     c = a.circuit
     out = [f"symfilt — {c.title or 'circuit'}", f"input {c.input} → output {c.output}; ideal means {_fixtures_line(a)}", "",
            "Symbols"]
