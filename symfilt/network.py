@@ -300,9 +300,13 @@ class NetworkFunction:
         """
         if self.infinite:
             return self
+        by_name = {x.name: x for x in self.free_symbols()}
         m = {}
         for k, v in values.items():
-            m[sympy.Symbol(k, positive=True) if isinstance(k, str) else k] = sympy.nsimplify(v) if isinstance(v, float) else v
+            key = by_name.get(k) if isinstance(k, str) else k
+            if key is None:
+                continue
+            m[key] = sympy.Rational(repr(v)) if isinstance(v, float) else v
         n, d = cancel_ratio(self.num.xreplace(m), self.den.xreplace(m))
         return NetworkFunction(n, d, self.quantity)
 
@@ -394,19 +398,25 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
         progress(f"stamping {quantity}")
     where = circuit.title or "circuit"
     if quantity == "zin":
-        # Drive the input with an ideal unit voltage source (no R_s) and solve for the
-        # source's branch current: Zin = 1 / Yin. This also covers an input that draws
-        # no current at all (Zin infinite), where a current drive would be singular.
-        alone = replace(circuit, source=Fixture())
-        system = build_system(alone, "transfer")
-        system = replace(system, target=system.unknowns.index("I(source)"))
-        ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
-        num, den = ratio.to_sympy()
-        if num == 0:
-            return NetworkFunction(sympy.Integer(1), sympy.Integer(0), quantity)
-        # the branch current flows from the node into the source: Yin = -I
-        n, d = cancel_ratio(-den, num)
-        return NetworkFunction(n, d, quantity)
+        try:
+            return _solved(circuit, "zin", max_terms, progress, where)
+        except SingularCircuitError:
+            # A unit current into an input that draws no current at all (an op-amp
+            # input) has no solution. Drive it with an ideal unit voltage instead
+            # (R_s removed) and solve for the source current: Zin = 1/Yin.
+            alone = replace(circuit, source=Fixture())
+            system = build_system(alone, "transfer")
+            system = replace(system, target=system.unknowns.index("I(source)"))
+            num, den = solve(system, max_terms=max_terms, progress=progress, where=where).to_sympy()
+            if num == 0:
+                return NetworkFunction(sympy.Integer(1), sympy.Integer(0), quantity)
+            # the branch current flows from the node into the source: Yin = -I
+            n, d = cancel_ratio(-den, num)
+            return NetworkFunction(n, d, quantity)
+    return _solved(circuit, quantity, max_terms, progress, where)
+
+
+def _solved(circuit: Circuit, quantity: str, max_terms: int, progress, where: str) -> NetworkFunction:
     system = build_system(circuit, QUANTITIES[quantity])
     ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
     if progress:
