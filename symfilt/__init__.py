@@ -11,6 +11,7 @@ Examples
 from . import catalogue
 from .analysis import Analysis, LoadLimit, StandardForm, analyse, load_limits, standard_form, substitute
 from .circuit import Circuit, Fixture, Part
+from .claims import Equivalence, assert_equivalent, equivalent, parse_claim
 from .circuit_file import circuit_to_text, load_circuit, parse_circuit_text
 from .errors import (
     CircuitError,
@@ -31,6 +32,7 @@ __version__ = "0.1.0"
 __all__ = [
     "Analysis",
     "Circuit",
+    "Equivalence",
     "CircuitError",
     "CircuitFileError",
     "ClaimError",
@@ -46,13 +48,16 @@ __all__ = [
     "UsageError",
     "ValueParseError",
     "analyse",
+    "assert_equivalent",
     "catalogue",
     "circuit_to_text",
     "derive",
+    "equivalent",
     "format_value",
     "load_circuit",
     "load_limits",
     "parse_circuit_text",
+    "parse_claim",
     "parse_value",
     "standard_form",
     "substitute",

@@ -162,6 +162,36 @@ def _select_json(data: dict, quantity: str) -> dict:
 
 
 @cli.command()
+@click.argument("circuit")
+@click.argument("claim")
+@click.option("--quantity", type=click.Choice([q for q in QUANTITIES if q != "sensitivity"]), default="transfer",
+              show_default=True, help="The derived quantity the claim is about.")
+@click.option("--ideal", is_flag=True, help="Compare with the ideal (stage alone) form instead of the loaded one.")
+@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
+def check(circuit, claim, quantity, ideal, fmt):
+    """Check a hand derivation CLAIM (plain text or LaTeX, in s or jw) against CIRCUIT.
+
+    Exit 0 when equal, 1 when different, 2 on bad input.
+    """
+    from .analysis import analyse
+    from .claims import equivalent
+    from .export.check_report import check_json, check_text
+
+    c = load(circuit)
+    a = analyse(c, sensitivity=False, progress=_progress())
+    stage = a.ideal if ideal else a.loaded
+    key = quantity.replace("-", "_")
+    derived = stage.quantities()[key]
+    if derived is None:
+        raise UsageError(f"--quantity {quantity}", f"the circuit has no closed form for {quantity}",
+                         "check another quantity, such as transfer")
+    values = {str(k): v for k, v in c.values().items()}
+    result = equivalent(claim, derived, symbols=c.symbol_table(), values=values)
+    _emit(check_json(result) + "\n" if fmt == "json" else check_text(result))
+    return 0 if result.equivalent else 1
+
+
+@cli.command()
 @click.argument("name", required=False)
 @click.option("--write", "write", type=click.Path(dir_okay=False), help="Write the circuit as a circuit file.")
 def catalogue(name, write):

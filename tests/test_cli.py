@@ -127,3 +127,42 @@ def test_load_limit_line(run_cli):
     assert code == 0
     # with R_s -> 0 the cutoff ratio is 1 + R1/R_L, so R_L >= R1/0.02 = 235 kΩ (Thevenin; common practice)
     assert "R_L ≥ 235 kΩ" in out
+
+
+# --- symfilt check ------------------------------------------------------------------
+# RC low-pass with R_s and R_L: H = R_L / (R_s + R1 + R_L + s C1 R_L (R_s + R1)) (Thevenin; common practice).
+
+def test_check_right_claim_exits_0(run_cli):
+    code, out, _ = run_cli("check", "@rc-lowpass", "R_L/(R_s + R1 + R_L + s*C1*R_L*(R_s + R1))")
+    assert code == 0 and out.startswith("equal")
+
+
+def test_check_claim_missing_the_load_names_the_load(run_cli):
+    code, out, _ = run_cli("check", "@rc-lowpass", "1/(1 + s*(R_s + R1)*C1)")
+    assert code == 1
+    assert "agrees when R_L -> oo" in out and "load" in out
+
+
+def test_check_json(run_cli):
+    code, out, _ = run_cli("check", "@rc-lowpass", "1/(C1*((R1 + R_s) || R_L))", "--quantity", "cutoff",
+                           "--format", "json")
+    data = json.loads(out)
+    assert code == 0
+    assert data == {"equivalent": True, "method": "exact", "points": 0, "diagnosis": [], "counterexample": None}
+
+
+def test_check_ideal_latex_claim(run_cli):
+    # Unity-gain Sallen-Key: w0 = 1/sqrt(R1 R2 C1 C2) (TI SLOA024, from memory)
+    code, out, _ = run_cli("check", "@sallen-key-lowpass", r"\frac{1}{\sqrt{R_{1} R_{2} C_{1} C_{2}}}",
+                           "--quantity", "w0", "--ideal")
+    assert code == 0, out
+
+
+@pytest.mark.parametrize("claim", ["__import__('os').system('touch pwned')", "(lambda: 1)()", "10**10**10",
+                                   "x" * 100_000, "(" * 5000 + "1" + ")" * 5000])
+def test_check_hostile_claim_exits_2_and_runs_nothing(run_cli, claim, tmp_path, monkeypatch):
+    monkeypatch.chdir(tmp_path)
+    code, out, err = run_cli("check", "@rc-lowpass", claim)
+    assert code == 2 and out == ""
+    assert err.startswith("error: ") and len(err.strip().splitlines()) == 1
+    assert list(tmp_path.iterdir()) == []
