@@ -89,10 +89,23 @@ def _percent(text: str, where: str) -> float:
     return value
 
 
-def _progress():
-    from .elimination import DelayedProgress
+class _DelayedProgress:
+    """Stage names on stderr, only once a derivation has run longer than ``delay`` seconds."""
 
-    return DelayedProgress(lambda msg: click.echo(f"symfilt: {msg}", err=True))
+    def __init__(self, delay: float = 2.0) -> None:
+        import time
+
+        self._clock = time.monotonic
+        self._start = self._clock()
+        self._delay = delay
+
+    def __call__(self, stage: str) -> None:
+        if self._clock() - self._start >= self._delay:
+            click.echo(f"symfilt: {stage}", err=True)
+
+
+def _progress():
+    return _DelayedProgress()
 
 
 @click.group(name="symfilt", cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
@@ -118,9 +131,12 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     from .elimination import DEFAULT_MAX_TERMS
     from .structure import structure_warnings
 
-    c = load(circuit)
+    original = c = load(circuit)
     if opamp_model:
         c = c.with_opamp_model(opamp_model)
+    opamp_section = None
+    if opamp_model in ("gain", "single-pole") and any(p.kind == "opamp" for p in original.parts):
+        opamp_section = _opamp_error_section(original, opamp_model, "json" if fmt == "json" else "text")
     for w in structure_warnings(c):
         click.echo(f"warning: {w}", err=True)
     tol = _percent(load_limit, "--load-limit") if load_limit else None
@@ -136,6 +152,8 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
             extra["load_limit"] = [{"fixture": x.fixture, "bound": x.bound, "tolerance": x.tolerance,
                                     "value": x.value, "exact": None if x.exact is None else str(x.exact),
                                     "note": x.note or None} for x in limits]
+        if opamp_section is not None:
+            extra["opamp_error"] = opamp_section
         data = jx.analysis_dict(shown, extra)
         if quantity:
             data = _select_json(data, quantity)
@@ -151,7 +169,10 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     else:
         from .export import text
 
-        _emit(text.render(shown, quantity, limits))
+        out = text.render(shown, quantity, limits)
+        if opamp_section is not None:
+            out += "\n" + opamp_section
+        _emit(out)
 
 
 def _select_json(data: dict, quantity: str) -> dict:
@@ -211,6 +232,115 @@ def catalogue(name, write):
         click.echo(f"wrote {write}", err=True)
     else:
         _emit(text)
+
+
+DESIGN_FORMATS = ("text", "json")
+SERIES_NAMES = ("E6", "E12", "E24", "E48", "E96", "E192")
+
+
+def _opamp_error_section(original, opamp_model, fmt):
+    """The op-amp error of ``derive --opamp-model gain|single-pole``: a dict (json) or text."""
+    from .export import design_report
+    from .opamp_error import opamp_error
+
+    err = opamp_error(original, opamp_model)
+    return design_report.opamp_error_dict(err) if fmt == "json" else design_report.opamp_error_text(err)
+
+
+def _spread_progress():
+    """A progress bar on stderr, shown once the sampling has taken more than a second."""
+    import time
+
+    from .export.design_report import progress_line
+
+    started = []
+    shown = []
+
+    def update(done, total):
+        if not started:
+            started.append(time.monotonic())
+        if not shown and time.monotonic() - started[0] < 1.0:
+            return
+        shown.append(True)
+        click.echo("\r" + progress_line(done, total), err=True, nl=done >= total)
+
+    return update
+
+
+@cli.command()
+@click.argument("circuit")
+@click.option("--target", required=True, metavar="QUANTITY=VALUE",
+              help="cutoff=2k or w0=1k (Hz), q=0.707, dc-gain=-2; met with the loading included.")
+@click.option("--vary", required=True, metavar="PART[,PART...]",
+              help="The part to solve for; several parts, comma-separated, keep the ratio of their present values.")
+@click.option("--series", type=click.Choice(SERIES_NAMES, case_sensitive=False), default="E24", show_default=True,
+              help="IEC 60063 series for the two neighbouring values.")
+@click.option("--format", "fmt", type=click.Choice(DESIGN_FORMATS), default="text", show_default=True)
+def size(circuit, target, vary, series, fmt):
+    """Solve CIRCUIT for a part value that meets a target, and snap it to a preferred series."""
+    from .design import parse_target, size as size_to_target
+    from .export import design_report
+
+    c = load(circuit)
+    parts = tuple(p.strip() for p in vary.split(",") if p.strip())
+    result = size_to_target(c, parse_target(target), parts, series=series)
+    if fmt == "json":
+        from .export.json import dumps
+
+        _emit(dumps(design_report.size_dict(result)) + "\n")
+    else:
+        _emit(design_report.size_text(result))
+
+
+@cli.command()
+@click.argument("circuit")
+@click.option("--tol", "tols", multiple=True, required=True, metavar="NAME=TOL",
+              help="Tolerance of a part (R3=0.1%) or a class (R=1%, C=5%, L=10%); repeat the option.")
+@click.option("--runs", type=click.IntRange(100, 2_000_000), default=20000, show_default=True,
+              help="Monte Carlo samples.")
+@click.option("--seed", type=click.IntRange(min=0), default=None, help="Random seed (one is drawn and shown if not given).")
+@click.option("--distribution", type=click.Choice(("uniform", "normal")), default="uniform", show_default=True,
+              help="normal takes each tolerance as 3 sigma.")
+@click.option("--plot", "plot_file", type=click.Path(dir_okay=False), help="Write a histogram (.png, .svg or .pdf).")
+@click.option("--format", "fmt", type=click.Choice(DESIGN_FORMATS), default="text", show_default=True)
+def spread(circuit, tols, runs, seed, distribution, plot_file, fmt):
+    """Tolerance spread of the loaded cutoff, f0, Q and DC gain: Monte Carlo and worst case."""
+    from .export import design_report
+    from .spread import parse_tolerance, spread as run_spread
+
+    c = load(circuit)
+    tolerances = dict(parse_tolerance(t) for t in tols)
+    result = run_spread(c, tolerances, distribution=distribution, runs=runs, seed=seed, progress=_spread_progress())
+    if plot_file:
+        design_report.write_histogram(result, plot_file, protect=() if circuit.startswith("@") else (circuit,))
+        click.echo(f"wrote {plot_file}", err=True)
+    if fmt == "json":
+        from .export.json import dumps
+
+        _emit(dumps(design_report.spread_dict(result)) + "\n")
+    else:
+        _emit(design_report.spread_text(result))
+
+
+@cli.command()
+@click.argument("circuit")
+@click.option("--amplitude", required=True, metavar="VOLTS", help="Peak volts of the sine at the source, e.g. 2 or 500m.")
+@click.option("--frequency", required=True, metavar="HZ", help="Frequency of the sine, e.g. 10k.")
+@click.option("--format", "fmt", type=click.Choice(DESIGN_FORMATS), default="text", show_default=True)
+def drive(circuit, amplitude, frequency, fmt):
+    """Peak output voltage, output current and slew rate each op-amp of CIRCUIT must deliver."""
+    from .drive import drive as drive_check
+    from .export import design_report
+
+    result = drive_check(load(circuit), amplitude, frequency)
+    for line in design_report.drive_warnings(result):
+        click.echo(f"warning: {line}", err=True)
+    if fmt == "json":
+        from .export.json import dumps
+
+        _emit(dumps(design_report.drive_dict(result)) + "\n")
+    else:
+        _emit(design_report.drive_text(result))
 
 
 @cli.command()

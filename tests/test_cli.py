@@ -111,7 +111,7 @@ def test_malformed_file_is_one_error_line(run_cli, tmp_path):
     code, out, err = run_cli("derive", str(bad))
     assert code == 2 and out == ""
     assert err.strip() == ("error: bad.toml [parts] R1: value '4x7' has an unknown suffix 'x7', use an SI prefix "
-                           "(p n u µ m k M G) and optionally a unit (Ω ohm F H Hz)")
+                           "(f p n u µ m k M G T), an RKM letter (R, as in 1R5) and optionally a unit (Ω ohm F H Hz V A)")
 
 
 def test_broken_toml_is_one_error_line(run_cli, tmp_path):
@@ -119,7 +119,7 @@ def test_broken_toml_is_one_error_line(run_cli, tmp_path):
     bad.write_text("[parts\nR1 = 3\n")
     code, _, err = run_cli("derive", str(bad))
     assert code == 2
-    assert err.startswith("error: broken.toml: not valid TOML") and len(err.strip().splitlines()) == 1
+    assert err.startswith("error: broken.toml line 1: not valid TOML") and len(err.strip().splitlines()) == 1
 
 
 def test_load_limit_line(run_cli):

@@ -1,0 +1,553 @@
+"""Sizing to a target, with the loading included, and the IEC 60063 preferred numbers.
+
+:func:`size` solves the *loaded* equation of a circuit for one part (or several
+parts held in a ratio) so that a quantity hits a target: cutoff or w0 in Hz, Q,
+or DC gain. It gives the exact solution where the equation is small enough
+(a polynomial of degree at most two in the varied part once radicals are
+squared away), else a bracketed numeric root on a logarithmic scale, and then
+the two neighbouring values of a preferred-number series with the loaded and
+ideal result of each.
+
+Preferred numbers (IEC 60063): E6, E12 and E24 are the standard's own lists,
+which are *not* 10^(i/N) rounded (2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7 and 8.2
+differ); E48, E96 and E192 are 10^(i/N) rounded to three significant figures,
+except that E192 has 9.20 where the rounding gives 9.19.
+
+Examples
+--------
+>>> from symfilt import catalogue
+>>> r = size(catalogue.build("rc-lowpass"), ("cutoff", 2000), "R1", series="E24")
+>>> round(r.value, 1)
+5067.0
+>>> [str(n.values["R1"]) for n in r.neighbours]
+['4700', '5100']
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from fractions import Fraction
+from types import MappingProxyType
+from typing import Callable, Mapping, Sequence
+
+import sympy
+from mpmath.libmp.libhyper import NoConvergence
+
+from .analysis import StageResult, analyse, numeric_values
+from .circuit import LOAD_C, Circuit, S
+from .elimination import DEFAULT_MAX_TERMS
+from .errors import UsageError
+from .values import parse_value
+
+# --- IEC 60063 preferred numbers ------------------------------------------------
+
+_E6 = (10, 15, 22, 33, 47, 68)
+_E12 = (10, 12, 15, 18, 22, 27, 33, 39, 47, 56, 68, 82)
+_E24 = (10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30, 33, 36, 39, 43, 47, 51, 56, 62, 68, 75, 82, 91)
+
+
+def _generated(n: int) -> tuple[int, ...]:
+    """10^(i/n) rounded to three significant figures, in hundredths (100 ... 999).
+
+    No value of i/n for n = 48, 96, 192 lies within 0.01 of a rounding boundary,
+    so float arithmetic rounds exactly as decimal arithmetic would.
+    """
+    out = [int(math.floor(100 * 10 ** (i / n) + 0.5)) for i in range(n)]
+    if n == 192:
+        out[out.index(919)] = 920  # the standard's exception
+    return tuple(out)
+
+
+#: Series name -> mantissas in [1, 10) as exact rationals (read-only).
+SERIES: Mapping[str, tuple[sympy.Rational, ...]] = MappingProxyType({
+    **{name: tuple(sympy.Rational(v, 10) for v in table) for name, table in (("E6", _E6), ("E12", _E12), ("E24", _E24))},
+    **{f"E{n}": tuple(sympy.Rational(v, 100) for v in _generated(n)) for n in (48, 96, 192)},
+})
+
+
+def series_values(name: str) -> tuple[sympy.Rational, ...]:
+    """The mantissas of a preferred-number series, 1 <= m < 10, ascending.
+
+    Parameters
+    ----------
+    name : str
+        ``E6``, ``E12``, ``E24``, ``E48``, ``E96`` or ``E192`` (any case).
+
+    Examples
+    --------
+    >>> [str(v) for v in series_values("E6")]
+    ['1', '3/2', '11/5', '33/10', '47/10', '34/5']
+    >>> len(series_values("e192")), float(series_values("E192")[185])
+    (192, 9.2)
+    """
+    key = name.strip().upper()
+    if key not in SERIES:
+        raise UsageError("series", f"unknown series {name!r}", "use one of " + ", ".join(SERIES))
+    return SERIES[key]
+
+
+def _exact(value) -> Fraction:
+    if isinstance(value, sympy.Rational):
+        return Fraction(int(value.p), int(value.q))
+    if isinstance(value, float):
+        return Fraction(value)
+    return Fraction(value)
+
+
+def series_neighbours(value, series: str = "E24") -> tuple[sympy.Rational, sympy.Rational]:
+    """The series values just below (or equal to) and just above ``value``.
+
+    Parameters
+    ----------
+    value : float or sympy.Rational
+        A positive value in SI base units.
+    series : str
+
+    Returns
+    -------
+    (lower, upper) : tuple of sympy.Rational
+        ``lower <= value < upper``.
+
+    Examples
+    --------
+    >>> series_neighbours(3003.4, "E24")
+    (3000, 3300)
+    >>> series_neighbours(sympy.Rational(47, 10**9), "E12")
+    (47/1000000000, 7/125000000)
+    """
+    table = series_values(series)
+    x = _exact(value)
+    if x <= 0:
+        raise UsageError("series", f"value {float(x):g} is not positive", "snap only positive values")
+    k = math.floor(math.log10(float(x)))
+    while Fraction(10) ** k > x:
+        k -= 1
+    while Fraction(10) ** (k + 1) <= x:
+        k += 1
+    decade = sympy.Rational(10) ** k
+    mantissa = x / Fraction(10) ** k
+    lower = max(m for m in table if _exact(m) <= mantissa)
+    above = [m for m in table if _exact(m) > mantissa]
+    upper = above[0] * decade if above else table[0] * decade * 10
+    return lower * decade, upper
+
+
+def snap(value, series: str = "E24") -> sympy.Rational:
+    """The series value nearest to ``value`` on a logarithmic scale.
+
+    Examples
+    --------
+    >>> snap(4600, "E12"), snap(5150, "E24")
+    (4700, 5100)
+    """
+    lo, hi = series_neighbours(value, series)
+    x = float(value)
+    return lo if math.log(x / float(lo)) <= math.log(float(hi) / x) else hi
+
+
+# --- targets --------------------------------------------------------------------
+
+#: Target quantities and the key of :func:`symfilt.analysis.numeric_values` that measures each.
+TARGETS = MappingProxyType({"cutoff": "cutoff_hz", "w0": "f0_hz", "q": "q", "dc-gain": "dc_gain"})
+_ALIASES = {"cutoff": "cutoff", "fc": "cutoff", "w0": "w0", "f0": "w0", "q": "q",
+            "dc-gain": "dc-gain", "dc_gain": "dc-gain", "gain": "dc-gain"}
+
+
+def parse_target(text: str) -> tuple[str, sympy.Rational]:
+    """Read ``quantity=value`` (``cutoff=2k``, ``w0=1.5kHz``, ``q=0.707``, ``dc-gain=-2``).
+
+    Cutoff and w0 are in Hz.
+
+    Examples
+    --------
+    >>> parse_target("cutoff=2k")
+    ('cutoff', 2000)
+    >>> parse_target("q = 0.5")
+    ('q', 1/2)
+    """
+    name, sep, value = text.partition("=")
+    key = _ALIASES.get(name.strip().lower())
+    if not sep or key is None:
+        raise UsageError("--target", f"{text!r} is not a target",
+                         "write quantity=value with quantity cutoff, w0, q or dc-gain, e.g. cutoff=2k")
+    return key, parse_value(value.strip(), where="--target")
+
+
+@dataclass(frozen=True)
+class Neighbour:
+    """One preferred value tried in place of the exact solution.
+
+    Attributes
+    ----------
+    values : dict
+        Part name -> exact value for every varied part.
+    loaded, ideal : float or None
+        The target quantity with these values, loaded and ideal (Hz for cutoff and w0).
+    error_pct, ideal_error_pct : float or None
+        Deviation from the target in percent.
+    """
+
+    values: dict
+    loaded: float | None
+    ideal: float | None
+    error_pct: float | None
+    ideal_error_pct: float | None
+
+
+@dataclass(frozen=True)
+class SizeResult:
+    """The outcome of :func:`size`.
+
+    Attributes
+    ----------
+    vary : tuple of str
+        The varied parts; the first is the one solved for, the others follow it in ``ratio``.
+    ratio : dict
+        Part name -> its value over the first part's value (1 for the first).
+    quantity : str
+        ``cutoff``, ``w0``, ``q`` or ``dc-gain``.
+    target : sympy.Rational
+        As asked (Hz for cutoff and w0).
+    exact : sympy.Expr or None
+        Closed-form solution for the first varied part, in the other symbols.
+    exact_note : str
+        Why there is no closed form, when there is none.
+    value : float
+        The solution at the circuit's values (SI base units).
+    solutions : tuple of float
+        Every positive solution found (``value`` is the one nearest the part's present value).
+    method : str
+        ``closed form`` or ``numeric root``.
+    series : str
+    neighbours : tuple of Neighbour
+        The series values just below and just above the solution.
+    present : float or None
+        The loaded quantity with the circuit's present values.
+    notes : tuple of str
+    kinds : dict
+        Part name -> kind (``resistor``, ``capacitor``, ``inductor``) of each varied part.
+    """
+
+    vary: tuple
+    ratio: dict
+    quantity: str
+    target: sympy.Rational
+    exact: sympy.Expr | None
+    exact_note: str
+    value: float
+    solutions: tuple
+    method: str
+    series: str
+    neighbours: tuple
+    present: float | None = None
+    notes: tuple = field(default=())
+    kinds: dict = field(default_factory=dict)
+
+
+def _quantity_expr(stage: StageResult, quantity: str):
+    if quantity == "cutoff":
+        return stage.cutoff.value
+    if quantity == "w0":
+        return stage.form.w0
+    if quantity == "q":
+        return stage.form.q
+    return stage.transfer.dc_gain()
+
+
+def _condition(stage: StageResult, quantity: str, target):
+    """An expression that is zero exactly when the quantity equals the target,
+    free of radicals where the standard forms allow (None when there is none)."""
+    form = stage.form
+    if quantity == "dc-gain":
+        return stage.transfer.dc_gain() - target
+    if quantity == "q":
+        return None if form.q is None else form.q**2 - target**2
+    wt = 2 * sympy.pi * target
+    if quantity == "w0":
+        return None if form.w0 is None else form.w0**2 - wt**2
+    if stage.cutoff.value is None:
+        return None
+    if form.order == 1:
+        return form.w0**2 - wt**2
+    if form.order == 2 and form.kind in ("lowpass", "highpass"):
+        # (w_c/w0)^2 = u solves u^2 - 2 x u - 1 = 0 with x = 1 - 1/(2 Q^2), whose only
+        # positive root is the cutoff (analysis.second_order_root); high-pass: u = (w0/w_c)^2.
+        u = wt**2 / form.w0**2 if form.kind == "lowpass" else form.w0**2 / wt**2
+        return 1 - 1 / (2 * form.q**2) - (u - 1 / u) / 2
+    return None
+
+
+def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, str]:
+    """Roots in x of the numerator of ``condition``, when each factor holding x is of
+    degree <= max_degree; else no roots and the reason."""
+    if sympy.count_ops(condition) > 4000:
+        return [], "the equation is too large for a closed form"
+    num = sympy.numer(sympy.together(condition))
+    try:
+        poly = sympy.Poly(sympy.expand(num), x)
+    except sympy.PolynomialError:
+        return [], "the equation is not polynomial in the varied part"
+    if poly.degree() > 8:
+        return [], f"the equation is of degree {poly.degree()} in the varied part"
+    roots = []
+    y = sympy.Dummy("y", positive=True)
+    for fac, _mult in sympy.factor_list(num, x)[1]:
+        p = sympy.Poly(fac, x)
+        if p.degree() == 0:
+            continue
+        # a polynomial in x^k only (parts scaled together): solve for y = x^k
+        k = math.gcd(*[m[0] for m in p.monoms()])
+        if p.degree() // k > max_degree:
+            return [], f"the equation has a factor of degree {p.degree()} in the varied part"
+        fy = sympy.Add(*[c * y ** (m[0] // k) for m, c in zip(p.monoms(), p.coeffs())])
+        roots += [r if k == 1 else sympy.root(r, k) for r in sympy.solve(fy, y)]
+    return roots, ""
+
+
+def _tidy(e):
+    e = sympy.radsimp(e) if sympy.count_ops(e) < 200 else e
+    return sympy.factor(e) if sympy.count_ops(e) < 120 else e
+
+
+def _float(e) -> float | None:
+    try:
+        v = complex(sympy.N(e, 30))
+    except (TypeError, ValueError, ZeroDivisionError):
+        return None
+    if not math.isfinite(v.real) or abs(v.imag) > 1e-9 * max(1.0, abs(v.real)):
+        return None
+    return v.real
+
+
+def _rational(v: float) -> sympy.Rational:
+    return sympy.Rational(repr(float(v)))
+
+
+_SCAN = {"resistor": (1e-3, 1e12), "capacitor": (1e-18, 1.0), "inductor": (1e-12, 1e3)}
+
+
+def _log_roots(f: Callable[[float], float | None], lo: float, hi: float, per_decade: int = 3) -> list[float]:
+    """Every sign change of f on a logarithmic grid from lo to hi, refined by bisection in log x."""
+    n = max(2, int(round(math.log10(hi / lo) * per_decade)))
+    grid = [lo * (hi / lo) ** (k / n) for k in range(n + 1)]
+    vals = [f(x) for x in grid]
+    roots = []
+    for (a, fa), (b, fb) in zip(zip(grid, vals), zip(grid[1:], vals[1:])):
+        if fa is None or fb is None or (fa > 0) == (fb > 0):
+            if fa == 0:
+                roots.append(a)
+            continue
+        la, lb = math.log(a), math.log(b)
+        for _ in range(200):
+            mid = (la + lb) / 2
+            fm = f(math.exp(mid))
+            if fm is None:
+                break
+            if (fm > 0) == (fa > 0):
+                la, fa = mid, fm
+            else:
+                lb = mid
+            if lb - la < 1e-14:
+                break
+        if fm is not None:
+            roots.append(math.exp((la + lb) / 2))
+    return roots
+
+
+def _numeric_cutoff_function(stage: StageResult, tie: dict, values: dict, x, goal: float):
+    """f(x) = cutoff(x) / goal - 1 in Hz, the cutoff found from the coefficients of H(s) in
+    floating point (:func:`symfilt.spread.batch_cutoff`, numpy) - fast enough for a scan."""
+    import numpy as np
+
+    from .spread import batch_cutoff
+
+    b, d = stage.transfer.coefficients()
+    lam = [sympy.lambdify(x, (c.xreplace(tie) if tie else c).xreplace(values), "math") for c in b + d]
+
+    def f(xv: float) -> float | None:
+        try:
+            cs = [np.array([float(fn(xv))]) for fn in lam]
+        except (ZeroDivisionError, OverflowError, ValueError):
+            return None
+        w = float(batch_cutoff(cs[: len(b)], cs[len(b):])[0])
+        return None if not math.isfinite(w) else w / (2 * math.pi) / goal - 1
+
+    return f
+
+
+def _varied_symbols(circuit: Circuit, vary: Sequence[str]):
+    table = circuit.symbols()
+    out = []
+    for name in vary:
+        info = table.get(name)
+        if info is None or name == "s":
+            raise UsageError("--vary", f"{name} is not a part of the circuit",
+                             "name a resistor, capacitor or inductor (or R_s, R_L, C_L)")
+        if info["role"] == "part" and info.get("kind") not in ("resistor", "capacitor", "inductor"):
+            raise UsageError("--vary", f"{name} is a {info.get('kind')}", "vary a resistor, capacitor or inductor")
+        if info["role"] == "opamp":
+            raise UsageError("--vary", f"{name} is an op-amp parameter", "vary a resistor, capacitor or inductor")
+        out.append((name, info["symbol"], info["value"], info.get("kind", "resistor" if name != LOAD_C else "capacitor")))
+    return out
+
+
+def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str], *, series: str = "E24",
+         max_terms: int = DEFAULT_MAX_TERMS) -> SizeResult:
+    """Solve the loaded circuit for a part value that meets a target.
+
+    Parameters
+    ----------
+    circuit : Circuit
+        Every symbol but the varied part(s) needs a value.
+    target : (str, value)
+        ``("cutoff", 2000)`` or ``("w0", 1e3)`` in Hz, ``("q", 0.707)``, ``("dc-gain", -2)``;
+        the value as a number or value text.
+    vary : str or sequence of str
+        One part, or several parts held in the ratio of their present values (all need
+        values then); the first is solved for.
+    series : str
+        IEC 60063 series for the neighbours: E6, E12, E24, E48, E96, E192.
+    max_terms : int
+        Size budget of the elimination.
+
+    Returns
+    -------
+    SizeResult
+
+    Raises
+    ------
+    UsageError
+        Unknown part or quantity, missing values, or no value of the part meets the target.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> r = size(catalogue.build("sallen-key-lowpass"), ("cutoff", "3k"), ("C1", "C2"), series="E12")
+    >>> r.method, round(r.value * 1e9, 3)
+    ('closed form', 10.228)
+    >>> sorted(r.neighbours[0].values)
+    ['C1', 'C2']
+    """
+    quantity, raw = target
+    quantity = _ALIASES.get(str(quantity).lower(), str(quantity).lower())
+    if quantity not in TARGETS:
+        raise UsageError("--target", f"unknown quantity {target[0]!r}", "use cutoff, w0, q or dc-gain")
+    tval = parse_value(raw, where="--target")
+    if quantity in ("cutoff", "w0", "q") and tval <= 0:
+        raise UsageError("--target", f"a {quantity} of {tval} is not positive", "give a positive target")
+    if tval == 0:
+        raise UsageError("--target", "a DC gain of 0 cannot be sized for", "give a non-zero gain")
+    series_values(series)
+    names = (vary,) if isinstance(vary, str) else tuple(vary)
+    if not names or len(set(names)) != len(names):
+        raise UsageError("--vary", "name each varied part once", "e.g. --vary R1 or --vary C1,C2")
+    varied = _varied_symbols(circuit, names)
+    if len(varied) > 1 and any(v is None for _n, _s, v, _k in varied):
+        raise UsageError("--vary", "parts held in a ratio need values (the ratio is taken from them)",
+                         "give " + ", ".join(n for n, _s, v, _k in varied if v is None) + " a value")
+    first_name, x, first_value, kind = varied[0]
+    ratio = {n: (sympy.Integer(1) if i == 0 else v / first_value) for i, (n, _s, v, _k) in enumerate(varied)}
+    a = analyse(circuit, sensitivity=False, max_terms=max_terms)
+    values = {k: v for k, v in circuit.values().items() if k not in {s for _n, s, _v, _k in varied}}
+    needed = (a.loaded.transfer.free_symbols() | a.ideal.transfer.free_symbols()) - {S} - {s for _n, s, _v, _k in varied}
+    missing = sorted(str(m) for m in needed if m not in values)
+    if missing:
+        raise UsageError("size", "no value for " + ", ".join(missing), "give every part but the varied one a value")
+    tie = {s: x * ratio[n] for n, s, _v, _k in varied[1:]}
+    key = TARGETS[quantity]
+    notes: list[str] = []
+
+    def at(stage: StageResult, xv: sympy.Rational) -> float | None:
+        vals = {**values, **{s: xv * ratio[n] for n, s, _v, _k in varied}}
+        try:
+            return numeric_values(stage, vals).get(key)
+        except NoConvergence:
+            return None
+
+    present = at(a.loaded, first_value) if first_value is not None else None
+    goal = tval
+    if quantity == "dc-gain":
+        sample = present if present is not None else at(a.loaded, _rational(_SCAN[kind][0] * 1e6))
+        if sample is not None and sample * float(tval) < 0:
+            goal = -tval
+            notes.append(f"the DC gain is {'negative' if sample < 0 else 'positive'}; its magnitude is sized to {abs(float(tval)):g}")
+    scale = 2 * math.pi if quantity in ("cutoff", "w0") else 1.0
+
+    def check(xv: float) -> bool:
+        got = at(a.loaded, _rational(xv))
+        return got is not None and abs(got / float(goal) - 1) < 1e-7
+
+    expr0 = _quantity_expr(a.loaded, quantity)
+    if expr0 is not None and x not in sympy.sympify(expr0).free_symbols and not (
+            tie and set(tie) & sympy.sympify(expr0).free_symbols):
+        used = sorted(str(v) for v in sympy.sympify(expr0).free_symbols)
+        raise UsageError("--vary", f"{first_name} does not change the loaded {quantity}",
+                         "vary a part that appears in it: " + (", ".join(used) if used else "none does"))
+    exact_roots, reason = [], ""
+    cond = _condition(a.loaded, quantity, goal)
+    if cond is None:
+        reason = f"no closed form of the loaded {quantity}"
+    else:
+        cond = cond.xreplace(tie) if tie else cond
+        exact_roots, reason = _closed_form(cond, x)
+    candidates = []  # (float, exact or None)
+    for r in exact_roots:
+        v = _float(r.xreplace(values))
+        if v is not None and v > 0 and check(v):
+            candidates.append((v, r))
+    method = "closed form"
+    if not candidates:
+        method = "numeric root"
+        if cond is not None and not reason:
+            reason = "the closed-form roots do not meet the target at these values"
+        expr = _quantity_expr(a.loaded, quantity)
+        if expr is not None:
+            e = (expr.xreplace(tie) if tie else expr).xreplace(values)
+            fn = sympy.lambdify(x, e, "mpmath")
+
+            def g(xv: float) -> float | None:
+                try:
+                    v = complex(fn(xv))
+                except (ZeroDivisionError, ValueError, TypeError, OverflowError):
+                    return None
+                if abs(v.imag) > 1e-9 * max(1.0, abs(v.real)):
+                    return None
+                return v.real / scale / float(goal) - 1
+        elif quantity == "cutoff" and a.loaded.cutoff.edges is None:
+            g = _numeric_cutoff_function(a.loaded, tie, values, x, float(goal))
+        else:
+            raise UsageError("--target", f"the loaded stage has no {quantity} (order {a.loaded.form.order}, "
+                             f"{a.loaded.form.kind})", "target the cutoff, or the w0 and Q of a first- or second-order stage")
+        centre = float(first_value) if first_value is not None else math.sqrt(_SCAN[kind][0] * _SCAN[kind][1])
+        lo, hi = (centre * 1e-6, centre * 1e6) if first_value is not None else _SCAN[kind]
+        roots = _log_roots(g, lo, hi)
+        if not roots and first_value is not None:
+            roots = _log_roots(g, *_SCAN[kind], per_decade=2)
+        candidates = [(v, None) for v in roots if check(v)]
+        if roots and not candidates:
+            candidates = [(v, None) for v in roots]
+            notes.append("the numeric root could not be confirmed with the exact transfer function")
+    if not candidates:
+        raise UsageError("size", f"no positive value of {first_name} gives {quantity} = {float(tval):g}",
+                         "check the target is reachable with the other parts, or vary another part")
+    centre = float(first_value) if first_value is not None else None
+    candidates.sort(key=lambda c: abs(math.log(c[0] / centre)) if centre else c[0])
+    value, exact = candidates[0]
+    if exact is not None:
+        exact = _tidy(exact)
+    neighbours = []
+    for xv in series_neighbours(value, series):
+        lo_v, id_v = at(a.loaded, xv), at(a.ideal, xv)
+        err = None if lo_v is None else (lo_v / float(goal) - 1) * 100
+        ierr = None if id_v is None else (id_v / float(goal) - 1) * 100
+        neighbours.append(Neighbour({n: xv * ratio[n] for n, *_ in varied}, lo_v, id_v, err, ierr))
+    if len(varied) > 1 and any(ratio[n] != 1 for n in ratio):
+        notes.append("the other varied parts follow the first in their ratio and may fall between series values")
+    return SizeResult(names, ratio, quantity, tval, exact, "" if exact is not None else reason, value,
+                      tuple(sorted(c[0] for c in candidates)), method, series.strip().upper(),
+                      tuple(neighbours), present, tuple(notes), {n: k for n, _s, _v, k in varied})
+
+
+__all__ = ["SERIES", "TARGETS", "Neighbour", "SizeResult", "parse_target", "series_neighbours",
+           "series_values", "size", "snap"]

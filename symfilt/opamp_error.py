@@ -1,0 +1,277 @@
+"""The error a real op-amp adds: DC gain and cutoff against the ideal op-amp.
+
+Every op-amp is switched to the ``gain`` model (open-loop gain A_U) or the
+``single-pole`` model (A(s) = A0 2 pi GBW / (A0 s + 2 pi GBW)), the circuit is
+derived again, and the DC gain and the cutoff are compared with the ideal-op-amp
+circuit, loaded both times:
+
+* exactly, as the relative error ``real/ideal - 1`` in closed form (where the
+  cutoff has one: order <= 2);
+* to first order in 1/A_U and 1/GBW_U: the relative error is approximately
+  ``sum c_U / A_U + sum d_U / GBW_U``. For the DC gain, c_U is the derivative at
+  eps = 0 of H(0) with A_U = 1/eps, over the ideal H(0). For the cutoff (pass band
+  at DC), the cutoff solves F(u, eps) = 2 |N(jw)|^2 D(0)^2 - N(0)^2 |D(jw)|^2 = 0
+  with u = w^2; implicit differentiation at the ideal cutoff u0 gives
+  d(ln w_c)/d eps = -F_eps / (2 u0 F_u).
+
+Reference for the check in the tests: an inverting amplifier with open-loop gain A
+has G = -(R2/R1) / (1 + (1 + R2/R1)/A), whose first-order relative error is
+-(1 + R2/R1)/A (Sedra & Smith, *Microelectronic Circuits*, ch. 2; from memory).
+
+Examples
+--------
+>>> from symfilt import catalogue
+>>> e = opamp_error(catalogue.build("inverting-lowpass"), "gain", gain="100k")
+>>> e.dc_first_order
+{'A_U1': -(R1 + R2 + R_s)/(R1 + R_s)}
+>>> round(e.numeric["dc_gain"]["error"] * 1e5, 4)
+-3.0754
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+
+import sympy
+
+from .analysis import cutoff as cutoff_of
+from .analysis import numeric_cutoff, standard_form
+from .circuit import Circuit, S
+from .elimination import DEFAULT_MAX_TERMS
+from .errors import UsageError
+from .network import NetworkFunction, derive
+
+_BIG = 400  # operations above which an exact expression is left unsimplified
+_SHOWN = 250  # operations above which a first-order coefficient is given as a number only
+
+
+@dataclass(frozen=True)
+class OpampError:
+    """DC gain and cutoff of a circuit with real op-amps against ideal ones (loaded).
+
+    Attributes
+    ----------
+    model : str
+        ``gain`` or ``single-pole``.
+    dc_ideal, dc_real : sympy.Expr
+        H(0) with ideal and with real op-amps.
+    dc_error : sympy.Expr or None
+        Exact relative error dc_real/dc_ideal - 1.
+    dc_first_order : dict
+        Symbol name (A_U1, ...) -> c: the relative error is about sum c / symbol.
+    cutoff_ideal, cutoff_real : sympy.Expr or None
+        Closed-form cutoffs (rad/s), where they exist.
+    cutoff_error : sympy.Expr or None
+        Exact relative error of the cutoff, where both closed forms exist.
+    cutoff_first_order : dict or None
+        Symbol name (A_U1, GBW_U1, ...) -> coefficient, as for the DC gain; None when the
+        ideal cutoff has no closed form or the coefficients are too large to show.
+    numeric : dict
+        ``{"dc_gain": {...}, "cutoff_hz": {...}}`` with ``ideal``, ``real``, ``error``
+        (exact relative) and ``first_order`` (the first-order estimate), where values allow.
+    notes : tuple of str
+    """
+
+    model: str
+    dc_ideal: sympy.Expr
+    dc_real: sympy.Expr
+    dc_error: sympy.Expr | None
+    dc_first_order: dict
+    cutoff_ideal: sympy.Expr | None
+    cutoff_real: sympy.Expr | None
+    cutoff_error: sympy.Expr | None
+    cutoff_first_order: dict | None
+    numeric: dict = field(default_factory=dict)
+    notes: tuple = ()
+
+
+def _tidy(e):
+    if e is None:
+        return None
+    if sympy.count_ops(e) > _BIG:
+        return e
+    e = sympy.cancel(sympy.together(e))
+    return sympy.factor(e) if sympy.count_ops(e) < 120 else e
+
+
+def _num(e, values) -> float | None:
+    if e is None:
+        return None
+    e = sympy.sympify(e).xreplace(values)
+    if e.free_symbols:
+        return None
+    try:
+        v = complex(sympy.N(e, 30))
+    except (TypeError, ValueError, ZeroDivisionError):
+        return None
+    return v.real if math.isfinite(v.real) and abs(v.imag) <= 1e-12 * max(1.0, abs(v.real)) else None
+
+
+def _eps_polys(h: NetworkFunction, eps: dict):
+    """Numerator and denominator of h with each symbol X of ``eps`` replaced by 1/e_X,
+    both multiplied by e_X^k so that they stay polynomials in e_X."""
+    num, den = h.num, h.den
+    for sym, e in eps.items():
+        k = max(sympy.degree(num, sym), sympy.degree(den, sym))
+        num = sympy.expand(num.xreplace({sym: 1 / e}) * e**k)
+        den = sympy.expand(den.xreplace({sym: 1 / e}) * e**k)
+    return num, den
+
+
+def _mag2(p, w2):
+    """|p(jw)|^2 as a polynomial in w2 = w^2, for p a polynomial in s."""
+    poly = sympy.Poly(p, S)
+    even = sum((c * (-1) ** (k // 2) * w2 ** (k // 2) for (k,), c in poly.terms() if k % 2 == 0), sympy.Integer(0))
+    odd = sum((c * (-1) ** (k // 2) * w2 ** (k // 2) for (k,), c in poly.terms() if k % 2 == 1), sympy.Integer(0))
+    return sympy.expand(even**2 + w2 * odd**2)
+
+
+def _second_order_coefficient(f_real, f_ideal, sym, e):
+    """d(ln w_c)/d(1/X) at 1/X = 0 for a second-order low-pass or high-pass, through w0 and Q:
+    w_c = w0 r(Q)^(+-1) (analysis.second_order_root), so d ln w_c = d ln w0 +- g d ln Q with
+    g = 1/(2 Q^2 sqrt(x^2 + 1)), x = 1 - 1/(2 Q^2), Q the ideal one. w0^2 and Q^2 are rational."""
+    def dlog(sq_real, sq_ideal):
+        f = sympy.cancel(sympy.together(sq_real.xreplace({sym: 1 / e})))
+        return sympy.cancel(sympy.diff(f, e).xreplace({e: 0}) / sq_ideal) / 2
+
+    a = dlog(f_real.w0**2, f_ideal.w0**2)
+    b = dlog(f_real.q**2, f_ideal.q**2)
+    q2 = sympy.cancel(f_ideal.q**2)
+    x = 1 - 1 / (2 * q2)
+    g = 1 / (2 * q2 * sympy.sqrt(sympy.factor(sympy.cancel(x**2 + 1))))
+    sign = 1 if f_ideal.kind == "lowpass" else -1
+    return _tidy(a) + sign * _tidy(b) * g if b != 0 else _tidy(a)
+
+
+def opamp_error(circuit: Circuit, model: str = "gain", *, gain=None, gbw=None,
+                max_terms: int = DEFAULT_MAX_TERMS) -> OpampError:
+    """DC gain and cutoff error of real op-amps against ideal ones, exact and to first order.
+
+    Parameters
+    ----------
+    circuit : Circuit
+        With at least one op-amp.
+    model : {"gain", "single-pole"}
+    gain, gbw : value, optional
+        Open-loop gain and gain-bandwidth product (Hz) for op-amps that have none.
+    max_terms : int
+
+    Returns
+    -------
+    OpampError
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> e = opamp_error(catalogue.build("inverting-lowpass"), "single-pole", gain="100k", gbw="1M")
+    >>> sorted(e.cutoff_first_order)
+    ['A_U1', 'GBW_U1']
+    >>> n = e.numeric["cutoff_hz"]
+    >>> abs(n["first_order"] / n["error"] - 1) < 0.01
+    True
+    """
+    if model not in ("gain", "single-pole"):
+        raise UsageError("--opamp-model", f"{model!r} is not a non-ideal model", "use gain or single-pole")
+    opamps = [p for p in circuit.parts if p.kind == "opamp"]
+    if not opamps:
+        raise UsageError("opamp error", "the circuit has no op-amp", "add one, or leave out --opamp-model")
+    real = circuit.with_opamp_model(model, gain=gain, gbw=gbw)
+    ideal = circuit.with_opamp_model("ideal")
+    h_real = derive(real, max_terms=max_terms)
+    h_ideal = derive(ideal, max_terms=max_terms)
+    notes: list[str] = []
+    eps = {}
+    for p in opamps:
+        eps[sympy.Symbol(f"A_{p.name}", positive=True)] = sympy.Symbol(f"eps_A_{p.name}", positive=True)
+        if model == "single-pole":
+            eps[sympy.Symbol(f"GBW_{p.name}", positive=True)] = sympy.Symbol(f"eps_GBW_{p.name}", positive=True)
+    at_zero = {e: 0 for e in eps.values()}
+    n_e, d_e = _eps_polys(h_real, eps)
+    n0, d0 = n_e.xreplace(at_zero), d_e.xreplace(at_zero)
+    if d0 == 0 or sympy.expand(n0 * h_ideal.den - d0 * h_ideal.num) != 0:
+        raise UsageError("opamp error", "the circuit does not tend to its ideal-op-amp form as A grows",
+                         "check every op-amp has negative feedback")
+
+    dc_ideal, dc_real = h_ideal.dc_gain(), h_real.dc_gain()
+    dc_error = None
+    dc_first: dict = {}
+    if dc_ideal not in (0, sympy.oo, sympy.zoo):
+        dc_error = _tidy(dc_real / dc_ideal - 1)
+        ndc, ddc = n_e.xreplace({S: 0}), d_e.xreplace({S: 0})
+        for sym, e in eps.items():
+            # d/de (n/d) at e = 0 = (n' d - n d') / d^2
+            dn, dd = sympy.diff(ndc, e).xreplace(at_zero), sympy.diff(ddc, e).xreplace(at_zero)
+            n00, d00 = ndc.xreplace(at_zero), ddc.xreplace(at_zero)
+            c = _tidy((dn * d00 - n00 * dd) / d00**2 / dc_ideal)
+            if c != 0:
+                dc_first[str(sym)] = c
+    else:
+        notes.append("the ideal DC gain is zero: no relative DC error")
+
+    f_real, f_ideal = standard_form(h_real), standard_form(h_ideal)
+    c_real, c_ideal = cutoff_of(f_real).value, cutoff_of(f_ideal).value
+    cut_error = _tidy(c_real / c_ideal - 1) if c_real is not None and c_ideal is not None else None
+    if cut_error is not None and sympy.count_ops(cut_error) > _SHOWN:
+        cut_error = None
+        notes.append("the exact cutoff error is too large to show: first-order terms and numbers only")
+    if c_real is None:
+        notes.append(f"no closed-form cutoff with {model} op-amps (order {h_real.order()}): numeric only")
+
+    values = dict(real.values())
+    cut_first = None
+    u = sympy.Symbol("u", positive=True)
+    if dc_ideal not in (0, sympy.oo, sympy.zoo):
+        big_f = 2 * _mag2(n_e, u) * d_e.xreplace({S: 0}) ** 2 - n_e.xreplace({S: 0}) ** 2 * _mag2(d_e, u)
+        f_u = sympy.diff(big_f, u).xreplace(at_zero)
+        f_eps = {sym: sympy.diff(big_f, e).xreplace(at_zero) for sym, e in eps.items()}
+        if c_ideal is not None:
+            u0 = c_ideal**2
+            cut_first = {}
+            second = f_real.order == f_ideal.order == 2 and f_real.kind == f_ideal.kind in ("lowpass", "highpass")
+            for sym, e in eps.items():
+                if second:
+                    c = _second_order_coefficient(f_real, f_ideal, sym, e)
+                else:
+                    c = -(f_eps[sym] / f_u).xreplace({u: u0}) / (2 * u0)
+                    c = _tidy(c) if sympy.count_ops(c) < _BIG else c
+                if sympy.count_ops(c) > _SHOWN:
+                    cut_first = None
+                    notes.append("the first-order cutoff coefficients are too large to show: numeric only")
+                    break
+                if c != 0:
+                    cut_first[str(sym)] = c
+        cut_first_num = None
+        w_ideal = _num(c_ideal, values) if c_ideal is not None else numeric_cutoff(h_ideal, values)
+        if w_ideal is not None and all(sym in values for sym in eps):
+            u0n = w_ideal**2
+            fu = _num(f_u.xreplace({u: sympy.Float(u0n, 30)}), values)
+            if fu not in (None, 0):
+                cut_first_num = 0.0
+                for sym, fe in f_eps.items():
+                    fen = _num(fe.xreplace({u: sympy.Float(u0n, 30)}), values)
+                    if fen is None:
+                        cut_first_num = None
+                        break
+                    cut_first_num += -fen / fu / (2 * u0n) / float(values[sym])
+    else:
+        cut_first_num = None
+        notes.append("first-order cutoff terms need a pass band at DC")
+
+    numeric: dict = {}
+    dci, dcr = _num(dc_ideal, values), _num(dc_real, values)
+    if dci is not None and dcr is not None and dci != 0:
+        fo = None
+        if all(sym in values for sym in eps):
+            fo = sum(_num(c, values) / float(values[sympy.Symbol(k, positive=True)]) for k, c in dc_first.items())
+        numeric["dc_gain"] = {"ideal": dci, "real": dcr, "error": dcr / dci - 1, "first_order": fo}
+    wi = _num(c_ideal, values) if c_ideal is not None else numeric_cutoff(h_ideal, values)
+    wr = _num(c_real, values) if c_real is not None else numeric_cutoff(h_real, values)
+    if wi is not None and wr is not None:
+        numeric["cutoff_hz"] = {"ideal": wi / (2 * math.pi), "real": wr / (2 * math.pi), "error": wr / wi - 1,
+                                "first_order": cut_first_num}
+    return OpampError(model, dc_ideal, dc_real, dc_error, dc_first, c_ideal, c_real, cut_error, cut_first, numeric,
+                      tuple(notes))
+
+
+__all__ = ["OpampError", "opamp_error"]
