@@ -488,7 +488,9 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     if sensitivity:
         blockers = [p.name for p in circuit.parts if p.kind == "inductor" or (p.kind == "opamp" and p.model == "single-pole")]
         if blockers:
-            note = "sum rules not checked: " + ", ".join(blockers) + " bring a frequency of their own"
+            one = len(blockers) == 1
+            note = (f"sum rules not checked: {', '.join(blockers)} {'has a frequency of its' if one else 'have frequencies of their'}"
+                    " own (an inductor or a single-pole op-amp)")
         elif loaded.form.w0 is None:
             note = "sum rules not checked: no w0 (not a first- or second-order standard form)"
         else:
@@ -523,7 +525,28 @@ def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
             row[name] = _finite(e.xreplace(dict(values)))
         if row is not None:
             out[quantity] = row
+    if "cutoff" not in out and stage.sensitivity and stage.cutoff.value is None and stage.cutoff.edges is None:
+        row = _numeric_cutoff_sensitivity(stage.transfer, values)
+        if row is not None:
+            out["cutoff"] = row
     return out
+
+
+def _numeric_cutoff_sensitivity(h: NetworkFunction, values: Mapping) -> dict | None:
+    """S_x^cutoff by a central difference in log x of the numeric cutoff (no closed form)."""
+    from .sensitivity import numeric_sensitivity
+
+    if h.free_symbols() - {S} - set(values) or numeric_cutoff(h, values) is None:
+        return None
+    row = {}
+    for x in sorted(h.free_symbols() - {S}, key=str):
+        x0 = values[x]
+
+        def f(v, x=x):
+            return numeric_cutoff(h, {**values, x: sympy.Rational(repr(v))})
+
+        row[str(x)] = numeric_sensitivity(f, float(x0))
+    return row
 
 
 def substitute(analysis: Analysis) -> Analysis:
@@ -599,12 +622,26 @@ def _fixture_alone(h: NetworkFunction, keep: str) -> NetworkFunction:
     return h
 
 
-def _cutoff_at(h: NetworkFunction, values: Mapping) -> float | None:
-    form = standard_form(h)
-    cut = cutoff(form)
-    if cut.value is not None:
-        return _finite(sympy.sympify(cut.value).xreplace(dict(values)))
-    return numeric_cutoff(h, values)
+def _cutoff_function(h: NetworkFunction, x: sympy.Symbol, others: Mapping) -> Callable[[float], float | None]:
+    """The cutoff (rad/s) as a function of one symbol, the others at their values.
+
+    The standard form is found once; a closed-form cutoff becomes a plain float
+    function, otherwise each call finds the root numerically.
+    """
+    hx = h.subs(others)
+    cut = cutoff(standard_form(hx)).value
+    if cut is not None:
+        f = sympy.lambdify(x, cut, modules="math")
+
+        def closed(v: float) -> float | None:
+            try:
+                w = complex(f(v))
+            except (ValueError, ZeroDivisionError, OverflowError):
+                return None
+            return w.real if abs(w.imag) <= 1e-12 * max(1.0, abs(w.real)) else None
+
+        return closed
+    return lambda v: numeric_cutoff(hx, {x: sympy.Rational(repr(v))})
 
 
 def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
@@ -667,9 +704,10 @@ def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
                 note = "needs values for every part to compute"
             else:
                 w_ideal = ideal_num * 2 * math.pi
+                cutoff_of = _cutoff_function(h, x, others)
 
                 def dev(v: float) -> float:
-                    w = _cutoff_at(h, {**others, x: sympy.Rational(repr(v))})
+                    w = cutoff_of(v)
                     return math.inf if w is None else abs(w / w_ideal - 1) - tolerance
 
                 grid = [10.0 ** (k / 4) for k in range(scan[0] * 4, scan[1] * 4 + 1)]
