@@ -14,13 +14,17 @@ Ground is the node ``0`` or ``gnd`` (any case); it is stored as ``"0"``.
 
 from __future__ import annotations
 
+import difflib
+import keyword
+import math
 import re
+import unicodedata
 from dataclasses import dataclass, field, replace
 from typing import Iterable, Mapping
 
 import sympy
 
-from .errors import CircuitError
+from .errors import CircuitError, SizeLimitError, ValueParseError
 from .values import parse_value
 
 #: Part kinds and their pins.
@@ -43,9 +47,34 @@ SOURCE_R, LOAD_R, LOAD_C = "R_s", "R_L", "C_L"
 #: The Laplace variable.
 S = sympy.Symbol("s")
 GROUND = "0"
+#: Longest part or node name, in characters.
 MAX_NAME = 32
-_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
+_NAME = re.compile(r"[A-Za-z][A-Za-z0-9_]*")
 _RESERVED = {"s", SOURCE_R, LOAD_R, LOAD_C, "pi", "oo", "j", "w", "omega"}
+#: Unicode categories refused in names: control, format (bidirectional marks), surrogate, private, unassigned.
+_BAD_CATEGORIES = ("Cc", "Cf", "Cs", "Co", "Cn")
+
+
+def clip_name(text: object, limit: int = MAX_NAME) -> str:
+    """A name as it may appear in a message: one line, printable, at most ``limit`` characters.
+
+    Control and other invisible characters are shown as escapes; text that is not
+    a string is shown by its ``repr``.
+
+    Examples
+    --------
+    >>> print(clip_name("R\\x1b[2J"))
+    'R\\x1b[2J'
+    >>> clip_name("x" * 50)
+    'xxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxx...'
+    """
+    if not isinstance(text, str):
+        shown = repr(text)
+    elif any(unicodedata.category(ch) in _BAD_CATEGORIES or ch.isspace() and ch != " " for ch in text):
+        shown = ascii(text)
+    else:
+        shown = text
+    return shown if len(shown) <= limit else shown[:limit] + "..."
 
 
 def is_ground(node: str) -> bool:
@@ -61,10 +90,15 @@ def is_ground(node: str) -> bool:
 
 def _node(name: object, where: str) -> str:
     if not isinstance(name, str) or not name.strip():
-        raise CircuitError(where, f"node {name!r} is not a name", "write node names as non-empty text such as \"in\" or \"gnd\"")
+        raise CircuitError(where, f"node {clip_name(name)} is not a name",
+                           "write node names as non-empty text such as \"in\" or \"gnd\"")
     name = name.strip()
     if len(name) > MAX_NAME:
-        raise CircuitError(where, f"node name is {len(name)} characters long", f"use at most {MAX_NAME} characters")
+        raise SizeLimitError(where, f"a node name is {len(name)} characters long, over the limit of {MAX_NAME}",
+                             "use a shorter node name")
+    if any(unicodedata.category(ch) in _BAD_CATEGORIES or ch.isspace() and ch != " " for ch in name):
+        raise CircuitError(where, f"node name {clip_name(name)} holds a control or invisible character",
+                           "write node names with visible characters only")
     return GROUND if is_ground(name) else name
 
 
@@ -187,24 +221,35 @@ class Part:
         >>> Part.make("E1", "vcvs", ["o", "0", "i", "0"], value="2").value
         2
         """
-        where = f"part {name}"
-        if not isinstance(name, str) or not _NAME.match(name):
-            raise CircuitError(f"part {name!r}", "a part name must start with a letter and hold only letters, digits and _",
-                               "rename it, e.g. R1 or C_in")
+        where = f"part {clip_name(name)}"
+        if not isinstance(name, str):
+            raise CircuitError(where, "a part name must be text", "write it as e.g. R1 or C_in")
         if len(name) > MAX_NAME:
-            raise CircuitError(where[:60], f"name is {len(name)} characters long", f"use at most {MAX_NAME} characters")
+            raise SizeLimitError(where, f"the name is {len(name)} characters long, over the limit of {MAX_NAME}",
+                                 "use a shorter name such as R1 or C_in")
+        if not _NAME.fullmatch(name):
+            raise CircuitError(where, "a part name must start with an ASCII letter and hold only ASCII letters, digits and _",
+                               "rename it, e.g. R1 or C_in")
         if name in _RESERVED or name.startswith(("A_", "GBW_")):
             raise CircuitError(where, f"the name {name} is reserved for a symbol of symfilt",
                                "rename the part (R_s, R_L, C_L, s, A_*, GBW_* are taken)")
-        if kind not in KINDS:
-            raise CircuitError(where, f"unknown kind {kind!r}", "use one of " + ", ".join(KINDS))
-        nodes = tuple(_node(n, where) for n in nodes)
+        if keyword.iskeyword(name):
+            raise CircuitError(where, f"the name {name} is a reserved word of Python, which reads the formulas back",
+                               "rename the part, e.g. R_" + name)
+        if not isinstance(kind, str) or kind not in KINDS:
+            close = difflib.get_close_matches(kind, KINDS, n=1) if isinstance(kind, str) else []
+            raise CircuitError(where, f"unknown kind {clip_name(kind)!r}" if isinstance(kind, str) else f"unknown kind {clip_name(kind)}",
+                               (f"did you mean {close[0]}? " if close else "") + "use one of " + ", ".join(KINDS))
+        if isinstance(nodes, (str, bytes)) or not isinstance(nodes, Iterable):
+            raise CircuitError(where, "the nodes must be a list", "list the pins: " + ", ".join(KINDS[kind]))
+        nodes = list(nodes)
         if len(nodes) != len(KINDS[kind]):
             raise CircuitError(where, f"a {kind} has {len(KINDS[kind])} pins ({', '.join(KINDS[kind])}), got {len(nodes)}",
                                "list exactly those pins")
+        nodes = tuple(_node(n, where) for n in nodes)
         if kind == "opamp":
-            if model not in OPAMP_MODELS:
-                raise CircuitError(where, f"unknown op-amp model {model!r}", "use one of " + ", ".join(OPAMP_MODELS))
+            if not isinstance(model, str) or model not in OPAMP_MODELS:
+                raise CircuitError(where, f"unknown op-amp model {clip_name(model)!r}", "use one of " + ", ".join(OPAMP_MODELS))
             if value is not None:
                 raise CircuitError(where, "an op-amp has no value", "use gain = ... and gbw = ... for its model")
         elif any(v is not None for v in (gain, gbw, iout_max, slew)) or model != "ideal":
@@ -213,6 +258,9 @@ class Part:
         if kind in ("ccvs", "cccs"):
             if not control:
                 raise CircuitError(where, f"a {kind} needs control = \"<part whose current controls it>\"",
+                                   "name a resistor, capacitor, inductor, vcvs or ccvs")
+            if not isinstance(control, str):
+                raise CircuitError(where, f"control {clip_name(control)} is not a part name",
                                    "name a resistor, capacitor, inductor, vcvs or ccvs")
         elif control is not None:
             raise CircuitError(where, f"a {kind} takes no control part", "remove control")
@@ -226,26 +274,39 @@ class Part:
     def check_values(self) -> None:
         """Raise CircuitError for values that no real part has (zero, negative).
 
+        Zero resistance or inductance is a wire, zero capacitance an open circuit;
+        passive values and op-amp parameters are positive. A controlled source's
+        gain may be any real number.
+
         Examples
         --------
         >>> Part.resistor("R1", "a", "b", "0")
         Traceback (most recent call last):
         ...
-        symfilt.errors.CircuitError: part R1: a resistance of 0 is a wire, use a wire (join the nodes), or remove the part
+        symfilt.errors.CircuitError: part R1: a resistance of 0 is a short circuit, use a wire, or remove the part
+        >>> Part.capacitor("C1", "a", "b", "-22n")
+        Traceback (most recent call last):
+        ...
+        symfilt.errors.CircuitError: part C1: a negative capacitance (-22n) is not a real part, give its magnitude
         """
+        from .values import format_value
+
         where = f"part {self.name}"
         if self.kind in ("resistor", "capacitor", "inductor") and self.value is not None:
             what = {"resistor": "resistance", "capacitor": "capacitance", "inductor": "inductance"}[self.kind]
             if self.value == 0:
                 if self.kind == "capacitor":
                     raise CircuitError(where, "a capacitance of 0 is an open circuit", "remove the part")
-                raise CircuitError(where, f"a {what} of 0 is a wire", "use a wire (join the nodes), or remove the part")
+                raise CircuitError(where, f"a{'n' if what[0] == 'i' else ''} {what} of 0 is a short circuit",
+                                   "use a wire, or remove the part")
             if self.value < 0:
-                raise CircuitError(where, f"negative value {self.value}", "give the magnitude; passive parts are positive")
+                shown = format_value(self.value).replace(" ", "")
+                raise CircuitError(where, f"a negative {what} ({shown}) is not a real part", "give its magnitude")
         if self.kind == "opamp":
             for label, v in (("gain", self.gain), ("gbw", self.gbw), ("iout_max", self.iout_max), ("slew", self.slew)):
                 if v is not None and v <= 0:
-                    raise CircuitError(where, f"{label} must be positive, got {v}", f"give a positive {label}")
+                    raise CircuitError(where, f"the op-amp's {label} must be positive, got {format_value(v).replace(' ', '')}",
+                                       f"give a positive {label}")
 
     @property
     def symbol(self) -> sympy.Symbol:
@@ -301,10 +362,13 @@ class Fixture:
             return cls(True, None)
         if isinstance(text, Fixture):
             return text
+        hint = "write a positive value, \"symbol\" to keep it symbolic, or \"none\" to leave it out"
+        if (isinstance(text, float) and not math.isfinite(text)) or (
+                isinstance(text, str) and text.strip().lower().lstrip("+-") in ("inf", "infinity", "nan")):
+            raise ValueParseError(where, f"value {clip_name(str(text))} is not finite", hint)
         value = parse_value(text, where=where)
         if value <= 0:
-            raise CircuitError(where, f"value {value} must be positive",
-                               "write a positive value, \"symbol\" to keep it symbolic, or \"none\" to leave it out")
+            raise CircuitError(where, f"value {value} must be positive", hint)
         return cls(True, value)
 
 

@@ -1,22 +1,31 @@
 """Circuit files (TOML, symfilt's own schema) to and from :class:`~symfilt.circuit.Circuit`.
 
 The schema is in DESIGN.md and in the README. Every problem is a
-:class:`~symfilt.errors.CircuitFileError` or :class:`~symfilt.errors.CircuitError`
-naming the file and the place in it.
+:class:`~symfilt.errors.SymfiltError` whose message starts with the file name and
+the place in it (``stage.toml line 8``, ``stage.toml [parts] R1``): a
+:class:`~symfilt.errors.CircuitFileError` for the file and its TOML, and the
+circuit's own errors (:class:`~symfilt.errors.CircuitError`,
+:class:`~symfilt.errors.ValueParseError`, :class:`~symfilt.errors.SizeLimitError`,
+:class:`~symfilt.errors.SingularCircuitError`) for what it describes.
 """
 
 from __future__ import annotations
 
-import os
+import difflib
+import re
 import tomllib
+import unicodedata
 from pathlib import Path
 
-from .circuit import KINDS, Circuit, Fixture, Part
-from .errors import CircuitError, CircuitFileError, SymfiltError
+from .circuit import KINDS, Circuit, Fixture, Part, clip_name
+from .errors import CircuitFileError, SizeLimitError, SymfiltError
+from .structure import MAX_PARTS
 from .values import format_value
 
 #: Largest circuit file read, in bytes.
 MAX_FILE_BYTES = 256 * 1024
+#: Longest title, in characters.
+MAX_TITLE = 200
 
 _TOP_KEYS = {"title", "ports", "source", "load", "parts"}
 _PART_KEYS = {
@@ -34,6 +43,59 @@ _PART_KEYS = {
 def _text(v) -> object:
     """TOML numbers stay numbers; strings are passed to the value parser as they are."""
     return v
+
+
+_TOML_AT = re.compile(r"^(?P<msg>.*?) \((?:at line (?P<line>\d+), column (?P<col>\d+)|at end of document)\)$", re.S)
+_HEADER = re.compile(r"^\s*\[\s*(?P<name>[^\[\]]*?)\s*\]\s*(?:#.*)?$")
+_KEY = re.compile(r"""^\s*(?:(?P<bare>[A-Za-z0-9_-]+)|"(?P<dq>[^"\\]*)"|'(?P<sq>[^']*)')\s*=""")
+
+
+def _duplicate_key(text: str) -> tuple[str, str, int, int] | None:
+    """(section, key, first line, second line) of the first key written twice in one table."""
+    section = ""
+    seen: dict[tuple[str, str], int] = {}
+    headers: dict[str, int] = {}
+    for number, line in enumerate(text.splitlines(), start=1):
+        if (m := _HEADER.match(line)) is not None:
+            section = m["name"]
+            if section in headers:
+                return ("", f"[{section}]", headers[section], number)
+            headers[section] = number
+            continue
+        if (m := _KEY.match(line)) is not None:
+            key = m["bare"] or m["dq"] or m["sq"] or ""
+            if (section, key) in seen:
+                return (section, key, seen[(section, key)], number)
+            seen[(section, key)] = number
+    return None
+
+
+def _toml_error(exc: tomllib.TOMLDecodeError, text: str, name: str) -> CircuitFileError:
+    """A TOML syntax error as one clear message; duplicate names are spelt out."""
+    m = _TOML_AT.match(str(exc))
+    detail = m["msg"] if m else str(exc)
+    where = f"{name} line {m['line']}" if m and m["line"] else name
+    if detail.startswith(("Cannot overwrite", "Cannot declare", "Duplicate", "Cannot mutate")):
+        dup = _duplicate_key(text)
+        if dup is not None:
+            section, key, first, second = dup
+            where = f"{name} line {second}"
+            if key.startswith("["):
+                return CircuitFileError(where, f"the table {clip_name(key)} appears twice (first on line {first})",
+                                        "keep one header and put everything of that table under it")
+            if section == "parts":
+                return CircuitFileError(where, f"part {clip_name(key)} is defined twice (first on line {first})",
+                                        "give each part its own name")
+            return CircuitFileError(where, f"{clip_name(key)} is given twice (first on line {first})", "keep one of them")
+        if detail.startswith("Duplicate inline table key"):
+            return CircuitFileError(where, f"a part lists {detail[len('Duplicate inline table key '):]} twice",
+                                    "keep one of them")
+    if m and m["col"]:
+        detail += f" at column {m['col']}"
+    elif m:
+        detail += " at the end of the file"
+    detail = clip_name(detail[:1].lower() + detail[1:], 120)
+    return CircuitFileError(where, f"not valid TOML: {detail}", "fix the syntax there (see the circuit file format in the README)")
 
 
 def parse_circuit_text(text: str, name: str = "<text>") -> Circuit:
@@ -62,12 +124,16 @@ def parse_circuit_text(text: str, name: str = "<text>") -> Circuit:
     >>> c.source.value, c.part("R1").value
     (600, 4700)
     """
+    text = text.removeprefix("\ufeff")  # a byte-order mark, as some editors write
     try:
         data = tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
-        raise CircuitFileError(name, f"not valid TOML ({exc})", "fix the syntax at that line") from None
+        raise _toml_error(exc, text, name) from None
     except RecursionError:
         raise CircuitFileError(name, "nesting too deep", "write a flat circuit file as in the README") from None
+    except ValueError:  # Python refuses to read an integer of more than 4300 digits
+        raise CircuitFileError(name, "not valid TOML: a number is too long to read",
+                               "write values as text such as \"4k7\" or \"2.2e-9\"") from None
     return circuit_from_dict(data, name)
 
 
@@ -82,11 +148,18 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
     """
     unknown = set(data) - _TOP_KEYS
     if unknown:
-        raise CircuitFileError(name, f"unknown section or key {sorted(unknown)[0]!r}",
-                               "use only title, [ports], [source], [load], [parts]")
+        key = sorted(unknown)[0]
+        raise CircuitFileError(name, f"unknown section or key {clip_name(key)!r}",
+                               _suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parts]")
     title = data.get("title", "")
     if not isinstance(title, str):
         raise CircuitFileError(f"{name} title", "the title must be text", "write title = \"...\"")
+    if len(title) > MAX_TITLE:
+        raise SizeLimitError(f"{name} title", f"the title is {len(title)} characters long, over the limit of {MAX_TITLE}",
+                             "shorten it")
+    if any(unicodedata.category(ch) in ("Cc", "Cf", "Cs", "Co", "Cn") and ch != "\t" for ch in title):
+        raise CircuitFileError(f"{name} title", "the title holds a line break, control or invisible character",
+                               "write the title on one line with visible characters only")
     ports = _table(data, "ports", name)
     source = _table(data, "source", name)
     load = _table(data, "load", name)
@@ -94,28 +167,43 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
                                ("load", load, {"resistance", "capacitance"})):
         extra = set(table) - keys
         if extra:
-            raise CircuitFileError(f"{name} [{label}]", f"unknown key {sorted(extra)[0]!r}",
-                                   "use " + " and ".join(sorted(keys)))
+            key = sorted(extra)[0]
+            raise CircuitFileError(f"{name} [{label}]", f"unknown key {clip_name(key)!r}",
+                                   _suggest(key, keys) + "use " + " and ".join(sorted(keys)))
     parts_table = data.get("parts")
     if not isinstance(parts_table, dict) or not parts_table:
         raise CircuitFileError(name, "no [parts] table", "add [parts] with one line per part")
+    if len(parts_table) > MAX_PARTS:
+        raise SizeLimitError(f"{name} [parts]", f"{len(parts_table)} parts is over the limit of {MAX_PARTS}",
+                             "split the circuit into stages and derive each one")
     parts = [_part(pname, spec, name) for pname, spec in parts_table.items()]
     try:
         circuit = Circuit(
             parts=tuple(parts),
-            input=_port(ports.get("input", "in"), f"{name} [ports] input"),
-            output=_port(ports.get("output", "out"), f"{name} [ports] output"),
-            source=Fixture.parse(_text(source.get("resistance")), f"{name} [source] resistance"),
-            load_resistance=Fixture.parse(_text(load.get("resistance")), f"{name} [load] resistance"),
-            load_capacitance=Fixture.parse(_text(load.get("capacitance")), f"{name} [load] capacitance"),
+            input=_port(ports.get("input", "in"), "[ports] input"),
+            output=_port(ports.get("output", "out"), "[ports] output"),
+            source=Fixture.parse(_text(source.get("resistance")), "[source] resistance"),
+            load_resistance=Fixture.parse(_text(load.get("resistance")), "[load] resistance"),
+            load_capacitance=Fixture.parse(_text(load.get("capacitance")), "[load] capacitance"),
             title=title,
         )
         circuit.check()
-    except CircuitError as exc:
-        raise CircuitError(f"{name} {exc.where}", exc.what, exc.fix) from None
     except SymfiltError as exc:
-        raise type(exc)(f"{name} {exc.where}", exc.what, exc.fix) from None
+        raise type(exc)(f"{name} {_file_place(exc.where)}", exc.what, exc.fix) from None
     return circuit
+
+
+def _file_place(where: str) -> str:
+    """A place in circuit terms ("part R1", "ports output") written as in the file ("[parts] R1")."""
+    for plain, section in (("part ", "[parts] "), ("ports ", "[ports] ")):
+        if where.startswith(plain):
+            return section + where[len(plain):]
+    return where
+
+
+def _suggest(word: str, choices) -> str:
+    close = difflib.get_close_matches(word, sorted(choices), n=1)
+    return f"did you mean {close[0]}? " if close else ""
 
 
 def _port(v, where: str) -> str:
@@ -132,17 +220,20 @@ def _table(data: dict, key: str, name: str) -> dict:
 
 
 def _part(pname: str, spec, name: str) -> Part:
-    where = f"{name} [parts] {pname}"
+    where = f"{name} [parts] {clip_name(pname)}"
     if not isinstance(spec, dict):
-        raise CircuitFileError(where, "a part must be an inline table", "write it as { kind = \"resistor\", nodes = [...], value = \"...\" }")
+        raise CircuitFileError(where, "a part must be an inline table",
+                               "write it as { kind = \"resistor\", nodes = [...], value = \"...\" }")
     kind = spec.get("kind")
-    if kind not in KINDS:
-        raise CircuitFileError(where, f"unknown kind {kind!r}" if kind is not None else "no kind given",
-                               "use one of " + ", ".join(KINDS))
+    if not isinstance(kind, str) or kind not in KINDS:
+        shown = f"{clip_name(kind)!r}" if isinstance(kind, str) else clip_name(kind)
+        raise CircuitFileError(where, f"unknown kind {shown}" if kind is not None else "no kind given",
+                               (_suggest(kind, KINDS) if isinstance(kind, str) else "") + "use one of " + ", ".join(KINDS))
     extra = set(spec) - _PART_KEYS[kind]
     if extra:
-        raise CircuitFileError(where, f"unknown key {sorted(extra)[0]!r} for a {kind}",
-                               "use " + ", ".join(sorted(_PART_KEYS[kind])))
+        key = sorted(extra)[0]
+        raise CircuitFileError(where, f"unknown key {clip_name(key)!r} for a {kind}",
+                               _suggest(key, _PART_KEYS[kind]) + "use " + ", ".join(sorted(_PART_KEYS[kind])))
     try:
         if kind == "opamp":
             missing = [pin for pin in ("plus", "minus", "out") if pin not in spec]
@@ -188,11 +279,11 @@ def load_circuit(path) -> Circuit:
     try:
         if p.is_dir():
             raise CircuitFileError(str(p), "is a folder, not a circuit file", "give the path of a .toml circuit file")
-        size = p.stat().st_size
-        if size > MAX_FILE_BYTES:
-            raise CircuitFileError(name, f"file is {size} bytes, over the limit of {MAX_FILE_BYTES}",
-                                   "a circuit file of 200 parts fits well below it; check the file")
-        raw = p.read_bytes()
+        with open(p, "rb") as fh:  # read at most one byte past the limit: /dev/zero must not hang us
+            raw = fh.read(MAX_FILE_BYTES + 1)
+        if len(raw) > MAX_FILE_BYTES:
+            raise SizeLimitError(name, f"the file is over the size limit of {MAX_FILE_BYTES} bytes",
+                                 "a circuit file of 200 parts fits well below it; check the file")
     except FileNotFoundError:
         raise CircuitFileError(str(p), "no such file", "check the path, or use @NAME for a built-in circuit") from None
     except PermissionError:
@@ -202,7 +293,9 @@ def load_circuit(path) -> Circuit:
     try:
         text = raw.decode("utf-8")
     except UnicodeDecodeError as exc:
-        raise CircuitFileError(name, f"not UTF-8 text (byte {exc.start})", "save the file as UTF-8 text") from None
+        line = raw[: exc.start].count(b"\n") + 1
+        raise CircuitFileError(f"{name} line {line}", f"not UTF-8 text (byte {exc.start} is {raw[exc.start]:#04x})",
+                               "save the file as UTF-8 text") from None
     if "\x00" in text:
         raise CircuitFileError(name, "contains NUL bytes", "save the file as plain UTF-8 text")
     return parse_circuit_text(text, name)

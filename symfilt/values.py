@@ -6,7 +6,7 @@ Accepted forms (see DEVELOPERS.md for the full list):
 * an SI prefix after the number (BIPM SI Brochure): ``"4.7k"``, ``"22n"``, ``"1.5M"``
   (``M`` is mega, ``m`` is milli, ``u`` and ``µ`` are micro);
 * the RKM code of IEC 60062, the prefix letter standing for the decimal point:
-  ``"4k7"``, ``"2n2"``, ``"1R5"`` (``R`` marks the point with no multiplier);
+  ``"4k7"``, ``"2n2"``, ``"1R5"``, ``"R47"`` (``R`` marks the point with no multiplier);
 * an optional unit after it: ``Ω``, ``ohm``, ``ohms``, ``F``, ``H``, ``Hz``, ``V``, ``A``
   (``"1.5 MΩ"``, ``"22nF"``, ``"10 kHz"``).
 
@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import math
 import re
+from decimal import Decimal
 from fractions import Fraction
 
 import sympy
@@ -31,12 +32,46 @@ PREFIXES: dict[str, int] = {
 #: Unit words accepted after a value (case-sensitive except for "ohm").
 UNITS = ("Ω", "ohms", "ohm", "Ohm", "Ohms", "F", "H", "Hz", "V", "A")
 
+#: Largest magnitude of a value (the range of the SI prefixes, yocto to yotta).
+MAX_MAGNITUDE = sympy.Integer(10) ** 24
+#: Smallest magnitude of a non-zero value.
+MIN_MAGNITUDE = sympy.Rational(1, 10**24)
+#: Longest value text, in characters.
+MAX_VALUE_CHARS = 64
+
 _NUMBER = r"(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?"
-_PLAIN = re.compile(rf"^(?P<num>[+-]?{_NUMBER})(?P<prefix>[pnuµμmkKMGTf]?)$")
-_RKM = re.compile(r"^(?P<int>\d+)(?P<letter>[pnuµμmkKMGTfR])(?P<frac>\d+)$")
-_RATIO = re.compile(r"^(?P<p>[+-]?\d+)/(?P<q>\d+)$")
+# ASCII digits only: "\d" alone would also take digits of other scripts
+_PLAIN = re.compile(rf"^(?P<num>[+-]?{_NUMBER})(?P<prefix>[pnuµμmkKMGTf]?)$", re.ASCII)
+_RKM = re.compile(r"^(?P<sign>[+-]?)(?P<int>\d*)(?P<letter>[pnuµμmkKMGTfR])(?P<frac>\d+)$", re.ASCII)
+_RATIO = re.compile(r"^(?P<p>[+-]?\d+)/(?P<q>\d+)$", re.ASCII)
+_LEADING_NUMBER = re.compile(rf"^[+-]?{_NUMBER}", re.ASCII)
 
 _ACCEPTED = "a number with an optional SI prefix (p n u µ m k M G), e.g. 4.7k, 4k7, 22n, 1R5, 2.2e-9"
+_SUFFIXES = "use an SI prefix (f p n u µ m k M G T), an RKM letter (R, as in 1R5) and optionally a unit (Ω ohm F H Hz V A)"
+_RANGE = "use a value between 1e-24 and 1e24 in magnitude (the SI prefix range)"
+
+
+def _shown(text: str, limit: int = 24) -> str:
+    """The value text for a message: quoted, escaped, clipped."""
+    return repr(text if len(text) <= limit else text[:limit] + "...")
+
+
+def _in_range(value: sympy.Rational, shown: str, where: str) -> sympy.Rational:
+    if value != 0 and not (MIN_MAGNITUDE <= abs(value) <= MAX_MAGNITUDE):
+        raise ValueParseError(where, f"value {shown} is out of range", _RANGE)
+    return value
+
+
+def _decimal(number: str, power: int, shown: str, where: str) -> sympy.Rational:
+    """Exact value of ``number * 10**power``, refusing huge exponents before expanding them."""
+    mantissa, _, exponent = number.lower().partition("e")
+    scale = power + (int(exponent) if exponent else 0)
+    digits = Decimal(mantissa)  # at most 64 characters: the text limit
+    if digits == 0:
+        return sympy.Integer(0)
+    if not -30 <= digits.adjusted() + scale <= 30:
+        raise ValueParseError(where, f"value {shown} is out of range", _RANGE)
+    return _in_range(sympy.Rational(mantissa) * sympy.Rational(10) ** scale, shown, where)
 
 
 def _strip_unit(text: str) -> str:
@@ -68,7 +103,8 @@ def parse_value(text: str | int | float | Fraction | sympy.Rational, *, where: s
     Raises
     ------
     ValueParseError
-        When the text is not a value, or is NaN or infinite.
+        When the text is not a value, is NaN or infinite, or lies outside
+        1e-24 ... 1e24 in magnitude (zero is allowed here; parts refuse it).
 
     Examples
     --------
@@ -82,46 +118,51 @@ def parse_value(text: str | int | float | Fraction | sympy.Rational, *, where: s
     True
     >>> parse_value("1R5")
     3/2
+    >>> parse_value("4x7", where="part R1")
+    Traceback (most recent call last):
+    ...
+    symfilt.errors.ValueParseError: part R1: value '4x7' has an unknown suffix 'x7', use an SI prefix (f p n u µ m k M G T), an RKM letter (R, as in 1R5) and optionally a unit (Ω ohm F H Hz V A)
     """
     if isinstance(text, bool):
         raise ValueParseError(where, f"value {text!r} is not a number", f"write {_ACCEPTED}")
     if isinstance(text, sympy.Rational):
-        return text
+        return _in_range(text, _shown(str(text)) if text.q < 10**30 and abs(text.p) < 10**30 else "(a long fraction)", where)
     if isinstance(text, Fraction):
-        return sympy.Rational(text.numerator, text.denominator)
+        return parse_value(sympy.Rational(text.numerator, text.denominator), where=where)
     if isinstance(text, int):
-        return sympy.Integer(text)
+        # a huge integer is refused before it is ever written out in full
+        if text.bit_length() > 100:
+            raise ValueParseError(where, f"a value of about {int(text.bit_length() * 0.30103)} digits is out of range", _RANGE)
+        return _in_range(sympy.Integer(text), _shown(str(text)), where)
     if isinstance(text, float):
         if not math.isfinite(text):
             raise ValueParseError(where, f"value {text!r} is not finite", f"write {_ACCEPTED}")
-        return sympy.Rational(repr(text))
+        return _in_range(sympy.Rational(repr(text)), _shown(repr(text)), where)
     if not isinstance(text, str):
-        raise ValueParseError(where, f"value of type {type(text).__name__} is not understood", f"write {_ACCEPTED}")
-    raw = text
+        kind = {"list": "a list", "dict": "a table"}.get(type(text).__name__, f"a {type(text).__name__}")
+        raise ValueParseError(where, f"{kind} is not a value", f"write {_ACCEPTED}")
+    shown = _shown(text)
     body = " ".join(text.split())
-    if len(body) > 64:
-        raise ValueParseError(where, f"value text is {len(body)} characters long", "write a value of at most 64 characters")
-    if body.lower() in {"nan", "inf", "+inf", "-inf", "infinity", "-infinity"}:
-        raise ValueParseError(where, f"value {raw!r} is not finite", f"write {_ACCEPTED}")
+    if len(body) > MAX_VALUE_CHARS:
+        raise ValueParseError(where, f"value text is {len(body)} characters long",
+                              f"write a value of at most {MAX_VALUE_CHARS} characters")
+    if body.lower() in {"nan", "+nan", "-nan", "inf", "+inf", "-inf", "infinity", "+infinity", "-infinity"}:
+        raise ValueParseError(where, f"value {shown} is not finite", f"write {_ACCEPTED}")
     body = _strip_unit(body).replace(" ", "")
     if (m := _RATIO.match(body)) is not None:
         q = int(m["q"])
         if q == 0:
-            raise ValueParseError(where, f"value {raw!r} divides by zero", f"write {_ACCEPTED}")
-        return sympy.Rational(int(m["p"]), q)
+            raise ValueParseError(where, f"value {shown} divides by zero", f"write {_ACCEPTED}")
+        return _in_range(sympy.Rational(int(m["p"]), q), shown, where)
     if (m := _PLAIN.match(body)) is not None:
-        number = sympy.Rational(m["num"])
-        power = PREFIXES.get(m["prefix"], 0)
-        return number * sympy.Rational(10) ** power
+        return _decimal(m["num"], PREFIXES.get(m["prefix"], 0), shown, where)
     if (m := _RKM.match(body)) is not None:
-        number = sympy.Rational(f"{m['int']}.{m['frac']}")
         power = 0 if m["letter"] == "R" else PREFIXES[m["letter"]]
-        return number * sympy.Rational(10) ** power
-    suffix = re.sub(rf"^[+-]?{_NUMBER}", "", body)
+        return _decimal(f"{m['sign']}{m['int'] or '0'}.{m['frac']}", power, shown, where)
+    suffix = _LEADING_NUMBER.sub("", body)
     if suffix and suffix != body:
-        raise ValueParseError(where, f"value {raw!r} has an unknown suffix {suffix!r}",
-                              "use an SI prefix (p n u µ m k M G) and optionally a unit (Ω ohm F H Hz)")
-    raise ValueParseError(where, f"value {raw!r} is not understood", f"write {_ACCEPTED}")
+        raise ValueParseError(where, f"value {shown} has an unknown suffix {_shown(suffix)}", _SUFFIXES)
+    raise ValueParseError(where, f"value {shown} is not understood", f"write {_ACCEPTED}")
 
 
 _FORMAT_PREFIXES = [(12, "T"), (9, "G"), (6, "M"), (3, "k"), (0, ""), (-3, "m"), (-6, "µ"), (-9, "n"), (-12, "p"), (-15, "f")]
