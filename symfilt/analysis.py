@@ -358,7 +358,42 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
         g = num(dc)
         out["dc_gain"] = g
         out["dc_gain_db"] = 20 * math.log10(abs(g)) if g not in (None, 0) else None
+    stab = stability(stage.transfer, values)
+    if stab is not None:
+        out["stability"] = stab
     return out
+
+
+def stability(h: NetworkFunction, values: Mapping) -> str | None:
+    """``stable``, ``marginal`` (poles on the jw axis) or ``unstable`` (poles in the right
+    half-plane) at the given values; None when a symbol has no value.
+
+    Poles are the roots of the denominator at the values (sympy nroots, 30 digits).
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> stability(NetworkFunction.from_expr(1 / (1 + S * R * C)), {R: 1, C: 1})
+    'stable'
+    >>> stability(NetworkFunction.from_expr(1 / (1 + S**2)), {})
+    'marginal'
+    """
+    if h.infinite:
+        return None
+    den = sympy.expand(h.den.xreplace(dict(values)))
+    if den.free_symbols - {S}:
+        return None
+    poly = sympy.Poly(den, S)
+    if poly.degree() < 1:
+        return "stable"
+    roots = [complex(r) for r in poly.nroots(n=30, maxsteps=200)]
+    scale = max(1.0, max(abs(r) for r in roots))
+    worst = max(r.real for r in roots)
+    if worst > 1e-12 * scale:
+        return "unstable"
+    if worst > -1e-12 * scale:
+        return "marginal"
+    return "stable"
 
 
 @dataclass(frozen=True)

@@ -413,6 +413,10 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
             # the branch current flows from the node into the source: Yin = -I
             n, d = cancel_ratio(-den, num)
             return NetworkFunction(n, d, quantity)
+    if quantity == "transfer":
+        from .structure import check_solvable
+
+        check_solvable(circuit, modes=("transfer",))  # names the nodes and parts of a singular setup
     return _solved(circuit, quantity, max_terms, progress, where)
 
 

@@ -123,7 +123,8 @@ def _numbers(a: Analysis) -> list[str]:
     def add(label, key, unit="", raw=False):
         if key not in lo and key not in hi:
             return
-        f = (lambda v: "—" if v is None else f"{v:.6g}") if raw else (lambda v: "—" if v is None else format_value(v, unit))
+        f = (lambda v: "undefined" if v is None else f"{v:.6g}") if raw else (
+            lambda v: "undefined" if v is None else format_value(v, unit))
         ratio = a.ratio(key)
         rows.append(f"  {label:<14}{f(lo.get(key)):>16}{f(hi.get(key)):>16}{'' if ratio is None else f'{ratio:.4f}':>15}")
 
@@ -136,7 +137,17 @@ def _numbers(a: Analysis) -> list[str]:
     if "dc_gain_db" in lo or "dc_gain_db" in hi:
         f = lambda v: "—" if v is None else f"{v:.3f} dB"
         rows.append(f"  {'DC gain (dB)':<14}{f(lo.get('dc_gain_db')):>16}{f(hi.get('dc_gain_db')):>16}")
-    return rows if len(rows) > 1 else []
+    if "stability" in lo or "stability" in hi:
+        rows.append(f"  {'poles':<14}{lo.get('stability', '—'):>16}{hi.get('stability', '—'):>16}")
+    if len(rows) == 1:
+        return []
+    if any(v is None for d in (lo, hi) for k, v in d.items() if k != "dc_gain_db"):
+        rows.append("  undefined: the formula divides by zero at these values (the formulas above still hold)")
+    for key, d in (("loaded", lo), ("ideal", hi)):
+        if d.get("stability") in ("unstable", "marginal"):
+            where = "in the right half-plane" if d["stability"] == "unstable" else "on the jω axis"
+            rows.append(f"  WARNING ({key}): poles {where}: the stage oscillates or latches at these values")
+    return rows
 
 
 def _sens_table(a: Analysis, st: StageResult, key: str) -> list[str]:
@@ -151,7 +162,7 @@ def _sens_table(a: Analysis, st: StageResult, key: str) -> list[str]:
     if all(q in numeric for q in quantities):
         out.append(f"  {'S_x^y':<10}" + "".join(f"{q:>12}" for q in quantities))
         for n in names:
-            out.append(f"  {n:<10}" + "".join(f"{numeric[q][n]:>12.4f}" if numeric[q][n] is not None else f"{'—':>12}"
+            out.append(f"  {n:<10}" + "".join(f"{numeric[q][n]:>12.4f}" if numeric[q][n] is not None else f"{'undefined':>12}"
                                                for q in quantities))
     else:
         for q in quantities:
