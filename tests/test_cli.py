@@ -166,3 +166,31 @@ def test_check_hostile_claim_exits_2_and_runs_nothing(run_cli, claim, tmp_path, 
     assert code == 2 and out == ""
     assert err.startswith("error: ") and len(err.strip().splitlines()) == 1
     assert list(tmp_path.iterdir()) == []
+
+
+K3 = '''title = "Equal-component Sallen-Key at K = 3"
+[parts]
+R1 = { kind = "resistor", nodes = ["in", "a"], value = "10k" }
+R2 = { kind = "resistor", nodes = ["a", "b"], value = "10k" }
+C1 = { kind = "capacitor", nodes = ["a", "out"], value = "10n" }
+C2 = { kind = "capacitor", nodes = ["b", "0"], value = "10n" }
+U1 = { kind = "opamp", plus = "b", minus = "f", out = "out" }
+Rf = { kind = "resistor", nodes = ["out", "f"], value = "20k" }
+Rg = { kind = "resistor", nodes = ["f", "0"], value = "10k" }
+'''
+
+
+def test_undefined_at_these_values(run_cli, tmp_path):
+    # Equal-component Sallen-Key, Q = 1/(3 - K) (Horowitz & Hill, 3rd ed., ch. 6; from memory):
+    # K = 1 + Rf/Rg = 3 makes Q infinite and puts the poles on the jw axis. The formulas stay;
+    # the number is reported as undefined, with a warning, and nothing crashes.
+    f = tmp_path / "k3.toml"
+    f.write_text(K3)
+    code, out, err = run_cli("derive", str(f))
+    assert code == 0, err
+    assert "undefined" in out and "poles on the jω axis" in out
+    code, out, _ = run_cli("derive", str(f), "--format", "json")
+    data = json.loads(out)
+    assert data["numeric"]["ideal"]["q"] is None
+    assert data["numeric"]["ideal"]["stability"] == "marginal"
+    assert data["ideal"]["q"] is not None  # the closed form is still there
