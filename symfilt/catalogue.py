@@ -16,8 +16,10 @@ from typing import Callable
 
 from .circuit import Circuit, Part
 from .errors import UsageError
+from .values import parse_value
 
 R, C, L, U = Part.resistor, Part.capacitor, Part.inductor, Part.opamp
+R_, C_ = R, C  # for builders whose parameters are called R and C
 
 
 def rc_lowpass(R1="4k7", C1="22n", source="600", load="10k", load_capacitance=None) -> Circuit:
@@ -100,6 +102,135 @@ def mfb_lowpass(R1="5k6", R2="12k", R3="8k2", C1="47n", C2="2n2", source="600", 
                          title="Multiple-feedback low-pass")
 
 
+def sallen_key_highpass(C1="15n", C2="15n", R1="5k1", R2="10k", source="50", load="10k",
+                        load_capacitance=None) -> Circuit:
+    """Unity-gain Sallen-Key high-pass: C1 in->a, C2 a->b, R1 a->out (feedback), R2 b->ground, follower b->out.
+
+    Examples
+    --------
+    >>> sallen_key_highpass().part("R1").nodes
+    ('a', 'out')
+    """
+    return Circuit.build([C("C1", "in", "a", C1), C("C2", "a", "b", C2), R("R1", "a", "out", R1),
+                          R("R2", "b", "0", R2), U("U1", "b", "out", "out")], source=source, load=load,
+                         load_capacitance=load_capacitance, title="Sallen-Key high-pass, unity gain")
+
+
+def sallen_key_lowpass_gain(R="8k2", C="6n8", Rf="5k6", Rg="10k", source="50", load="2k",
+                            load_capacitance=None) -> Circuit:
+    """Equal-component Sallen-Key low-pass with gain K = 1 + Rf/Rg.
+
+    R1 in->a and R2 a->b both take ``R``; C1 a->out (feedback) and C2 b->ground both take
+    ``C``; the op-amp has + at b, - at f, Rf out->f and Rg f->ground.
+
+    Examples
+    --------
+    >>> c = sallen_key_lowpass_gain()
+    >>> c.part("R1").value == c.part("R2").value, c.part("Rf").nodes
+    (True, ('out', 'f'))
+    """
+    return Circuit.build([R_("R1", "in", "a", R), R_("R2", "a", "b", R), C_("C1", "a", "out", C),
+                          C_("C2", "b", "0", C), U("U1", "b", "f", "out"), R_("Rf", "out", "f", Rf),
+                          R_("Rg", "f", "0", Rg)], source=source, load=load,
+                         load_capacitance=load_capacitance, title="Sallen-Key low-pass, equal components, gain K")
+
+
+def mfb_bandpass(R1="22k", R2="2k2", R3="100k", C1="10n", C2="10n", source="600", load="10k",
+                 load_capacitance=None) -> Circuit:
+    """Multiple-feedback band-pass, inverting.
+
+    R1 in->x, R2 x->ground, C1 x->out, C2 x->n, R3 n->out (feedback); op-amp + at ground, - at n.
+
+    Examples
+    --------
+    >>> mfb_bandpass().part("C2").nodes
+    ('x', 'n')
+    """
+    return Circuit.build([R("R1", "in", "x", R1), R("R2", "x", "0", R2), C("C1", "x", "out", C1),
+                          C("C2", "x", "n", C2), R("R3", "n", "out", R3), U("U1", "0", "n", "out")],
+                         source=source, load=load, load_capacitance=load_capacitance,
+                         title="Multiple-feedback band-pass")
+
+
+def twin_t_notch(R="10k", C="15n", source="50", load="100k", load_capacitance=None) -> Circuit:
+    """Passive twin-T notch: R, R, R/2 and C, C, 2C, balanced for a notch at 1/(2 pi R C).
+
+    R1 in->a, R2 a->out, C3 (2C) a->ground; C1 in->m, C2 m->out, R3 (R/2) m->ground.
+
+    Examples
+    --------
+    >>> c = twin_t_notch(R="10k", C="15n")
+    >>> c.part("R3").value, c.part("C3").value
+    (5000, 3/100000000)
+    """
+    half = None if R is None else parse_value(R, where="R") / 2
+    double = None if C is None else parse_value(C, where="C") * 2
+    return Circuit.build([R_("R1", "in", "a", R), R_("R2", "a", "out", R), C_("C3", "a", "0", double),
+                          C_("C1", "in", "m", C), C_("C2", "m", "out", C), R_("R3", "m", "0", half)],
+                         source=source, load=load, load_capacitance=load_capacitance, title="Twin-T notch, passive")
+
+
+#: Largest number of sections of :func:`rc_ladder`.
+MAX_LADDER = 12
+
+
+def rc_ladder(n=3, R="10k", C="10n", source="600", load="100k", load_capacitance=None) -> Circuit:
+    """Passive RC ladder of ``n`` sections: Rk from node k-1 to node k, Ck from node k to ground.
+
+    Node 0 is ``in``, node n is ``out``, the nodes between are ``n1``, ``n2``, ...
+    Every section takes the same ``R`` and ``C``.
+
+    Examples
+    --------
+    >>> [p.name for p in rc_ladder(2).parts]
+    ['R1', 'C1', 'R2', 'C2']
+    >>> rc_ladder(2).part("R2").nodes
+    ('n1', 'out')
+    """
+    try:
+        count = int(n)
+    except (TypeError, ValueError):
+        raise UsageError("rc-ladder n", f"{n!r} is not a whole number", f"give n from 1 to {MAX_LADDER}") from None
+    if str(count) != str(n).strip() or not 1 <= count <= MAX_LADDER:
+        raise UsageError("rc-ladder n", f"{n!r} sections", f"give a whole number from 1 to {MAX_LADDER}")
+    node = lambda k: "in" if k == 0 else ("out" if k == count else f"n{k}")
+    parts = []
+    for k in range(1, count + 1):
+        parts += [R_(f"R{k}", node(k - 1), node(k), R), C_(f"C{k}", node(k), "0", C)]
+    return Circuit.build(parts, source=source, load=load, load_capacitance=load_capacitance,
+                         title=f"RC ladder, {count} section{'s' if count > 1 else ''}")
+
+
+#: Outputs of :func:`state_variable`.
+STATE_VARIABLE_OUTPUTS = {"lp": "low-pass", "bp": "band-pass", "hp": "high-pass"}
+
+
+def state_variable(output="lp", R1="10k", R2="10k", R3="10k", R4="11k", R5="10k", R6="10k", R7="10k",
+                   C1="16n", C2="16n", source="50", load="10k", load_capacitance=None) -> Circuit:
+    """State-variable filter, three op-amps, with low-, band- and high-pass outputs.
+
+    U1 (summing): R1 in->n1, R2 lp->n1, R3 hp->n1 (feedback), R4 bp->p1, R5 p1->ground,
+    + at p1, - at n1, output hp. U2 (integrator): R6 hp->n2, C1 n2->bp, + at ground,
+    output bp. U3 (integrator): R7 bp->n3, C2 n3->lp, + at ground, output lp.
+    ``output`` picks the output port: ``"lp"``, ``"bp"`` or ``"hp"``.
+
+    Examples
+    --------
+    >>> state_variable(output="bp").output
+    'bp'
+    """
+    key = str(output).strip().lower()
+    if key not in STATE_VARIABLE_OUTPUTS:
+        raise UsageError("state-variable output", f"{output!r} is not an output of this stage",
+                         "use one of " + ", ".join(STATE_VARIABLE_OUTPUTS))
+    parts = [R_("R1", "in", "n1", R1), R_("R2", "lp", "n1", R2), R_("R3", "hp", "n1", R3),
+             R_("R4", "bp", "p1", R4), R_("R5", "p1", "0", R5), U("U1", "p1", "n1", "hp"),
+             R_("R6", "hp", "n2", R6), C_("C1", "n2", "bp", C1), U("U2", "0", "n2", "bp"),
+             R_("R7", "bp", "n3", R7), C_("C2", "n3", "lp", C2), U("U3", "0", "n3", "lp")]
+    return Circuit.build(parts, output=key, source=source, load=load, load_capacitance=load_capacitance,
+                         title=f"State-variable filter, {STATE_VARIABLE_OUTPUTS[key]} output")
+
+
 @dataclass(frozen=True)
 class Entry:
     """A catalogue entry: its builder and a one-line description."""
@@ -116,6 +247,14 @@ CATALOGUE: dict[str, Entry] = {e.name: e for e in [
     Entry("noninverting-lowpass", noninverting_lowpass, "RC low-pass buffered by a non-inverting gain stage"),
     Entry("sallen-key-lowpass", sallen_key_lowpass, "second-order Sallen-Key low-pass, unity-gain follower"),
     Entry("mfb-lowpass", mfb_lowpass, "second-order multiple-feedback low-pass, inverting"),
+    Entry("sallen-key-highpass", sallen_key_highpass, "second-order Sallen-Key high-pass, unity-gain follower"),
+    Entry("sallen-key-lowpass-gain", sallen_key_lowpass_gain,
+          "second-order Sallen-Key low-pass, equal R and C, gain K = 1 + Rf/Rg"),
+    Entry("mfb-bandpass", mfb_bandpass, "second-order multiple-feedback band-pass, inverting"),
+    Entry("twin-t-notch", twin_t_notch, "passive twin-T notch (R, R, R/2 and C, C, 2C)"),
+    Entry("rc-ladder", rc_ladder, "passive RC ladder of n equal sections (n = 3 by default)"),
+    Entry("state-variable", state_variable,
+          "three-op-amp state-variable filter; output = lp, bp or hp (lp by default)"),
 ]}
 
 

@@ -343,6 +343,83 @@ def drive(circuit, amplitude, frequency, fmt):
         _emit(design_report.drive_text(result))
 
 
+def _frequency(text, where: str):
+    """A frequency option in Hz, written like a part value (``10``, ``1k``, ``2.5 kHz``); None stays None."""
+    if text is None:
+        return None
+    from .values import parse_value
+
+    value = parse_value(text, where=where)
+    if value <= 0:
+        raise UsageError(where, f"{text!r} is not a positive frequency", "give a frequency in Hz, e.g. 10 or 1k")
+    return float(value)
+
+
+def _inputs(circuit: str) -> list:
+    """The input file (never to be overwritten), or nothing for a built-in circuit."""
+    return [] if circuit.startswith("@") else [circuit]
+
+
+@cli.command()
+@click.argument("circuit")
+@click.option("-o", "--output", "output", required=True, type=click.Path(dir_okay=False),
+              help="Note file: .html (standalone page), .md (with the plot as <name>-bode.svg beside it) or .tex.")
+@click.option("--fmin", metavar="HZ", help="Lowest frequency of the Bode plot (e.g. 10 or 1k).")
+@click.option("--fmax", metavar="HZ", help="Highest frequency of the Bode plot.")
+@click.option("--opamp-model", type=click.Choice(["ideal", "gain", "single-pole"]),
+              help="Switch every op-amp to this model.")
+def note(circuit, output, fmin, fmax, opamp_model):
+    """Write a design note for CIRCUIT (a file or @name): parts, equations, loaded vs ideal, sensitivities, Bode plot."""
+    from .export.note import write_note
+
+    c = load(circuit)
+    if opamp_model:
+        c = c.with_opamp_model(opamp_model)
+    written = write_note(c, output, protect=_inputs(circuit), source=circuit,
+                         fmin=_frequency(fmin, "--fmin"), fmax=_frequency(fmax, "--fmax"), progress=_progress())
+    for p in written:
+        click.echo(f"wrote {p}", err=True)
+
+
+@cli.command()
+@click.argument("circuit")
+@click.option("-o", "--output", "output", type=click.Path(dir_okay=False), help="Plot file: .svg or .png.")
+@click.option("--csv", "csv_file", type=click.Path(dir_okay=False), help="Also write the sweep data as CSV.")
+@click.option("--fmin", metavar="HZ", help="Lowest frequency (e.g. 10 or 1k); default two decades below the cutoff.")
+@click.option("--fmax", metavar="HZ", help="Highest frequency; default two decades above the cutoff.")
+@click.option("--points", type=click.IntRange(min=2, max=100_000), default=400, show_default=True,
+              help="Number of frequencies, logarithmically spaced.")
+@click.option("--opamp-model", type=click.Choice(["ideal", "gain", "single-pole"]),
+              help="Switch every op-amp to this model.")
+def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
+    """Draw the Bode plot of CIRCUIT (a file or @name), loaded and ideal overlaid."""
+    from .analysis import analyse
+    from .bode import bode_data, csv_text
+    from .outfile import write_text_atomic
+
+    if not output and not csv_file:
+        raise UsageError("plot", "nothing to write", "give -o FILE (.svg or .png) and/or --csv FILE")
+    if output:
+        from .plot import FORMATS
+
+        if Path(output).suffix.lower() not in FORMATS:
+            raise UsageError(output, f"cannot draw to a {Path(output).suffix or 'suffix-less'} file",
+                             "name the plot file .svg or .png")
+    c = load(circuit)
+    if opamp_model:
+        c = c.with_opamp_model(opamp_model)
+    a = analyse(c, sensitivity=False, progress=_progress())
+    data = bode_data(a, None, _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"), points)
+    if csv_file:
+        write_text_atomic(csv_file, csv_text(data), protect=_inputs(circuit))
+        click.echo(f"wrote {csv_file}", err=True)
+    if output:
+        from .plot import plot_bode
+
+        plot_bode(data, output, protect=_inputs(circuit))
+        click.echo(f"wrote {output}", err=True)
+
+
 @cli.command()
 def demo():
     """Run the built-in scenario: a sensor into an ADC, passive versus buffered."""

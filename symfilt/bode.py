@@ -1,0 +1,204 @@
+"""Bode sweep data: |H(j2πf)| in dB and its phase in degrees, loaded and ideal.
+
+Only numbers here (numpy, imported inside the functions); :mod:`symfilt.plot`
+draws them and :func:`csv_text` writes them as CSV. The transfer functions are
+the exact ones of the analysis, evaluated at the circuit's values.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass, field
+from typing import Mapping
+
+from .errors import UsageError
+
+#: Default number of frequencies in a sweep.
+DEFAULT_POINTS = 400
+#: Limits on the number of frequencies.
+MIN_POINTS, MAX_POINTS = 2, 100_000
+#: Decades shown on each side of the characteristic frequencies when no range is given.
+MARGIN_DECADES = 2
+
+
+@dataclass(frozen=True)
+class BodeData:
+    """A frequency sweep of one stage, loaded and ideal.
+
+    Attributes
+    ----------
+    f : numpy.ndarray
+        Frequencies in Hz, logarithmically spaced.
+    loaded_db, ideal_db : numpy.ndarray
+        20 log10 |H(j 2 pi f)| (``-inf`` at an exact transmission zero).
+    loaded_phase, ideal_phase : numpy.ndarray
+        Phase in degrees, unwrapped along the sweep, starting within (-180, 180].
+    marks : dict
+        Frequencies to mark, label -> Hz (cutoffs, band edges, centre or notch frequency),
+        for ``loaded`` and ``ideal``: ``{"loaded": {...}, "ideal": {...}}``.
+    title : str
+    """
+
+    f: object
+    loaded_db: object
+    loaded_phase: object
+    ideal_db: object
+    ideal_phase: object
+    marks: dict = field(default_factory=dict)
+    title: str = ""
+
+
+def missing_values(h, values: Mapping) -> list[str]:
+    """Names of the symbols of ``h`` (other than s) that have no value in ``values``.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.network import derive
+    >>> missing_values(derive(catalogue.build("rc-lowpass", R1=None)), {})
+    ['C1', 'R1', 'R_L', 'R_s']
+    """
+    from .circuit import S
+
+    known = {str(k) for k in values}
+    return sorted(str(x) for x in h.free_symbols() - {S} if str(x) not in known)
+
+
+def _response(h, values: Mapping, f):
+    import numpy as np
+
+    with np.errstate(divide="ignore", invalid="ignore"):
+        hv = h.evaluate(values, 2j * np.pi * f)
+        mag = 20 * np.log10(np.abs(hv))
+    phase = np.degrees(np.unwrap(np.angle(hv)))
+    # start the unwrapped phase within (-180, 180]
+    shift = 360.0 * math.floor((phase[0] + 180.0) / 360.0) if math.isfinite(phase[0]) else 0.0
+    if phase[0] - shift <= -180.0:
+        shift -= 360.0
+    return mag, phase - shift
+
+
+def _marks_of(numeric: Mapping) -> dict:
+    out = {}
+    for key, label in (("cutoff_hz", "cutoff"), ("low_edge_hz", "lower edge"), ("high_edge_hz", "upper edge")):
+        v = numeric.get(key)
+        if v is not None and math.isfinite(v) and v > 0:
+            out[label] = float(v)
+    if not out and numeric.get("f0_hz"):
+        out["f0"] = float(numeric["f0_hz"])
+    return out
+
+
+def default_range(marks: dict) -> tuple[float, float]:
+    """A sweep range two decades either side of the marked frequencies (10 Hz to 100 kHz without marks).
+
+    Examples
+    --------
+    >>> default_range({"loaded": {"cutoff": 1000.0}, "ideal": {"cutoff": 1200.0}})
+    (10.0, 1000000.0)
+    """
+    freqs = [v for view in marks.values() for v in view.values() if v and v > 0]
+    if not freqs:
+        return 10.0, 1e5
+    lo = 10.0 ** (math.floor(math.log10(min(freqs))) - MARGIN_DECADES)
+    hi = 10.0 ** (math.ceil(math.log10(max(freqs))) + MARGIN_DECADES)
+    return lo, hi
+
+
+def bode_data(source, values: Mapping | None = None, fmin: float | None = None, fmax: float | None = None,
+              points: int = DEFAULT_POINTS) -> BodeData:
+    """Sweep a stage's loaded and ideal transfer functions over frequency.
+
+    Parameters
+    ----------
+    source : Analysis or NetworkFunction
+        An analysis (its loaded and ideal transfer functions and numeric cutoffs), or a
+        loaded transfer function (its ideal view is taken with
+        :meth:`~symfilt.network.NetworkFunction.ideal`).
+    values : mapping, optional
+        Symbol (or name) -> number for every symbol but ``s``. Default: the circuit's
+        values (an analysis) or none.
+    fmin, fmax : float, optional
+        Sweep range in Hz; default two decades either side of the marked frequencies.
+    points : int
+        Number of frequencies, logarithmically spaced.
+
+    Returns
+    -------
+    BodeData
+
+    Raises
+    ------
+    UsageError
+        A symbol has no value, or the range or point count is not usable.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue, analyse
+    >>> d = bode_data(analyse(catalogue.build("rc-lowpass"), sensitivity=False), fmin=10, fmax=1e5, points=5)
+    >>> [round(x) for x in d.f]
+    [10, 100, 1000, 10000, 100000]
+    >>> round(float(d.ideal_db[0]), 3), round(float(d.loaded_db[0]), 3)
+    (-0.0, -3.694)
+    """
+    import numpy as np
+
+    from .analysis import Analysis, numeric_cutoff
+
+    if isinstance(source, Analysis):
+        loaded, ideal = source.loaded.transfer, source.ideal.transfer
+        vals = dict(source.circuit.values()) if values is None else dict(values)
+        marks = {"loaded": _marks_of(source.numeric.get("loaded", {})),
+                 "ideal": _marks_of(source.numeric.get("ideal", {}))}
+        title = source.circuit.title
+    else:
+        loaded, ideal = source, source.ideal()
+        vals = dict(values or {})
+        marks = {}
+        for key, h in (("loaded", loaded), ("ideal", ideal)):
+            w = numeric_cutoff(h, vals) if not missing_values(h, vals) else None
+            marks[key] = {} if w is None else {"cutoff": w / (2 * math.pi)}
+        title = ""
+    missing = missing_values(loaded, vals)
+    if missing:
+        raise UsageError("bode", "no value for " + ", ".join(missing),
+                         "give every part, source and load a value to plot the response")
+    try:
+        n = int(points)
+    except (TypeError, ValueError):
+        raise UsageError("bode points", f"{points!r} is not a whole number",
+                         f"give {MIN_POINTS} to {MAX_POINTS} points") from None
+    if not MIN_POINTS <= n <= MAX_POINTS:
+        raise UsageError("bode points", f"{n} points", f"give {MIN_POINTS} to {MAX_POINTS} points")
+    lo, hi = default_range(marks)
+    lo = float(fmin) if fmin is not None else (lo if fmax is None or lo < float(fmax) else float(fmax) / 1e4)
+    hi = float(fmax) if fmax is not None else (hi if hi > lo else lo * 1e4)
+    if not (math.isfinite(lo) and math.isfinite(hi) and 0 < lo < hi):
+        raise UsageError("bode range", f"fmin {lo:g} Hz and fmax {hi:g} Hz",
+                         "give 0 < fmin < fmax in Hz")
+    f = np.geomspace(lo, hi, n)
+    l_db, l_ph = _response(loaded, vals, f)
+    i_db, i_ph = _response(ideal, vals, f)
+    return BodeData(f, l_db, l_ph, i_db, i_ph, marks, title)
+
+
+def csv_text(data: BodeData) -> str:
+    """The sweep as CSV: frequency_hz, loaded_db, loaded_phase_deg, ideal_db, ideal_phase_deg.
+
+    Numbers are written with 10 significant digits; an exact zero of transmission is ``-inf``.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue, analyse
+    >>> d = bode_data(analyse(catalogue.build("rc-lowpass"), sensitivity=False), fmin=100, fmax=1000, points=2)
+    >>> print(csv_text(d), end="")
+    frequency_hz,loaded_db,loaded_phase_deg,ideal_db,ideal_phase_deg
+    100,-3.703774901,-2.741435466,-0.01829237877,-3.717175982
+    1000,-4.590351328,-25.58678743,-1.529258214,-33.01103146
+    """
+    rows = ["frequency_hz,loaded_db,loaded_phase_deg,ideal_db,ideal_phase_deg"]
+    fmt = lambda x: f"{float(x):.10g}"
+    for k in range(len(data.f)):
+        rows.append(",".join(fmt(v[k]) for v in (data.f, data.loaded_db, data.loaded_phase,
+                                                 data.ideal_db, data.ideal_phase)))
+    return "\n".join(rows) + "\n"

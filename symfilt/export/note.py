@@ -1,0 +1,610 @@
+"""Design notes: one analysed stage as a document for a design review.
+
+Three forms, written from the same rows so that they say the same thing:
+
+* HTML (:func:`symfilt.export.note_html.note_html`): one standalone page, no scripts and no network; equations
+  as MathML, the Bode plot as inline SVG.
+* Markdown (:func:`note_markdown`): tables, ``$$`` LaTeX equations and the plot as an
+  SVG file beside the note.
+* LaTeX (:func:`note_latex`): an ``align`` fragment to paste into a report.
+
+Every number shown is a number of the analysis (the same floats that
+``symfilt derive --format json`` writes), rounded for display to 4 significant digits.
+In the HTML each one carries its JSON path and exact value in ``data-key`` and
+``data-value`` attributes.
+"""
+
+from __future__ import annotations
+
+import math
+from pathlib import Path
+
+from ..analysis import Analysis, StageResult
+from ..values import format_value
+from .latex import stage_equations
+
+#: Numeric quantities of the loaded-versus-ideal table: JSON key, label, LaTeX label, unit.
+QUANTITIES = (
+    ("cutoff_hz", "cutoff frequency", "f_{c}", "Hz"),
+    ("low_edge_hz", "lower band edge", "f_{L}", "Hz"),
+    ("high_edge_hz", "upper band edge", "f_{H}", "Hz"),
+    ("f0_hz", "natural frequency", "f_{0}", "Hz"),
+    ("q", "quality factor", "Q", ""),
+    ("dc_gain", "DC gain", "H(0)", ""),
+    ("dc_gain_db", "DC gain", "20 \\log_{10} \\left|H(0)\\right|", "dB"),
+)
+#: Quantities whose loaded/ideal ratio the analysis reports.
+RATIO_KEYS = ("cutoff_hz", "f0_hz", "q", "dc_gain")
+#: Sensitivity columns: key, plain label, LaTeX of the quantity.
+SENS_COLUMNS = (("cutoff", "ω_c", "\\omega_{c}"), ("w0", "ω_0", "\\omega_{0}"), ("q", "Q", "Q"),
+                ("dc_gain", "H(0)", "H(0)"))
+_UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
+_ORDINALS = ("zeroth", "first", "second", "third", "fourth", "fifth", "sixth", "seventh", "eighth",
+             "ninth", "tenth", "eleventh", "twelfth")
+_KINDS = {"lowpass": "low-pass", "highpass": "high-pass", "bandpass": "band-pass", "notch": "notch",
+          "allpass": "all-pass", "general": "response"}
+_VIEWS = (("loaded", "Loaded (as connected)"), ("ideal", "Ideal (the stage alone)"))
+
+
+# --- numbers -------------------------------------------------------------------
+
+def plain_number(x: float) -> str:
+    """A dimensionless number to 4 significant digits (``-0.4964``, ``1.936``, ``0``).
+
+    Examples
+    --------
+    >>> plain_number(0.80757432), plain_number(-1.935483), plain_number(0.0), plain_number(-0.5)
+    ('0.8076', '-1.935', '0', '-0.5')
+    """
+    if x == 0:
+        return "0"
+    return f"{x:.4g}"
+
+
+def show_number(x: float | None, unit: str = "") -> str:
+    """A number for display: engineering prefix with a unit (Hz, Ω, F), plain otherwise; ``—`` for None.
+
+    Examples
+    --------
+    >>> show_number(3068.2566, "Hz"), show_number(-3.69398, "dB"), show_number(None)
+    ('3.068 kHz', '-3.694 dB', '—')
+    """
+    if x is None or (isinstance(x, float) and not math.isfinite(x)):
+        return "—"
+    if unit in ("", "dB"):
+        return plain_number(float(x)) + (f" {unit}" if unit else "")
+    return format_value(x, unit)
+
+
+def kind_words(st: StageResult) -> str:
+    """The response in words: ``second-order low-pass``.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> kind_words(analyse(catalogue.build("rc-ladder"), sensitivity=False).ideal)
+    'third-order response'
+    """
+    order = st.transfer.order()
+    ordinal = _ORDINALS[order] if order < len(_ORDINALS) else f"order-{_ORDINALS[-1]}-plus"
+    return f"{ordinal}-order {_KINDS.get(st.form.kind, st.form.kind)}"
+
+
+def _symbol_unit(name: str, info: dict) -> str:
+    if info["role"] == "part":
+        return _UNITS.get(info.get("kind", ""), "")
+    if name == "C_L":
+        return "F"
+    if info["role"] in ("source", "load"):
+        return "Ω"
+    return "Hz" if name.startswith("GBW_") else ""
+
+
+def node_name(n: str) -> str:
+    """A node's name for a reader: ground is ``ground``.
+
+    Examples
+    --------
+    >>> node_name("0"), node_name("out")
+    ('ground', 'out')
+    """
+    return "ground" if n == "0" else n
+
+
+def part_rows(a: Analysis) -> list[dict]:
+    """One row per part and fixture: name, kind, connection, value text and its JSON path.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> r = part_rows(analyse(catalogue.build("rc-lowpass"), sensitivity=False))[0]
+    >>> r["name"], r["connection"], r["value"], r["key"]
+    ('R1', 'in → out', '4.7 kΩ', 'symbols.R1.value')
+    """
+    c = a.circuit
+    symbols = c.symbols()
+    rows = []
+
+    def value_row(name, kind, connection):
+        info = symbols.get(name)
+        v = None if info is None else info["value"]
+        text = "symbolic" if v is None else format_value(v, _symbol_unit(name, info))
+        rows.append({"name": name, "kind": kind, "connection": connection, "value": text,
+                     "key": None if v is None else f"symbols.{name}.value", "exact": None if v is None else str(v)})
+
+    for p in c.parts:
+        if p.kind == "opamp":
+            plus, minus, out = (node_name(n) for n in p.nodes)
+            conn = f"+ at {plus}, − at {minus}, output at {out}"
+            if p.model == "ideal":
+                rows.append({"name": p.name, "kind": "op-amp, ideal model", "connection": conn,
+                             "value": "—", "key": None, "exact": None})
+            else:
+                rows.append({"name": p.name, "kind": f"op-amp, {p.model} model", "connection": conn,
+                             "value": "", "key": None, "exact": None})
+                value_row(f"A_{p.name}", f"open-loop gain of {p.name}", "—")
+                if p.model == "single-pole":
+                    value_row(f"GBW_{p.name}", f"gain-bandwidth of {p.name}", "—")
+        elif p.kind in ("resistor", "capacitor", "inductor"):
+            value_row(p.name, p.kind, " → ".join(node_name(n) for n in p.nodes))
+        else:
+            conn = " → ".join(node_name(n) for n in p.nodes[:2])
+            if p.control:
+                conn += f", controlled by the current in {p.control}"
+            else:
+                conn += f", controlled by {node_name(p.nodes[2])} − {node_name(p.nodes[3])}"
+            value_row(p.name, p.kind, conn)
+    if c.source.present:
+        value_row("R_s", "source resistance", f"in series with the source, into {node_name(c.input)}")
+    if c.load_resistance.present:
+        value_row("R_L", "load resistance", f"{node_name(c.output)} → ground")
+    if c.load_capacitance.present:
+        value_row("C_L", "load capacitance", f"{node_name(c.output)} → ground")
+    return rows
+
+
+#: Words for the stability of the poles at the parts' values.
+STABILITY_WORDS = {"stable": "stable", "marginal": "marginal (poles on the jω axis)",
+                   "unstable": "unstable (poles in the right half-plane)"}
+
+
+def stability_row(a: Analysis) -> dict | None:
+    """The poles' stability at the parts' values, loaded and ideal (None when a value is missing).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> r = stability_row(analyse(catalogue.build("rc-lowpass"), sensitivity=False))
+    >>> r["loaded"]["text"], r["loaded"]["key"]
+    ('stable', 'numeric.loaded.stability')
+    """
+    cells = {}
+    for view in ("loaded", "ideal"):
+        v = a.numeric.get(view, {}).get("stability")
+        cells[view] = {"value": v, "text": STABILITY_WORDS.get(v, "—") if v else "—",
+                       "key": f"numeric.{view}.stability" if v else None}
+    if cells["loaded"]["value"] is None and cells["ideal"]["value"] is None:
+        return None
+    return {"label": "poles at these values", **cells}
+
+
+def number_rows(a: Analysis) -> list[dict]:
+    """Rows of the loaded-versus-ideal table: label, unit, and for each of loaded, ideal and
+    ratio the value, its display text and its JSON path (None where absent).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> r = number_rows(analyse(catalogue.build("rc-lowpass"), sensitivity=False))[0]
+    >>> r["label"], r["loaded"]["text"], r["ideal"]["text"], r["ratio"]["text"]
+    ('cutoff frequency', '2.088 kHz', '1.539 kHz', '1.357')
+    """
+    rows = []
+    for key, label, tex_label, unit in QUANTITIES:
+        lo, hi = a.numeric.get("loaded", {}), a.numeric.get("ideal", {})
+        if key not in lo and key not in hi:
+            continue
+        if lo.get(key) is None and hi.get(key) is None:
+            continue
+        row = {"key": key, "label": label, "tex": tex_label, "unit": unit}
+        for view, table in (("loaded", lo), ("ideal", hi)):
+            v = table.get(key)
+            ok = v is not None and math.isfinite(v)
+            row[view] = {"value": v if ok else None, "text": show_number(v if ok else None, unit),
+                         "key": f"numeric.{view}.{key}" if ok else None}
+        r = a.ratio(key) if key in RATIO_KEYS else None
+        ok = r is not None and math.isfinite(r)
+        row["ratio"] = {"value": r if ok else None, "text": plain_number(r) if ok else "—",
+                        "key": f"ratios.{key}" if ok else None}
+        rows.append(row)
+    return rows
+
+
+def sensitivity_table(a: Analysis, view: str) -> tuple[list[str], list[tuple[str, list[dict]]]]:
+    """Numeric sensitivities of one view: the quantity columns and, per symbol, one cell per column.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> cols, rows = sensitivity_table(analyse(catalogue.build("rc-lowpass")), "ideal")
+    >>> cols, rows[0][0], [c["text"] for c in rows[0][1]]
+    (['cutoff', 'w0', 'dc_gain'], 'R1', ['-1', '-1', '0'])
+    """
+    tables = a.numeric.get(view, {}).get("sensitivity", {})
+    cols = [k for k, _, _ in SENS_COLUMNS if tables.get(k)]
+    names: list[str] = []
+    for k in cols:
+        for n in tables[k]:
+            if n not in names:
+                names.append(n)
+    rows = []
+    for n in names:
+        cells = []
+        for k in cols:
+            v = tables[k].get(n)
+            ok = v is not None and math.isfinite(v)
+            cells.append({"value": v if ok else None, "text": plain_number(v) if ok else "—",
+                          "key": f"numeric.{view}.sensitivity.{k}.{n}" if ok else None})
+        rows.append((n, cells))
+    return cols, rows
+
+
+def standard_form_tex(st: StageResult) -> str | None:
+    """The trade's standard form of this view's response, in LaTeX (None for a general response).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> standard_form_tex(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal)
+    'H(s) = \\\\frac{K}{1 + s \\\\tau}, \\\\quad \\\\omega_{0} = \\\\frac{1}{\\\\tau}'
+    """
+    f = st.form
+    if f.order == 1:
+        num = {"lowpass": "K", "highpass": "K s \\tau", "allpass": "K \\left(1 - s \\tau\\right)"}.get(f.kind)
+        if num is None:
+            return None
+        return f"H(s) = \\frac{{{num}}}{{1 + s \\tau}}, \\quad \\omega_{{0}} = \\frac{{1}}{{\\tau}}"
+    if f.order == 2:
+        den = "1 + \\frac{s}{\\omega_{0} Q} + \\frac{s^{2}}{\\omega_{0}^{2}}"
+        num = {"lowpass": "K", "highpass": "K \\frac{s^{2}}{\\omega_{0}^{2}}",
+               "bandpass": "K \\frac{s}{\\omega_{0} Q}",
+               "notch": "K \\left(1 + \\frac{s^{2}}{\\omega_{0}^{2}}\\right)",
+               "allpass": "K \\left(1 - \\frac{s}{\\omega_{0} Q} + \\frac{s^{2}}{\\omega_{0}^{2}}\\right)"}.get(f.kind)
+        if num is None:
+            return None
+        return f"H(s) = \\frac{{{num}}}{{{den}}}"
+    return None
+
+
+#: Words for the left-hand sides of :func:`symfilt.export.latex.stage_equations`.
+EQUATION_WORDS = {"H(s)": "transfer function", "\\omega_{c}": "cutoff (rad/s)", "K": "gain K",
+                  "\\omega_{0}": "natural frequency (rad/s)", "Q": "quality factor", "\\tau": "time constant",
+                  "B": "bandwidth (rad/s)", "H(0)": "DC gain", "H(\\infty)": "high-frequency gain",
+                  "Z_{in}": "input impedance", "Z_{out}": "output impedance"}
+
+
+def equations(st: StageResult) -> list[tuple[str, str]]:
+    """(words, LaTeX equation) for each closed form of one view, in report order.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> equations(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal)[0]
+    ('transfer function', 'H(s) = \\\\frac{1}{C_{1} R_{1} s + 1}')
+    """
+    return [(EQUATION_WORDS.get(lhs, ""), f"{lhs} = {rhs}") for lhs, rhs in stage_equations(st) if rhs is not None]
+
+
+def has_fixtures(a: Analysis) -> bool:
+    """True when the circuit has a source resistance or a load (loaded and ideal differ in principle).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> has_fixtures(analyse(catalogue.build("rc-lowpass", source="none", load="none"), sensitivity=False))
+    False
+    """
+    c = a.circuit
+    return c.source.present or c.load_resistance.present or c.load_capacitance.present
+
+
+def views(a: Analysis) -> tuple:
+    """The views a note shows, as (key, heading): loaded and ideal, or one when there are no fixtures.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> [k for k, _ in views(analyse(catalogue.build("rc-lowpass"), sensitivity=False))]
+    ['loaded', 'ideal']
+    """
+    return _VIEWS if has_fixtures(a) else (("ideal", "The stage (no source or load fixtures)"),)
+
+
+def assumptions(a: Analysis) -> list[str]:
+    """The assumptions behind the numbers, as sentences.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> assumptions(analyse(catalogue.build("rc-lowpass"), sensitivity=False))[0]
+    'Passive stage: no op-amps.'
+    """
+    c = a.circuit
+    out = []
+    amps = [p for p in c.parts if p.kind == "opamp"]
+    if not amps:
+        out.append("Passive stage: no op-amps.")
+    for p in amps:
+        if p.model == "ideal":
+            out.append(f"{p.name} is an ideal op-amp: infinite open-loop gain and bandwidth, no input current, "
+                       "zero output impedance, and no supply, swing, current or slew limits.")
+        elif p.model == "gain":
+            out.append(f"{p.name} has a finite open-loop gain A_{p.name}, flat with frequency; otherwise ideal.")
+        else:
+            out.append(f"{p.name} has a single-pole open-loop gain A(s) = A0·2π·GBW/(A0·s + 2π·GBW), "
+                       f"with A0 = A_{p.name} and GBW = GBW_{p.name}; otherwise ideal.")
+    fixtures = [name for name, on in (("source resistance R_s", c.source.present),
+                                      ("load resistance R_L", c.load_resistance.present),
+                                      ("load capacitance C_L", c.load_capacitance.present)) if on]
+    if fixtures:
+        listed = fixtures[0] if len(fixtures) == 1 else ", ".join(fixtures[:-1]) + " and " + fixtures[-1]
+        out.append("Loaded means as connected, with the " + listed + " of the circuit. "
+                   "Ideal means the stage alone: R_s → 0, R_L → ∞, C_L → 0, taken as exact limits.")
+    else:
+        out.append("The circuit has no source resistance and no load: it is driven by an ideal source into "
+                   "an open output, so loaded and ideal are the same.")
+    out.append("Parts are linear and exact at their nominal values: no tolerance, drift or parasitics.")
+    out.append("The cutoff is the frequency where the gain has fallen by a factor √2 from the pass-band gain "
+               "(the DC gain, or the high-frequency gain of a high-pass).")
+    out.append("The sensitivity of a quantity y to a part x is S = (x/y)·∂y/∂x: the per-cent change of y "
+               "for a one per-cent change of x.")
+    return out
+
+
+def cautions(a: Analysis) -> list[str]:
+    """The cautions every note carries.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> any("bench" in c for c in cautions(analyse(catalogue.build("rc-lowpass"), sensitivity=False)))
+    True
+    """
+    amps = any(p.kind == "opamp" for p in a.circuit.parts)
+    out = []
+    shaky = [view for view in ("loaded", "ideal") if a.numeric.get(view, {}).get("stability") in ("marginal", "unstable")]
+    if shaky:
+        out.append("At these values the " + " and ".join(shaky) + " stage has poles on or to the right of the "
+                   "jω axis: it would oscillate or latch, and its gains and cutoff do not describe a filter.")
+    out.append("Verify the stage on the bench, with the real source and load, before committing the design.")
+    if amps:
+        out.append("Respect each op-amp's supply range, output swing and output current limit: a heavy "
+                   "load or a large load capacitance can exceed them where the small-signal model sees no problem.")
+    else:
+        out.append("A passive stage takes its drive from the source and passes its load back to it: respect "
+                   "the supply, output swing and output current limits of the amplifiers around it.")
+    out.append("For mains-connected or high-voltage equipment, follow local codes and licensed practice.")
+    return out
+
+
+def sweep(a: Analysis, fmin=None, fmax=None, points=None):
+    """Bode sweep data for a note, or ``(None, reason)`` when a symbol has no value.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> sweep(analyse(catalogue.build("rc-lowpass", R1=None), sensitivity=False))
+    (None, 'no value for R1')
+    """
+    from ..bode import DEFAULT_POINTS, bode_data, missing_values
+
+    missing = missing_values(a.loaded.transfer, a.circuit.values())
+    if missing:
+        return None, "no value for " + ", ".join(missing)
+    return bode_data(a, None, fmin, fmax, points or DEFAULT_POINTS), ""
+
+
+# --- Markdown and LaTeX ----------------------------------------------------------------
+
+def _md_cell(text: str) -> str:
+    return text.replace("|", "\\|")
+
+
+def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = "") -> str:
+    """The design note as Markdown: tables, ``$$`` LaTeX equations, and a link to the plot file.
+
+    Parameters
+    ----------
+    a : Analysis
+    plot_file : str, optional
+        Relative path of the SVG plot written beside the note (no plot when None).
+    source : str
+        Where the circuit came from, for the footer.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> md = note_markdown(analyse(catalogue.build("rc-lowpass")), plot_file="rc-bode.svg")
+    >>> md.splitlines()[0], md.count("$$") % 2, "](rc-bode.svg)" in md
+    ('# RC low-pass', 0, True)
+    """
+    from .. import __version__
+
+    title = a.circuit.title or "Untitled stage"
+    out = [f"# {title}", "", f"Design note: {kind_words(a.ideal)} from {node_name(a.circuit.input)} "
+           f"to {node_name(a.circuit.output)}.", ""]
+    rows = number_rows(a)
+    out += ["## Loaded and ideal", ""]
+    if rows:
+        out += ["| Quantity | Loaded | Ideal | Loaded / ideal |", "|---|---:|---:|---:|",
+                f"| response | {kind_words(a.loaded)} | {kind_words(a.ideal)} | — |"]
+        stab = stability_row(a)
+        if stab:
+            out.append(f"| {stab['label']} | {stab['loaded']['text']} | {stab['ideal']['text']} | — |")
+        for r in rows:
+            label = r["label"] + (" (dB)" if r["unit"] == "dB" else "")
+            out.append(f"| {label} | {r['loaded']['text']} | {r['ideal']['text']} | {r['ratio']['text']} |")
+    else:
+        out.append("No numbers: some parts have no value.")
+    out += ["", "## Parts", "", "| Part | Kind | Connection | Value |", "|---|---|---|---:|"]
+    for r in part_rows(a):
+        out.append(f"| {r['name']} | {_md_cell(r['kind'])} | {_md_cell(r['connection'])} | {r['value']} |")
+    out += ["", "## Equations", ""]
+    for view, vtitle in views(a):
+        st = getattr(a, view)
+        out += [f"### {vtitle}: {kind_words(st)}", ""]
+        std = standard_form_tex(st)
+        if std:
+            out += ["Standard form:", "", "$$", std, "$$", ""]
+        for words, eq in equations(st):
+            out += [f"{words[:1].upper() + words[1:]}:", "", "$$", eq, "$$", ""]
+    out += ["## Frequency response", ""]
+    if plot_file:
+        out += [f"![Bode plot: magnitude and phase, loaded and ideal]({plot_file})", ""]
+    else:
+        out += ["No plot: give every part a value to draw the response.", ""]
+    out += ["## Sensitivities", ""]
+    labels = {k: v for k, v, _ in SENS_COLUMNS}
+    for view, vtitle in views(a):
+        cols, srows = sensitivity_table(a, view)
+        if not srows:
+            continue
+        out += [f"### {vtitle}", "", "| Part | " + " | ".join(f"S of {labels[k]}" for k in cols) + " |",
+                "|---|" + "---:|" * len(cols)]
+        for name, cells in srows:
+            out.append(f"| {name} | " + " | ".join(c["text"] for c in cells) + " |")
+        out.append("")
+    out += ["## Assumptions", "", *[f"- {x}" for x in assumptions(a)], "",
+            "## Cautions", "", *[f"- {x}" for x in cautions(a)], "",
+            f"*Derived exactly by symfilt {__version__}" + (f" from {source}" if source else "")
+            + ". Numbers are rounded to 4 significant digits.*", ""]
+    return "\n".join(out)
+
+
+def _tex_number(x: float, unit: str) -> str:
+    text = show_number(x, unit)
+    if " " not in text:
+        return text
+    num, unit_text = text.split(" ", 1)
+    unit_text = unit_text.replace("µ", "\\mu ").replace("Ω", "\\Omega")
+    return f"{num}\\,\\mathrm{{{unit_text}}}"
+
+
+def note_latex(a: Analysis) -> str:
+    """The equations and numbers as a LaTeX fragment: one ``align`` environment (needs amsmath).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> tex = note_latex(analyse(catalogue.build("rc-lowpass")))
+    >>> tex.count("\\\\begin{align}"), tex.count("\\\\end{align}"), "f_{c} &\\\\approx 2.088\\\\,\\\\mathrm{kHz}" in tex
+    (1, 1, True)
+    """
+    title = a.circuit.title or "Untitled stage"
+    lines = [f"% {title}: design equations written by symfilt. Needs \\usepackage{{amsmath}}.",
+             "% Loaded: as connected, with the circuit's source and load. Ideal: the stage alone.",
+             "\\begin{align}"]
+    body = []
+    for view, vtitle in views(a):
+        st = getattr(a, view)
+        rows = [f"  {lhs} &= {rhs}" for lhs, rhs in stage_equations(st) if rhs is not None]
+        nums = []
+        for r in number_rows(a):
+            v = r[view]["value"]
+            if v is not None:
+                nums.append(f"  {r['tex']} &\\approx {_tex_number(v, r['unit'])}")
+        intro = f"  \\intertext{{{vtitle}:}}"
+        block = rows[:]
+        if nums:
+            block += nums
+        body.append(intro + "\n" + " \\\\\n".join(block))
+    lines.append(" \\\\\n".join(body))
+    lines.append("\\end{align}")
+    return "\n".join(lines) + "\n"
+
+
+# --- files ------------------------------------------------------------------------------
+
+#: Note formats by file suffix.
+NOTE_FORMATS = {".html": "html", ".htm": "html", ".md": "markdown", ".tex": "latex"}
+
+
+def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=None, points=None,
+               progress=None) -> list[Path]:
+    """Analyse a circuit and write its design note; the format follows the suffix (.html, .md, .tex).
+
+    A Markdown note gets its Bode plot as ``<name>-bode.svg`` beside it.
+
+    Parameters
+    ----------
+    circuit : Circuit or Analysis
+    path : str or Path
+    protect : sequence of paths
+        Files never to overwrite (the input circuit file).
+    source : str
+        Where the circuit came from, for the footer.
+    fmin, fmax, points
+        Bode plot range (Hz) and number of frequencies.
+    progress : callable, optional
+        Receives stage names while deriving.
+
+    Returns
+    -------
+    list of Path
+        The files written.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> from symfilt import catalogue
+    >>> d = pathlib.Path(tempfile.mkdtemp())
+    >>> [p.name for p in write_note(catalogue.build("rc-lowpass"), d / "rc.md")]
+    ['rc-bode.svg', 'rc.md']
+    """
+    from ..analysis import analyse
+    from ..errors import UsageError
+    from ..outfile import write_text_atomic
+
+    p = Path(path)
+    kind = NOTE_FORMATS.get(p.suffix.lower())
+    if kind is None:
+        raise UsageError(str(p), f"cannot write a note to a {p.suffix or 'suffix-less'} file",
+                         "name the note .html, .md or .tex")
+    a = circuit if isinstance(circuit, Analysis) else analyse(circuit, progress=progress)
+    if kind == "html":
+        from .note_html import note_html
+
+        write_text_atomic(p, note_html(a, source=source, fmin=fmin, fmax=fmax, points=points), protect=protect)
+        return [p]
+    if kind == "latex":
+        write_text_atomic(p, note_latex(a), protect=protect)
+        return [p]
+    from ..plot import render_bode
+
+    data, _ = sweep(a, fmin, fmax, points)
+    written = []
+    plot_name = None
+    if data is not None:
+        svg_path = p.with_name(p.stem + "-bode.svg")
+        from ..outfile import write_bytes_atomic
+
+        write_bytes_atomic(svg_path, render_bode(data, "svg"), protect=protect)
+        written.append(svg_path)
+        plot_name = svg_path.name
+    write_text_atomic(p, note_markdown(a, plot_file=plot_name, source=source), protect=protect)
+    written.append(p)
+    return written

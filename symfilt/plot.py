@@ -1,0 +1,151 @@
+"""Bode plots of a sweep from :mod:`symfilt.bode`: drawing only.
+
+matplotlib is imported inside the functions here and nowhere else in symfilt, and
+only its object-oriented interface is used (a :class:`matplotlib.figure.Figure`
+with the Agg or SVG canvas): no pyplot, no global backend switch.
+"""
+
+from __future__ import annotations
+
+import io
+import math
+import re
+from pathlib import Path
+
+from .errors import UsageError
+
+#: Line colours of the two views (our own palette).
+COLOURS = {"loaded": "#a23b2a", "ideal": "#2f5d8a"}
+#: Line styles of the two views.
+STYLES = {"loaded": "-", "ideal": (0, (5, 3))}
+#: Output formats by file suffix.
+FORMATS = {".svg": "svg", ".png": "png"}
+#: Depth of the magnitude axis below its top, in dB (a notch would otherwise take the whole axis).
+DEPTH_DB = 100.0
+
+
+def _finite(values) -> list[float]:
+    return [float(v) for v in values if math.isfinite(float(v))]
+
+
+def _figure(data):
+    from matplotlib.figure import Figure
+
+    from .values import format_value
+
+    fig = Figure(figsize=(8.0, 6.0), layout="constrained")
+    mag, ph = fig.subplots(2, 1, sharex=True, height_ratios=[3, 2])
+    views = (("loaded", "loaded (as connected)", data.loaded_db, data.loaded_phase),
+             ("ideal", "ideal (stage alone)", data.ideal_db, data.ideal_phase))
+    for key, label, db, phase in views:
+        mag.semilogx(data.f, db, color=COLOURS[key], linestyle=STYLES[key], linewidth=1.8, label=label)
+        ph.semilogx(data.f, phase, color=COLOURS[key], linestyle=STYLES[key], linewidth=1.8)
+    for key, _, _, _ in views:
+        for name, hz in data.marks.get(key, {}).items():
+            if not data.f[0] <= hz <= data.f[-1]:
+                continue
+            text = f"{key} {name} {format_value(hz, 'Hz')}"
+            for ax in (mag, ph):
+                ax.axvline(hz, color=COLOURS[key], linestyle=":", linewidth=1.1,
+                           label=text if ax is mag else None)
+    finite = _finite(data.loaded_db) + _finite(data.ideal_db)
+    if finite:
+        top = max(finite)
+        bottom = max(min(finite), top - DEPTH_DB)
+        pad = max(1.0, 0.05 * (top - bottom))
+        mag.set_ylim(bottom - pad, top + pad)
+    mag.set_ylabel("|H| / dB")
+    ph.set_ylabel("phase / degrees")
+    ph.set_xlabel("frequency / Hz")
+    for ax in (mag, ph):
+        ax.grid(True, which="major", color="#c9c9c9", linewidth=0.7)
+        ax.grid(True, which="minor", color="#ececec", linewidth=0.5)
+        ax.set_xlim(data.f[0], data.f[-1])
+        for side in ("top", "right"):
+            ax.spines[side].set_visible(False)
+    mag.legend(loc="best", fontsize=8, frameon=False)
+    if data.title:
+        mag.set_title(data.title, fontsize=11, loc="left")
+    return fig
+
+
+def render_bode(data, fmt: str = "svg") -> bytes:
+    """Draw a sweep (magnitude over phase, loaded and ideal overlaid, marks dotted) as SVG or PNG bytes.
+
+    Parameters
+    ----------
+    data : symfilt.bode.BodeData
+    fmt : {"svg", "png"}
+
+    Examples
+    --------
+    >>> from symfilt import catalogue, analyse
+    >>> from symfilt.bode import bode_data
+    >>> d = bode_data(analyse(catalogue.build("rc-lowpass"), sensitivity=False), points=50)
+    >>> render_bode(d, "png")[:8]
+    b'\\x89PNG\\r\\n\\x1a\\n'
+    """
+    import matplotlib
+
+    if fmt not in FORMATS.values():
+        raise UsageError("plot format", f"{fmt!r} is not a plot format", "use svg or png")
+    buf = io.BytesIO()
+    with matplotlib.rc_context({"svg.hashsalt": "symfilt", "svg.fonttype": "path"}):
+        fig = _figure(data)
+        metadata = {"Date": None} if fmt == "svg" else {"Software": None}
+        fig.savefig(buf, format=fmt, dpi=150 if fmt == "png" else 72, metadata=metadata)
+    return buf.getvalue()
+
+
+def bode_svg(data) -> str:
+    """The plot as an ``<svg>`` element to put inline in an HTML page (no XML prolog).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue, analyse
+    >>> from symfilt.bode import bode_data
+    >>> svg = bode_svg(bode_data(analyse(catalogue.build("rc-lowpass"), sensitivity=False), points=20))
+    >>> svg.startswith("<svg") and svg.rstrip().endswith("</svg>")
+    True
+    """
+    text = render_bode(data, "svg").decode("utf-8")
+    start = text.index("<svg")
+    body = re.sub(r"\s*<metadata>.*?</metadata>", "", text[start:], count=1, flags=re.S)
+    # size from the viewBox only, so that the page can scale it
+    head_end = body.index(">")
+    head = re.sub(r'\s(width|height)="[^"]*"', "", body[:head_end])
+    return head + body[head_end:]
+
+
+def plot_bode(data, path, *, protect=()) -> Path:
+    """Draw a sweep to ``path`` (.svg or .png), atomically.
+
+    Parameters
+    ----------
+    data : symfilt.bode.BodeData
+    path : str or Path
+    protect : sequence of paths
+        Files never to overwrite (the input circuit file).
+
+    Returns
+    -------
+    Path
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> from symfilt import catalogue, analyse
+    >>> from symfilt.bode import bode_data
+    >>> p = pathlib.Path(tempfile.mkdtemp()) / "bode.svg"
+    >>> plot_bode(bode_data(analyse(catalogue.build("rc-lowpass"), sensitivity=False), points=20), p).suffix
+    '.svg'
+    """
+    from .outfile import write_bytes_atomic
+
+    p = Path(path)
+    fmt = FORMATS.get(p.suffix.lower())
+    if fmt is None:
+        raise UsageError(str(p), f"cannot draw to a {p.suffix or 'suffix-less'} file",
+                         "name the plot file .svg or .png")
+    write_bytes_atomic(p, render_bode(data, fmt), protect=protect)
+    return p
