@@ -114,7 +114,7 @@ def cli():
     """Exact symbolic derivation of filter and amplifier stages, loaded and ideal."""
 
 
-@cli.command()
+@cli.command(short_help="H(s), gains, w0, Q, cutoff, Zin, Zout, sensitivities: loaded and ideal.")
 @click.argument("circuit")
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True)
 @click.option("--quantity", type=click.Choice(QUANTITIES), help="Print only this quantity.")
@@ -182,7 +182,7 @@ def _select_json(data: dict, quantity: str) -> dict:
             "loaded": data["loaded"][key], "ideal": data["ideal"][key], "symbols": data["symbols"]}
 
 
-@cli.command()
+@cli.command(short_help="Is a hand derivation equal to the derived quantity? Says where not.")
 @click.argument("circuit")
 @click.argument("claim")
 @click.option("--quantity", type=click.Choice([q for q in QUANTITIES if q != "sensitivity"]), default="transfer",
@@ -212,7 +212,7 @@ def check(circuit, claim, quantity, ideal, fmt):
     return 0 if result.equivalent else 1
 
 
-@cli.command()
+@cli.command(short_help="List the built-in circuits, or show or write one.")
 @click.argument("name", required=False)
 @click.option("--write", "write", type=click.Path(dir_okay=False), help="Write the circuit as a circuit file.")
 def catalogue(name, write):
@@ -267,7 +267,7 @@ def _spread_progress():
     return update
 
 
-@cli.command()
+@cli.command(short_help="Solve for a part value meeting a target; snap to an E-series.")
 @click.argument("circuit")
 @click.option("--target", required=True, metavar="QUANTITY=VALUE",
               help="cutoff=2k or w0=1k (Hz), q=0.707, dc-gain=-2; met with the loading included.")
@@ -292,7 +292,7 @@ def size(circuit, target, vary, series, fmt):
         _emit(design_report.size_text(result))
 
 
-@cli.command()
+@cli.command(short_help="Tolerance spread: Monte Carlo and worst case.")
 @click.argument("circuit")
 @click.option("--tol", "tols", multiple=True, required=True, metavar="NAME=TOL",
               help="Tolerance of a part (R3=0.1%) or a class (R=1%, C=5%, L=10%); repeat the option.")
@@ -322,7 +322,7 @@ def spread(circuit, tols, runs, seed, distribution, plot_file, fmt):
         _emit(design_report.spread_text(result))
 
 
-@cli.command()
+@cli.command(short_help="Output voltage, current and slew rate each op-amp must deliver.")
 @click.argument("circuit")
 @click.option("--amplitude", required=True, metavar="VOLTS", help="Peak volts of the sine at the source, e.g. 2 or 500m.")
 @click.option("--frequency", required=True, metavar="HZ", help="Frequency of the sine, e.g. 10k.")
@@ -360,7 +360,7 @@ def _inputs(circuit: str) -> list:
     return [] if circuit.startswith("@") else [circuit]
 
 
-@cli.command()
+@cli.command(short_help="Write a design note (.html, .md or .tex).")
 @click.argument("circuit")
 @click.option("-o", "--output", "output", required=True, type=click.Path(dir_okay=False),
               help="Note file: .html (standalone page), .md (with the plot as <name>-bode.svg beside it) or .tex.")
@@ -381,7 +381,7 @@ def note(circuit, output, fmin, fmax, opamp_model):
         click.echo(f"wrote {p}", err=True)
 
 
-@cli.command()
+@cli.command(short_help="Draw the Bode plot, loaded and ideal overlaid.")
 @click.argument("circuit")
 @click.option("-o", "--output", "output", type=click.Path(dir_okay=False), help="Plot file: .svg or .png.")
 @click.option("--csv", "csv_file", type=click.Path(dir_okay=False), help="Also write the sweep data as CSV.")
@@ -420,7 +420,7 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
         click.echo(f"wrote {output}", err=True)
 
 
-@cli.command()
+@cli.command(short_help="The built-in scenario: a sensor into an ADC, passive vs buffered.")
 def demo():
     """Run the built-in scenario: a sensor into an ADC, passive versus buffered."""
     from . import demo as scenario

@@ -87,6 +87,12 @@ class Parallel(sympy.Function):
         return prettyForm(*out.parens())
 
 
+def _resistive(e) -> bool:
+    """True for a sum of resistances (every symbol named R...): a b/(a + b) of those is a
+    parallel resistance; of capacitances it would be a series one, so it is left alone."""
+    return bool(e.free_symbols) and all(x.name.startswith("R") for x in e.free_symbols)
+
+
 def _split_parallel(num_factors: list, den_sum: sympy.Expr):
     """Find A + B = den_sum with A * B dividing the numerator's product."""
     terms = sympy.Add.make_args(den_sum)
@@ -97,6 +103,8 @@ def _split_parallel(num_factors: list, den_sum: sympy.Expr):
         for group in combinations(range(len(terms)), k):
             a = sympy.Add(*[terms[i] for i in group])
             b = sympy.Add(*[terms[i] for i in range(len(terms)) if i not in group])
+            if not _resistive(a) or not _resistive(b):
+                continue
             rest = sympy.cancel(num / (a * b))
             if sympy.fraction(rest)[1] == 1 and not (a.is_number or b.is_number):
                 return sympy.factor(a), sympy.factor(b), rest

@@ -290,12 +290,25 @@ def _render_quantity(a: Analysis, quantity: str) -> str:
              "zin": "Zin", "zout": "Zout"}[key]
     for k, st in (("loaded", a.loaded), ("ideal", a.ideal)):
         e = st.quantities()[key]
+        if key == "cutoff" and st.cutoff.edges is not None:
+            lo_e, hi_e = st.cutoff.edges
+            lines.append(f"band edges, {k:<6} = {one_line(lo_e)}  …  {one_line(hi_e)}")
+            lines.append(f"bandwidth, {k:<6}  = {one_line(st.cutoff.bandwidth)}")
+            continue
+        if key == "cutoff" and e is None:
+            lines.append(f"{label}, {k:<6} = no closed form ({st.cutoff.reason})")
+            continue
         if key == "transfer":
             lines.append(f"{label}, {k:<6} = {transfer_line(st.transfer)}")
             continue
         if key in ("zin", "zout"):
             e = impedance_display(getattr(st, key))
         lines.append(f"{label}, {k:<6} = {one_line(e)}")
+    if key == "cutoff" and "low_edge_hz" in a.numeric["loaded"]:
+        f = lambda d, x: _fmt_num(d.get(x), "Hz")
+        lo, hi = a.numeric["loaded"], a.numeric["ideal"]
+        lines.append(f"band edges (Hz), loaded = {f(lo, 'low_edge_hz')} … {f(lo, 'high_edge_hz')}, "
+                     f"ideal = {f(hi, 'low_edge_hz')} … {f(hi, 'high_edge_hz')}")
     hz = {"cutoff": "cutoff_hz", "w0": "f0_hz", "q": "q", "dc_gain": "dc_gain"}.get(key)
     if hz:
         lo, hi = a.numeric["loaded"].get(hz), a.numeric["ideal"].get(hz)
