@@ -8,6 +8,7 @@ from ..analysis import Analysis, StageResult
 from ..values import format_value
 from .common import impedance_display, readable, transfer_parts
 
+LONG = 400  # one-line expressions longer than this are not printed in the text report
 QUANTITY_KEYS = ("transfer", "dc-gain", "cutoff", "w0", "q", "zin", "zout", "sensitivity")
 _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
 
@@ -26,7 +27,10 @@ def one_line(expr) -> str:
     if expr is None:
         return "—"
     text = sympy.sstr(readable(expr))
-    return text.replace("**", "^").replace("*", "·").replace("oo", "∞")
+    text = text.replace("**", "^").replace("*", "·").replace("oo", "∞")
+    if len(text) > LONG:
+        return f"({len(text)}-character expression; see --format json or latex)"
+    return text
 
 
 def pretty(expr) -> str:
@@ -88,7 +92,10 @@ def transfer_line(h) -> str:
     k, n, d = transfer_parts(h)
     fmt = lambda e: sympy.sstr(e, order="none").replace("**", "^").replace("*", "·")
     body = fmt(n) if d == 1 else (f"({fmt(n)})" if isinstance(n, sympy.Add) else fmt(n)) + f"/({fmt(d)})"
-    return body if k == 1 else f"{fmt(k)} · {body}"
+    text = body if k == 1 else f"{fmt(k)} · {body}"
+    if len(text) > 10 * LONG:
+        return f"({len(text)}-character expression; see --format json or latex)"
+    return text
 
 
 def _indent(text: str, pad: str = "    ") -> str:
@@ -123,10 +130,17 @@ def _numbers(a: Analysis) -> list[str]:
     def add(label, key, unit="", raw=False):
         if key not in lo and key not in hi:
             return
-        f = (lambda v: "undefined" if v is None else f"{v:.6g}") if raw else (
-            lambda v: "undefined" if v is None else format_value(v, unit))
+
+        def f(d):
+            if key not in d:
+                return "needs values"
+            v = d[key]
+            if v is None:
+                return "undefined"
+            return f"{v:.6g}" if raw else format_value(v, unit)
+
         ratio = a.ratio(key)
-        rows.append(f"  {label:<14}{f(lo.get(key)):>16}{f(hi.get(key)):>16}{'' if ratio is None else f'{ratio:.4f}':>15}")
+        rows.append(f"  {label:<14}{f(lo):>16}{f(hi):>16}{'' if ratio is None else f'{ratio:.4f}':>15}")
 
     add("cutoff", "cutoff_hz", "Hz")
     add("low edge", "low_edge_hz", "Hz")
@@ -143,6 +157,9 @@ def _numbers(a: Analysis) -> list[str]:
         return []
     if any(v is None for d in (lo, hi) for k, v in d.items() if k != "dc_gain_db"):
         rows.append("  undefined: the formula divides by zero at these values (the formulas above still hold)")
+    missing = [n for n, info in a.circuit.symbols().items() if info["value"] is None and info["role"] != "laplace"]
+    if missing and any(k not in d for d in (lo, hi) for k in ("cutoff_hz", "dc_gain") if k in lo or k in hi):
+        rows.append("  needs values: give " + ", ".join(missing) + " a value for these numbers")
     for key, d in (("loaded", lo), ("ideal", hi)):
         if d.get("stability") in ("unstable", "marginal"):
             where = "in the right half-plane" if d["stability"] == "unstable" else "on the jω axis"
@@ -237,7 +254,10 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     out += _symbol_rows(a)
     for key, st in (("loaded", a.loaded), ("ideal", a.ideal)):
         out += ["", f"Transfer function H(s) = V({c.output})/V(source), {key}"]
-        out.append(_indent(transfer_pretty(st.transfer)))
+        drawn = transfer_pretty(st.transfer)
+        if max(len(line) for line in drawn.splitlines()) > 140:
+            drawn = transfer_line(st.transfer)
+        out.append(_indent(drawn))
         out += [""] + _stage_formulas(st)
     rows = _numbers(a)
     if rows:
