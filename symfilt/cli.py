@@ -78,6 +78,21 @@ def _emit(text: str) -> None:
     sys.stdout.flush()
 
 
+def _inputs(circuit: str) -> list:
+    """The input file (never to be overwritten), or nothing for a built-in circuit."""
+    return [] if circuit.startswith("@") else [circuit]
+
+
+def _emit_report(fmt: str, as_dict, as_text, result) -> None:
+    """Emit a design report as JSON or text."""
+    if fmt == "json":
+        from .export.json import dumps
+
+        _emit(dumps(as_dict(result)) + "\n")
+    else:
+        _emit(as_text(result))
+
+
 def _percent(text: str, where: str) -> float:
     t = text.strip()
     try:
@@ -284,12 +299,7 @@ def size(circuit, target, vary, series, fmt):
     c = load(circuit)
     parts = tuple(p.strip() for p in vary.split(",") if p.strip())
     result = size_to_target(c, parse_target(target), parts, series=series)
-    if fmt == "json":
-        from .export.json import dumps
-
-        _emit(dumps(design_report.size_dict(result)) + "\n")
-    else:
-        _emit(design_report.size_text(result))
+    _emit_report(fmt, design_report.size_dict, design_report.size_text, result)
 
 
 @cli.command(short_help="Tolerance spread: Monte Carlo and worst case.")
@@ -312,14 +322,9 @@ def spread(circuit, tols, runs, seed, distribution, plot_file, fmt):
     tolerances = dict(parse_tolerance(t) for t in tols)
     result = run_spread(c, tolerances, distribution=distribution, runs=runs, seed=seed, progress=_spread_progress())
     if plot_file:
-        design_report.write_histogram(result, plot_file, protect=() if circuit.startswith("@") else (circuit,))
+        design_report.write_histogram(result, plot_file, protect=_inputs(circuit))
         click.echo(f"wrote {plot_file}", err=True)
-    if fmt == "json":
-        from .export.json import dumps
-
-        _emit(dumps(design_report.spread_dict(result)) + "\n")
-    else:
-        _emit(design_report.spread_text(result))
+    _emit_report(fmt, design_report.spread_dict, design_report.spread_text, result)
 
 
 @cli.command(short_help="Output voltage, current and slew rate each op-amp must deliver.")
@@ -335,12 +340,7 @@ def drive(circuit, amplitude, frequency, fmt):
     result = drive_check(load(circuit), amplitude, frequency)
     for line in design_report.drive_warnings(result):
         click.echo(f"warning: {line}", err=True)
-    if fmt == "json":
-        from .export.json import dumps
-
-        _emit(dumps(design_report.drive_dict(result)) + "\n")
-    else:
-        _emit(design_report.drive_text(result))
+    _emit_report(fmt, design_report.drive_dict, design_report.drive_text, result)
 
 
 def _frequency(text, where: str):
@@ -353,11 +353,6 @@ def _frequency(text, where: str):
     if value <= 0:
         raise UsageError(where, f"{text!r} is not a positive frequency", "give a frequency in Hz, e.g. 10 or 1k")
     return float(value)
-
-
-def _inputs(circuit: str) -> list:
-    """The input file (never to be overwritten), or nothing for a built-in circuit."""
-    return [] if circuit.startswith("@") else [circuit]
 
 
 @cli.command(short_help="Write a design note (.html, .md or .tex).")
