@@ -9,7 +9,8 @@ Examples
 """
 
 from . import catalogue
-from .analysis import Analysis, LoadLimit, StandardForm, analyse, load_limits, standard_form, substitute
+from .analysis import Analysis, StandardForm, analyse, standard_form, substitute
+from .limits import LoadLimit, load_limits
 from .circuit import Circuit, Fixture, Part
 from .claims import Equivalence, assert_equivalent, equivalent, parse_claim
 from .circuit_file import circuit_to_text, load_circuit, parse_circuit_text

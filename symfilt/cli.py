@@ -142,7 +142,8 @@ def cli():
               help="Size budget of the elimination (terms per polynomial).")
 def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_terms):
     """Derive H(s), gains, w0, Q, cutoff, Zin, Zout and sensitivities of CIRCUIT (a file or @name)."""
-    from .analysis import analyse, load_limits, substitute as put_values
+    from .analysis import analyse, substitute as put_values
+    from .limits import load_limits
     from .elimination import DEFAULT_MAX_TERMS
     from .structure import structure_warnings
 

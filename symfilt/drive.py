@@ -25,7 +25,6 @@ import math
 from dataclasses import dataclass, field, replace
 from typing import Mapping
 
-import sympy
 
 from .circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S
 from .elimination import DEFAULT_MAX_TERMS, solve

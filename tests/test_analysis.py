@@ -25,8 +25,8 @@ from scipy import signal
 from scipy.optimize import brentq
 
 from symfilt import catalogue
-from symfilt.analysis import (StandardForm, analyse, cutoff, load_limits, second_order_root,
-                              standard_form)
+from symfilt.analysis import StandardForm, analyse, cutoff, second_order_root, standard_form
+from symfilt.limits import load_limits
 from symfilt.circuit import Circuit, Part
 from symfilt.cli import cli
 from symfilt.export.json import read_symbols

@@ -283,7 +283,7 @@ def render_limit(lim) -> str:
 
     Examples
     --------
-    >>> from symfilt.analysis import LoadLimit
+    >>> from symfilt.limits import LoadLimit
     >>> render_limit(LoadLimit("R_L", "min", 0.02, 235000.0, sympy.Symbol("R1") * 50, ""))
     '  R_L ≥ 235 kΩ keeps the cutoff within 2% of ideal  (R_L ≥ 50·R1)'
     """

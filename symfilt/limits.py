@@ -1,0 +1,174 @@
+"""Load limits: how far the source resistance and the load may go before the cutoff moves.
+
+Each fixture is taken alone (the others at their ideal limits): the smallest R_L,
+the largest R_s and the largest C_L that keep the cutoff within a tolerance of the
+ideal cutoff. Closed form for first order, else a logarithmic scan and bisection at
+the circuit's values.
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+from typing import Callable, Mapping
+
+import sympy
+
+from .analysis import Analysis, _finite, cutoff, numeric_cutoff, standard_form
+from .circuit import LOAD_C, LOAD_R, SOURCE_R, S
+from .network import NetworkFunction
+
+
+@dataclass(frozen=True)
+class LoadLimit:
+    """The bound on one fixture that keeps the cutoff within a tolerance of ideal.
+
+    Each fixture is taken alone: the other fixtures are at their ideal limits.
+
+    Attributes
+    ----------
+    fixture : str
+        ``R_L``, ``R_s`` or ``C_L``.
+    bound : str
+        ``min`` (R_L must be at least the value) or ``max`` (R_s, C_L at most).
+    tolerance : float
+        Allowed relative change of the cutoff, as a fraction (0.02 for 2%).
+    value : float or None
+        The bound at the circuit's values (None when it cannot be computed).
+    exact : sympy.Expr or None
+        Closed form of the bound, where one exists (first order).
+    note : str
+
+    Examples
+    --------
+    >>> LoadLimit("R_L", "min", 0.02, 235000.0, None).bound
+    'min'
+    """
+
+    fixture: str
+    bound: str
+    tolerance: float
+    value: float | None
+    exact: sympy.Expr | None
+    note: str = ""
+
+
+def _fixture_alone(h: NetworkFunction, keep: str) -> NetworkFunction:
+    for name, point in ((SOURCE_R, 0), (LOAD_R, sympy.oo), (LOAD_C, 0)):
+        if name != keep:
+            h = h.limit(sympy.Symbol(name, positive=True), point)
+    return h
+
+
+def _cutoff_function(h: NetworkFunction, x: sympy.Symbol, others: Mapping) -> Callable[[float], float | None]:
+    """The cutoff (rad/s) as a function of one symbol, the others at their values.
+
+    The standard form is found once; a closed-form cutoff becomes a plain float
+    function, otherwise each call finds the root numerically.
+    """
+    hx = h.subs(others)
+    cut = cutoff(standard_form(hx)).value
+    if cut is not None:
+        f = sympy.lambdify(x, cut, modules="math")
+
+        def closed(v: float) -> float | None:
+            try:
+                w = complex(f(v))
+            except (ValueError, ZeroDivisionError, OverflowError):
+                return None
+            return w.real if abs(w.imag) <= 1e-12 * max(1.0, abs(w.real)) else None
+
+        return closed
+    return lambda v: numeric_cutoff(hx, {x: sympy.Rational(repr(v))})
+
+
+def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
+    """Smallest R_L, largest R_s (and largest C_L) for which the cutoff stays within
+    ``tolerance`` of the ideal cutoff.
+
+    Closed form for first order (solving the cutoff ratio = 1 +- tolerance), else a
+    numeric bracket and bisection on a logarithmic scan at the circuit's values.
+
+    Parameters
+    ----------
+    analysis : Analysis
+    tolerance : float
+        Fraction, e.g. 0.02.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis import analyse
+    >>> lims = load_limits(analyse(catalogue.build("rc-lowpass"), sensitivity=False), 0.02)
+    >>> [(x.fixture, x.bound, x.exact, round(x.value)) for x in lims]
+    [('R_s', 'max', R1/49, 96), ('R_L', 'min', 50*R1, 235000)]
+    """
+    c = analysis.circuit
+    values = dict(c.values())
+    out = []
+    h_loaded = analysis.loaded.transfer
+    ideal_cut = analysis.ideal.cutoff.value
+    for name, bound, present, scan in ((SOURCE_R, "max", c.source.present, (-3, 9)),
+                                       (LOAD_R, "min", c.load_resistance.present, (-3, 12)),
+                                       (LOAD_C, "max", c.load_capacitance.present, (-18, -1))):
+        if not present:
+            continue
+        x = sympy.Symbol(name, positive=True)
+        h = _fixture_alone(h_loaded, name)
+        if x not in h.free_symbols():
+            out.append(LoadLimit(name, bound, tolerance, None, None, "does not change the transfer function"))
+            continue
+        exact = None
+        form = standard_form(h)
+        if form.order == 1 and form.w0 is not None and ideal_cut is not None:
+            ratio = sympy.cancel(form.w0 / ideal_cut)
+            tol = sympy.nsimplify(tolerance)
+            sols = []
+            for target in (1 + tol, 1 - tol):
+                try:
+                    sols += [r for r in sympy.solve(sympy.Eq(ratio, target), x) if r.is_positive is not False]
+                except NotImplementedError:
+                    sols = []
+            sols = [sympy.factor(r) for r in sols if not r.has(sympy.I)]
+            if len(sols) == 1:
+                exact = sols[0]
+        value = None
+        note = ""
+        if exact is not None and not (exact.free_symbols - set(values)):
+            value = _finite(exact.xreplace(values))
+        else:
+            others = {k: v for k, v in values.items() if k != x}
+            ideal_num = analysis.numeric["ideal"].get("cutoff_hz")
+            if ideal_num is None or (h.free_symbols() - {S, x} - set(others)):
+                note = "needs values for every part to compute"
+            else:
+                w_ideal = ideal_num * 2 * math.pi
+                cutoff_of = _cutoff_function(h, x, others)
+
+                def dev(v: float) -> float:
+                    w = cutoff_of(v)
+                    return math.inf if w is None else abs(w / w_ideal - 1) - tolerance
+
+                grid = [10.0 ** (k / 4) for k in range(scan[0] * 4, scan[1] * 4 + 1)]
+                order = grid[::-1] if bound == "min" else grid
+                prev = None
+                for v in order:
+                    if dev(v) > 0:
+                        if prev is None:
+                            note = "outside the range scanned"
+                        else:
+                            lo, hi = sorted((prev, v))
+                            for _ in range(60):
+                                mid = math.sqrt(lo * hi)
+                                inside = dev(mid) <= 0
+                                if (bound == "min") == inside:
+                                    hi = mid
+                                else:
+                                    lo = mid
+                            value = math.sqrt(lo * hi)
+                        break
+                    prev = v
+                else:
+                    note = "the cutoff stays within the tolerance over the whole range scanned"
+        out.append(LoadLimit(name, bound, tolerance, value, exact, note))
+    return out
