@@ -48,6 +48,7 @@ def node_transfer(circuit: Circuit, unknown: str, *, max_terms: int = DEFAULT_MA
 
     Examples
     --------
+    >>> import sympy
     >>> from symfilt import catalogue
     >>> h = node_transfer(catalogue.build("noninverting-lowpass"), "a")
     >>> sympy.factor(h.as_expr())
