@@ -6,19 +6,31 @@ determinants come out of one sparse Bareiss elimination of the augmented matrix
 row is left, it reads ``a * x_t = c``, so ``x_t = c / a``. Every division in
 Bareiss's recurrence is exact, so all entries stay polynomials (minors of ``A``).
 
-Pivots are chosen by a Markowitz rule (fewest other entries in the pivot's row and
-column, then the smallest pivot), which keeps fill-in low on the sparse, banded
-matrices that circuits give.
+Pivots are chosen by a Markowitz rule weighted by the pivot's size: the product of
+(other entries in the pivot's row) x (other entries in its column) + 1, times the
+pivot's number of terms, then its degree. This keeps fill-in low on the sparse,
+banded matrices that circuits give, and prefers the constant pivots of op-amp
+and source rows. Rows that do not touch a pivot's column are left
+alone: Bareiss would scale each of them by ``pivot / previous pivot`` at every
+step; here a row remembers the step it was last brought up to date and is scaled
+once, by ``p_now / p_then`` (the factors telescope), only when a later pivot needs
+it. The last row is never scaled, since ``x_t = c / a`` does not change when a
+row is.
 
 Afterwards the reciprocal generators (``G:R`` = 1/R, ``Y:L`` = 1/(sL)) are turned
 back into ordinary symbols by multiplying numerator and denominator by the same
 monomial, and the common factor is cancelled with a polynomial gcd. Conversion to
-sympy happens once, at the very end.
+sympy happens once, at the very end, straight into sympy's canonical form.
 """
 
 from __future__ import annotations
 
-from dataclasses import dataclass
+import gc
+import time
+from dataclasses import dataclass, field
+from functools import cmp_to_key
+from itertools import compress
+from operator import itemgetter
 from typing import Callable
 
 import flint
@@ -27,8 +39,52 @@ import sympy
 from .errors import SingularCircuitError, SizeLimitError
 from .mna import MnaSystem
 
-#: Default largest number of terms any intermediate polynomial may have.
-DEFAULT_MAX_TERMS = 400_000
+#: Default size budget: the most terms any polynomial of a derivation may have.
+#: The transfer function of a ten-section RC ladder with symbolic source and load
+#: has 28 657 terms; a result of 200 000 terms takes a few seconds and a few hundred
+#: megabytes, the point where a formula stops being something to read.
+DEFAULT_MAX_TERMS = 200_000
+
+
+@dataclass(frozen=True)
+class DelayedProgress:
+    """A progress callback that stays silent until a derivation has run ``delay`` seconds.
+
+    Give it as ``progress=`` to :func:`solve` or :func:`symfilt.network.derive`;
+    each stage name reported after the delay is passed to ``write``, so short
+    derivations print nothing at all.
+
+    Parameters
+    ----------
+    write : callable
+        Receives each stage name, e.g. a function printing to stderr.
+    delay : float
+        Seconds of silence from the moment the object is made.
+    clock : callable
+        Source of the time in seconds (:func:`time.monotonic`).
+
+    Examples
+    --------
+    >>> seen = []
+    >>> ticks = iter([0.0, 0.5, 2.5])
+    >>> report = DelayedProgress(seen.append, delay=2.0, clock=lambda: next(ticks))
+    >>> report("stamping"); report("elimination step 1 of 9")
+    >>> seen
+    ['elimination step 1 of 9']
+    """
+
+    write: Callable[[str], object]
+    delay: float = 2.0
+    clock: Callable[[], float] = time.monotonic
+    start: float = field(default=float("nan"))
+
+    def __post_init__(self) -> None:
+        if self.start != self.start:  # not given: start now
+            object.__setattr__(self, "start", self.clock())
+
+    def __call__(self, stage: str) -> None:
+        if self.clock() - self.start >= self.delay:
+            self.write(stage)
 
 
 @dataclass(frozen=True)
@@ -47,6 +103,19 @@ class Ratio:
     den: object
     symbols: dict
 
+    @property
+    def terms(self) -> int:
+        """Number of terms of numerator and denominator together.
+
+        Examples
+        --------
+        >>> from symfilt import catalogue
+        >>> from symfilt.mna import build_system
+        >>> solve(build_system(catalogue.build("rc-lowpass"), "transfer")).terms
+        6
+        """
+        return len(self.num) + len(self.den)
+
     def to_sympy(self) -> tuple[sympy.Expr, sympy.Expr]:
         """Numerator and denominator as expanded sympy expressions.
 
@@ -60,15 +129,105 @@ class Ratio:
         """
         return poly_to_sympy(self.num, self.symbols), poly_to_sympy(self.den, self.symbols)
 
+    def degree(self, name: str) -> int:
+        """The larger degree of numerator and denominator in one symbol (0 when absent).
+
+        Examples
+        --------
+        >>> from symfilt import catalogue
+        >>> from symfilt.mna import build_system
+        >>> solve(build_system(catalogue.build("sallen-key-lowpass"), "transfer")).degree("s")
+        2
+        """
+        if name not in self.num.context().names():
+            return 0
+        k = self.num.context().variable_to_index(name)
+        return max(0, self.num.degrees()[k], self.den.degrees()[k])
+
+    def coefficients(self, name: str) -> tuple[list, list]:
+        """Coefficients of numerator and denominator in powers of one symbol, lowest first.
+
+        The coefficients are flint polynomials in the other symbols; convert one with
+        :func:`poly_to_sympy`.
+
+        Examples
+        --------
+        >>> from symfilt import catalogue
+        >>> from symfilt.mna import build_system
+        >>> r = solve(build_system(catalogue.build("rc-lowpass").without_fixtures(), "transfer"))
+        >>> [[poly_to_sympy(c, r.symbols) for c in cs] for cs in r.coefficients("s")]
+        [[1], [1, C1*R1]]
+        """
+        if name not in self.num.context().names():
+            return [self.num], [self.den]
+        return _coefficients(self.num, name), _coefficients(self.den, name)
+
+    def limit(self, name: str, point) -> "Ratio | None":
+        """The ratio as one symbol goes to 0 or to infinity (``point`` 0 or ``"oo"``), cancelled.
+
+        None when the limit is infinite.
+
+        Examples
+        --------
+        >>> from symfilt import catalogue
+        >>> from symfilt.mna import build_system
+        >>> r = solve(build_system(catalogue.build("rc-lowpass"), "transfer"))
+        >>> r.limit("R_L", "oo").limit("R_s", 0).to_sympy()
+        (1, C1*R1*s + 1)
+        >>> r.limit("s", "oo").to_sympy()
+        (0, 1)
+        """
+        if point not in (0, "oo"):
+            raise ValueError("point must be 0 or 'oo'")
+        if name not in self.num.context().names() or self.num == 0:
+            return self
+        n_cs, d_cs = self.coefficients(name)
+        if point == 0:
+            a = next(k for k, c in enumerate(n_cs) if c != 0)
+            b = next(k for k, c in enumerate(d_cs) if c != 0)
+            if a < b:
+                return None
+        else:
+            a, b = -(len(n_cs) - 1), -(len(d_cs) - 1)
+            if a < b:
+                return None
+        if a > b:
+            ctx = self.num.context()
+            return Ratio(ctx.from_dict({}), ctx.from_dict({(0,) * ctx.nvars(): 1}), self.symbols)
+        num, den = cancel_pair(n_cs[abs(a)], d_cs[abs(b)])
+        return Ratio(num, den, self.symbols)
+
+
+def _coefficients(p, name: str) -> list:
+    """Coefficients of p in powers of one generator, lowest first (Taylor's formula at 0)."""
+    k = p.context().variable_to_index(name)
+    top = max(p.degrees()[k], 0)
+    out = []
+    factorial = 1
+    for j in range(top + 1):
+        if j:
+            p = p.derivative(name)
+            factorial *= j
+        c = p.subs({name: 0})
+        out.append(c / factorial if factorial != 1 else c)
+    return out
+
 
 def poly_to_sympy(p, symbols: dict) -> sympy.Expr:
-    """Convert a flint polynomial to a sympy expression.
+    """Convert a flint polynomial to a sympy expression, built directly in canonical form.
+
+    The result is the very expression ``sympy.Add(*[coeff * Mul(*powers) ...])``
+    would give (same arguments in the same order, so ``==`` and hashing agree),
+    but it is assembled with ``_from_args`` after sorting the terms with keys that
+    reproduce sympy's canonical order (:func:`sympy.core.basic.Basic.compare`),
+    which skips sympy's general-purpose flattening. This matters for results with
+    tens of thousands of terms.
 
     Parameters
     ----------
     p : flint.fmpz_mpoly
     symbols : dict
-        Generator name -> sympy object (a Symbol, or a number such as pi).
+        Generator name -> sympy object: a Symbol or a number symbol such as pi.
 
     Examples
     --------
@@ -76,24 +235,112 @@ def poly_to_sympy(p, symbols: dict) -> sympy.Expr:
     >>> x, y = ctx.gens()
     >>> poly_to_sympy(3 * x * y - y**2, {"x": sympy.Symbol("x"), "y": sympy.Symbol("y")})
     3*x*y - y**2
+    >>> poly_to_sympy(2 * x**2 - 5, {"x": sympy.pi, "y": sympy.Symbol("y")})
+    -5 + 2*pi**2
     """
+    if p == 0:
+        return sympy.Integer(0)
+    # tens of thousands of new objects, none of them cyclic: the collector would
+    # only rescan them again and again, so it rests while they are made
+    paused = gc.isenabled()
+    gc.disable()
+    try:
+        return _poly_to_sympy_fast(p, symbols)
+    finally:
+        if paused:
+            gc.enable()
+
+
+def _poly_to_sympy_fast(p, symbols: dict) -> sympy.Expr:
     names = p.context().names()
     gens = [symbols[nm] for nm in names]
+    pow_class = _class_key(sympy.Pow)
+    if not gens or not all(isinstance(g, (sympy.Symbol, sympy.NumberSymbol)) and _class_key(type(g)) < pow_class
+                           for g in gens):
+        return _poly_to_sympy_slow(p, gens)
+    # generators in sympy's canonical order; a product lists its number, then bare
+    # generators, then powers, each in this order (Pi and Symbol sort before Pow)
+    order = sorted(range(len(gens)), key=cmp_to_key(lambda i, j: gens[i].compare(gens[j])))
+    by_rank = [gens[i] for i in order]
+    reorder = itemgetter(*order) if len(order) > 1 else (lambda exps: (exps[order[0]],))
+    n_gens, top = len(gens), max(p.degrees()) + 1
+    gen_class = [_class_key(type(g))[0] for g in by_rank]
+    mul_class = _class_key(sympy.Mul)[0]
+    powers: dict[int, sympy.Expr] = {}
+    constant = None
+    keyed = []
+    ranks = range(n_gens)
+    for exps, c in p.terms():
+        c = int(c)
+        ex = reorder(exps)
+        codes = list(compress(ranks, ex))
+        if not codes:
+            constant = sympy.Integer(c)
+            continue
+        if max(ex) == 1:
+            factors = [by_rank[r] for r in codes]
+        else:
+            codes = [r for r in codes if ex[r] == 1]
+            factors = [by_rank[r] for r in codes]
+            for r, e in enumerate(ex):
+                if e > 1:
+                    code = n_gens + r * top + e
+                    obj = powers.get(code)
+                    if obj is None:
+                        obj = powers[code] = sympy.Pow(by_rank[r], e)
+                    codes.append(code)
+                    factors.append(obj)
+        if c == 1 and len(factors) == 1:
+            code = codes[0]
+            keyed.append(((gen_class[code] if code < n_gens else pow_class[0], 1, (2, 0), (code,)), factors[0]))
+            continue
+        if c != 1:
+            factors.insert(0, sympy.Integer(c))
+            number = (0, c) if c == -1 else (1, c)  # NegativeOne sorts before Integer
+        else:
+            number = (2, 0)
+        keyed.append(((mul_class, len(factors), number, tuple(codes)), sympy.Mul._from_args(tuple(factors), True)))
+    keyed.sort(key=lambda kt: kt[0])
+    terms = [t for _k, t in keyed]
+    if constant is not None:
+        terms.insert(0, constant)
+    if not terms:
+        return sympy.Integer(0)
+    if len(terms) == 1:
+        return terms[0]
+    return sympy.Add._from_args(tuple(terms), True)
+
+
+def _class_key(cls) -> tuple:
+    """Sort key of a class as :func:`sympy.core.basic._cmp_name` orders classes."""
+    from sympy.core.basic import ordering_of_classes
+
+    name = cls.__name__
+    if name in ordering_of_classes:
+        return (ordering_of_classes.index(name), "")
+    return (len(ordering_of_classes) + 1, name)
+
+
+def _poly_to_sympy_slow(p, gens) -> sympy.Expr:
     terms = []
-    for exps, c in p.to_dict().items():
+    for exps, c in p.terms():
         factors = [sympy.Integer(int(c))]
         for gsym, e in zip(gens, exps):
             if e:
-                factors.append(gsym**e if e != 1 else gsym)
+                factors.append(gsym**e)
         terms.append(sympy.Mul(*factors))
     return sympy.Add(*terms)
 
 
-def _check_size(p, max_terms: int, where: str) -> None:
+def _check_size(p, max_terms: int, system: MnaSystem, where: str) -> None:
     if len(p) > max_terms:
-        raise SizeLimitError(where, f"an intermediate polynomial has {len(p)} terms, over the budget of {max_terms}",
-                             "give more parts a value and derive with --substitute, split the circuit into stages, "
-                             "or raise the budget with --max-terms")
+        fix = "raise the budget with --max-terms (max_terms= in Python) or derive the stages one at a time"
+        if any(name.startswith("A_") for name in system.symbols):
+            fix += ", or with ideal op-amps (--opamp-model ideal)"
+        raise SizeLimitError(
+            where,
+            f"the derivation outgrew its size budget: a polynomial reached {len(p)} terms, over the budget of "
+            f"{max_terms} (the circuit has {system.parts} parts and {system.size} unknowns)", fix)
 
 
 def solve(system: MnaSystem, *, max_terms: int = DEFAULT_MAX_TERMS,
@@ -104,10 +351,11 @@ def solve(system: MnaSystem, *, max_terms: int = DEFAULT_MAX_TERMS,
     ----------
     system : MnaSystem
     max_terms : int
-        Size budget: raise :class:`SizeLimitError` when an intermediate polynomial
-        grows past this many terms.
+        Size budget: raise :class:`SizeLimitError` when a polynomial of the
+        elimination grows past this many terms.
     progress : callable, optional
-        Called with a short stage name as the elimination goes on.
+        Called with a short stage name as the elimination goes on (see
+        :class:`DelayedProgress` to stay silent on short derivations).
     where : str
         Name used in error messages.
 
@@ -119,6 +367,8 @@ def solve(system: MnaSystem, *, max_terms: int = DEFAULT_MAX_TERMS,
     ------
     SingularCircuitError
         When the equations have no unique solution.
+    SizeLimitError
+        When the derivation grows past ``max_terms``.
 
     Examples
     --------
@@ -138,7 +388,14 @@ def solve(system: MnaSystem, *, max_terms: int = DEFAULT_MAX_TERMS,
     return Ratio(num, den, symbols)
 
 
+def _singular(where: str) -> SingularCircuitError:
+    return SingularCircuitError(where, "the circuit equations are singular (no unique solution)",
+                                "check for an op-amp without feedback, a loop of voltage sources, "
+                                "or a node held only by current sources")
+
+
 def _bareiss_target(system: MnaSystem, max_terms: int, progress, where: str):
+    """Sparse Bareiss elimination with lazy row scaling; returns (c, a) of the last row ``a x_t = c``."""
     n = system.size
     ctx = system.ctx
     one = ctx.from_dict({(0,) * ctx.nvars(): 1})
@@ -153,103 +410,120 @@ def _bareiss_target(system: MnaSystem, max_terms: int, progress, where: str):
     for i, row in enumerate(rows):
         for j in row:
             col_rows.setdefault(j, set()).add(i)
-    prev = one
+    pivots = [one]  # pivots[k]: pivot of step k (pivots[0] = 1)
+    level = [0] * n  # step after which each row was last brought up to date
+    report = max(1, (n - 1) // 10)
+
+    def bring(i: int, k: int) -> None:
+        """Scale row i to the state after step k: times pivots[k] / pivots[level[i]]."""
+        if level[i] == k:
+            return
+        up, down = pivots[k], pivots[level[i]]
+        rows[i] = {j: (up * v) / down if not down.is_one() else up * v for j, v in rows[i].items()}
+        level[i] = k
+
     step = 0
     while active_cols:
         step += 1
-        if progress and step % 4 == 0:
+        if progress and (step - 1) % report == 0:
             progress(f"elimination step {step} of {n - 1}")
         best = None
         for j in active_cols:
             candidates = col_rows.get(j, set()) & active_rows
             for i in candidates:
                 p = rows[i][j]
-                key = ((len(rows[i]) - 1) * (len(candidates) - 1), len(p))
+                # Markowitz count (+1) weighted by the pivot's size: the work its step makes
+                key = (((len(rows[i]) - 1) * (len(candidates) - 1) + 1) * len(p), p.total_degree())
                 if best is None or key < best[0]:
                     best = (key, i, j)
         if best is None:
-            raise SingularCircuitError(where, "the circuit equations are singular (no unique solution)",
-                                       "check for an op-amp without feedback, a loop of voltage sources, "
-                                       "or a node held only by current sources")
+            raise _singular(where)
         _key, pr, pc = best
-        pivot_row = rows[pr]
-        pivot = pivot_row[pc]
         active_rows.discard(pr)
         active_cols.discard(pc)
-        for i in active_rows:
+        prev = pivots[step - 1]
+        bring(pr, step - 1)
+        pivot_row = rows[pr]
+        pivot = pivot_row[pc]
+        for i in col_rows[pc] & active_rows:
+            bring(i, step - 1)
             row = rows[i]
-            factor = row.get(pc)
+            factor = row[pc]
             new_row = {}
-            if factor is None:
-                for j, v in row.items():
-                    new_row[j] = (pivot * v) / prev if prev != 1 else pivot * v
-            else:
-                for j in set(row) | set(pivot_row):
-                    if j == pc:
-                        continue
-                    a = row.get(j)
-                    b = pivot_row.get(j)
-                    if a is None:
-                        v = -(factor * b)
-                    elif b is None:
-                        v = pivot * a
-                    else:
-                        v = pivot * a - factor * b
-                    if v == 0:
-                        continue
-                    if prev != 1:
-                        v = v / prev
-                    new_row[j] = v
-            for j, v in new_row.items():
-                _check_size(v, max_terms, where)
-            # update the column index
+            for j in row.keys() | pivot_row.keys():
+                if j == pc:
+                    continue
+                a = row.get(j)
+                b = pivot_row.get(j)
+                if a is None:
+                    v = -(factor * b)
+                elif b is None:
+                    v = pivot * a
+                else:
+                    v = pivot * a - factor * b
+                if v == 0:
+                    continue
+                if not prev.is_one():
+                    v = v / prev
+                _check_size(v, max_terms, system, where)
+                new_row[j] = v
             for j in row:
                 if j not in new_row:
                     col_rows[j].discard(i)
             for j in new_row:
                 col_rows.setdefault(j, set()).add(i)
             rows[i] = new_row
-        prev = pivot
+            level[i] = step
+        pivots.append(pivot)
     (last,) = active_rows
     den = rows[last].get(target)
     num = rows[last].get(rhs_col, ctx.from_dict({}))
     if den is None or den == 0:
-        raise SingularCircuitError(where, "the circuit equations are singular (no unique solution)",
-                                   "check for an op-amp without feedback, a loop of voltage sources, "
-                                   "or a node held only by current sources")
+        raise _singular(where)
     return num, den
 
 
 def _restore(system: MnaSystem, num, den):
-    """Replace reciprocal generators by the monomials they stand for, in a plain ring."""
+    """Replace reciprocal generators by the monomials they stand for, in a plain ring.
+
+    For a reciprocal generator ``g`` standing for ``1/m`` and of top degree ``T`` in
+    ``num`` and ``den``, both are multiplied by ``m**T``: a polynomial
+    ``sum_k p_k g**k`` becomes ``sum_k p_k m**(T - k)``. The pieces ``p_k`` come
+    from derivatives at ``g = 0``, all on flint polynomials.
+    """
     ctx = system.ctx
     names = list(ctx.names())
-    recip = system.reciprocal
-    plain = [nm for nm in names if nm not in recip]
+    gen = dict(zip(names, ctx.gens()))
+    for r, mono in system.reciprocal.items():
+        k_r = names.index(r)
+        top = max(num.degrees()[k_r], den.degrees()[k_r])
+        if top == 0:
+            continue
+        m = ctx.from_dict({(0,) * ctx.nvars(): 1})
+        for name, e in mono.items():
+            m *= gen[name] ** e
+        num, den = _reverse(num, r, top, m), _reverse(den, r, top, m)
+    plain = [nm for nm in names if nm not in system.reciprocal]
     pctx = flint.fmpz_mpoly_ctx.get(tuple(plain), "degrevlex")
-    pos = {nm: i for i, nm in enumerate(plain)}
-    rec_idx = [(names.index(r), [(pos[m], e) for m, e in mono.items()]) for r, mono in recip.items()]
-    plain_idx = [names.index(nm) for nm in plain]
-    nd, dd = num.to_dict(), den.to_dict()
-    top = {}
-    for ri, _mono in rec_idx:
-        top[ri] = max([e[ri] for e in nd] + [e[ri] for e in dd] + [0])
-
-    def convert(d: dict):
-        out: dict[tuple, int] = {}
-        for exps, c in d.items():
-            new = [exps[k] for k in plain_idx]
-            for ri, mono in rec_idx:
-                extra = top[ri] - exps[ri]
-                if extra:
-                    for pi_, e in mono:
-                        new[pi_] += e * extra
-            key = tuple(new)
-            out[key] = out.get(key, 0) + int(c)
-        return pctx.from_dict({k: v for k, v in out.items() if v})
-
     symbols = {nm: system.symbols[nm] for nm in plain}
-    return convert(nd), convert(dd), symbols
+    return num.project_to_context(pctx), den.project_to_context(pctx), symbols
+
+
+def _reverse(p, var: str, top: int, m):
+    """``sum_k p_k var**k`` -> ``sum_k p_k m**(top - k)`` (``p_k`` free of ``var``)."""
+    out = p.context().from_dict({})
+    factorial = 1
+    for k in range(top + 1):
+        if k:
+            p = p.derivative(var)
+            factorial *= k
+        if p == 0:
+            break
+        p_k = p.subs({var: 0})
+        if factorial != 1:
+            p_k = p_k / factorial
+        out += p_k * m ** (top - k)
+    return out
 
 
 def cancel_pair(num, den):

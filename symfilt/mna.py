@@ -52,6 +52,8 @@ class MnaSystem:
         Reciprocal generator name -> {generator name: exponent} of the monomial it stands for.
     symbols : dict
         Generator name -> sympy object it means (``pi`` maps to :data:`sympy.pi`).
+    parts : int
+        Number of parts of the circuit (fixtures not counted), for messages.
     """
 
     ctx: object
@@ -61,6 +63,7 @@ class MnaSystem:
     target: int
     reciprocal: dict
     symbols: dict
+    parts: int = 0
 
     @property
     def size(self) -> int:
@@ -264,4 +267,4 @@ def build_system(circuit: Circuit, mode: str = "transfer") -> MnaSystem:
     if mode == "zout":
         rhs[index[circuit.output]] = one
     return MnaSystem(ctx=ctx, rows=tuple(rows), rhs=rhs, unknowns=tuple(unknowns), target=target,
-                     reciprocal=reciprocal, symbols=symbols)
+                     reciprocal=reciprocal, symbols=symbols, parts=len(circuit.parts))
