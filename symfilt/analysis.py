@@ -224,8 +224,10 @@ def numeric_cutoff(h: NetworkFunction, values: Mapping) -> float | None:
     """-3 dB angular frequency (rad/s) found numerically: the lowest w > 0 where
     |H(jw)|^2 = |H_pass|^2 / 2, with H_pass the DC gain (or the HF gain when the DC gain is 0).
 
-    Exact polynomial in w^2 with rational coefficients, roots by sympy's nroots
-    (no numpy). None when a symbol has no value or there is no such frequency.
+    The coefficients are evaluated at the values (compiled once per function), the
+    polynomial in w^2 is scaled so its roots lie near 1, and mpmath's polyroots
+    finds them (no numpy). None when a symbol has no value or there is no such
+    frequency.
 
     Examples
     --------
@@ -234,29 +236,79 @@ def numeric_cutoff(h: NetworkFunction, values: Mapping) -> float | None:
     >>> round(numeric_cutoff(h, {R: 1000, C: sympy.Rational(1, 10**6)}), 6)
     1000.0
     """
-    hv = h.subs(values)
-    if hv.free_symbols() - {S}:
+    coeffs = h.coefficient_values(values)
+    if coeffs is None:
         return None
-    dc, hf = hv.dc_gain(), hv.hf_gain()
-    passband = dc if dc not in (0, sympy.oo, sympy.zoo) else hf
-    if passband in (0, sympy.oo, sympy.zoo):
+    ncs, dcs = (_trim(cs) for cs in coeffs)
+    if not any(ncs) or not any(dcs):
         return None
-    w = sympy.Symbol("w", positive=True)
-    u = sympy.Symbol("u", positive=True)
-    n_jw = sympy.expand(hv.num.subs(S, sympy.I * w))
-    d_jw = sympy.expand(hv.den.subs(S, sympy.I * w))
-    mag_n = sympy.expand(n_jw * sympy.conjugate(n_jw))
-    mag_d = sympy.expand(d_jw * sympy.conjugate(d_jw))
-    p = sympy.expand(2 * mag_n - sympy.Abs(passband) ** 2 * mag_d).subs(w**2, u)
-    p = sympy.expand(p).subs(w, sympy.sqrt(u))
-    poly = sympy.Poly(sympy.expand(p), u)
-    roots = [complex(r) for r in poly.nroots(n=30, maxsteps=200)]
-    pos = sorted(r.real for r in roots if abs(r.imag) <= 1e-12 * max(1.0, abs(r.real)) and r.real > 0)
-    if not pos:
+    dc = None if dcs[0] == 0 else ncs[0] / dcs[0]
+    hf = None if len(ncs) > len(dcs) else (ncs[-1] / dcs[-1] if len(ncs) == len(dcs) else 0.0)
+    passband = dc if dc not in (None, 0.0) else hf
+    if passband in (None, 0.0) or not math.isfinite(passband):
         return None
-    if dc in (0,):  # high-pass-like: the edge is the highest crossing
-        return math.sqrt(pos[-1])
-    return math.sqrt(pos[0])
+    # P(u) = 2 |N(jw)|^2 - |H_pass|^2 |D(jw)|^2 with u = w^2, lowest power first
+    mag_n, mag_d = _magnitude_squared(ncs), _magnitude_squared(dcs)
+    size = max(len(mag_n), len(mag_d))
+    p = [2 * (mag_n[k] if k < len(mag_n) else 0.0) - passband**2 * (mag_d[k] if k < len(mag_d) else 0.0)
+         for k in range(size)]
+    roots = _positive_roots(p)
+    if not roots:
+        return None
+    if dc in (None, 0.0):  # high-pass-like: the edge is the highest crossing
+        return math.sqrt(roots[-1])
+    return math.sqrt(roots[0])
+
+
+def _trim(cs: list[float]) -> list[float]:
+    cs = list(cs)
+    while len(cs) > 1 and cs[-1] == 0:
+        cs.pop()
+    return cs
+
+
+def _magnitude_squared(cs: list[float]) -> list[float]:
+    """|sum c_k (jw)^k|^2 as coefficients in u = w^2, lowest first."""
+    re = [c * (1 if k % 4 == 0 else -1) if k % 2 == 0 else 0.0 for k, c in enumerate(cs)]
+    im = [c * (1 if k % 4 == 1 else -1) if k % 2 == 1 else 0.0 for k, c in enumerate(cs)]
+    out = [0.0] * (2 * len(cs) - 1)
+    for poly in (re, im):
+        for i, a in enumerate(poly):
+            if a:
+                for j, b in enumerate(poly):
+                    if b:
+                        out[i + j] += a * b
+    return out[::2]
+
+
+def _positive_roots(p: list[float]) -> list[float]:
+    """Positive real roots of a polynomial (lowest coefficient first), sorted.
+
+    The variable is scaled so that the roots are near 1 before mpmath's polyroots
+    runs, since circuit coefficients span many decades.
+    """
+    import mpmath
+
+    p = _trim(p)
+    while p and p[0] == 0:
+        p = p[1:]
+    n = len(p) - 1
+    if n < 1:
+        return []
+    scale = (abs(p[0]) / abs(p[-1])) ** (1.0 / n)
+    q = [c * scale**k for k, c in enumerate(p)]
+    top = max(abs(c) for c in q)
+    q = [c / top for c in q]
+    try:
+        roots = mpmath.polyroots(q[::-1], maxsteps=200, extraprec=200)
+    except mpmath.libmp.NoConvergence:
+        return []
+    out = []
+    for r in roots if isinstance(roots, list) else [roots]:
+        r = complex(r)
+        if abs(r.imag) <= 1e-9 * max(1.0, abs(r.real)) and r.real > 0:
+            out.append(r.real * scale)
+    return sorted(out)
 
 
 @dataclass(frozen=True)

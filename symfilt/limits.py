@@ -66,20 +66,21 @@ def _cutoff_function(h: NetworkFunction, x: sympy.Symbol, others: Mapping) -> Ca
     The standard form is found once; a closed-form cutoff becomes a plain float
     function, otherwise each call finds the root numerically.
     """
-    hx = h.subs(others)
-    cut = cutoff(standard_form(hx)).value
+    cut = cutoff(standard_form(h)).value
     if cut is not None:
-        f = sympy.lambdify(x, cut, modules="math")
+        args = sorted(sympy.sympify(cut).free_symbols, key=lambda z: z.name)
+        f = sympy.lambdify(args, cut, modules="math", dummify=True)
+        fixed = {k: float(v) for k, v in others.items()}
 
         def closed(v: float) -> float | None:
             try:
-                w = complex(f(v))
-            except (ValueError, ZeroDivisionError, OverflowError):
+                w = complex(f(*[v if a == x else fixed[a] for a in args]))
+            except (ValueError, ZeroDivisionError, OverflowError, KeyError):
                 return None
             return w.real if abs(w.imag) <= 1e-12 * max(1.0, abs(w.real)) else None
 
         return closed
-    return lambda v: numeric_cutoff(hx, {x: sympy.Rational(repr(v))})
+    return lambda v: numeric_cutoff(h, {**others, x: v})
 
 
 def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:

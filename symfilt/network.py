@@ -8,7 +8,7 @@ a new one.
 
 from __future__ import annotations
 
-from dataclasses import dataclass, replace
+from dataclasses import dataclass, field, replace
 from functools import cached_property
 from typing import Callable, Mapping
 
@@ -18,7 +18,7 @@ from .circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
 from .elimination import DEFAULT_MAX_TERMS, solve
 from .errors import SingularCircuitError
 from .mna import build_system
-from .polybridge import Bridge, integer_scale
+from .polybridge import Bridge, factor_ratio, integer_scale, smaller_than
 
 #: Quantities derive() knows, with the MNA mode that gives each.
 QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
@@ -72,6 +72,25 @@ class NetworkFunction:
     num: sympy.Expr
     den: sympy.Expr
     quantity: str = "transfer"
+    #: The same ratio as flint polynomials, when it came from the engine: limits,
+    #: coefficients and degrees then work on it directly (fast for large results).
+    ratio: object = field(default=None, compare=False, repr=False)
+
+    @classmethod
+    def from_ratio(cls, ratio, quantity: str = "transfer") -> "NetworkFunction":
+        """Build from an engine :class:`~symfilt.elimination.Ratio`, keeping it for fast limits.
+
+        Examples
+        --------
+        >>> from symfilt import catalogue
+        >>> from symfilt.elimination import solve
+        >>> from symfilt.mna import build_system
+        >>> h = NetworkFunction.from_ratio(solve(build_system(catalogue.build("rc-lowpass"), "transfer")))
+        >>> h.order(), h.ideal().as_expr()
+        (1, 1/(C1*R1*s + 1))
+        """
+        num, den = ratio.to_sympy()
+        return cls(num, den, quantity, ratio)
 
     @classmethod
     def from_expr(cls, expr, quantity: str = "transfer") -> "NetworkFunction":
@@ -123,6 +142,12 @@ class NetworkFunction:
 
     @cached_property
     def _coefficients(self):
+        if self.ratio is not None and not self.infinite:
+            from .elimination import poly_to_sympy
+
+            ncs, dcs = self.ratio.coefficients("s")
+            conv = lambda cs: tuple(poly_to_sympy(c, self.ratio.symbols) for c in cs)
+            return conv(ncs), conv(dcs)
         return tuple(_coeffs(self.num)), tuple(_coeffs(self.den))
 
     def normalized(self) -> tuple[sympy.Expr, sympy.Expr]:
@@ -146,10 +171,7 @@ class NetworkFunction:
         low = next(c for c in dcs if c != 0)
 
         def tidy(c):
-            if c == 0:
-                return sympy.Integer(0)
-            q = sympy.cancel(c / low)
-            return sympy.factor(q) if sympy.count_ops(q) < 80 else q
+            return _tidy_ratio(c, low)
 
         num = sympy.Add(*[tidy(c) * S**k for k, c in enumerate(ncs)])
         den = sympy.Add(*[tidy(c) * S**k for k, c in enumerate(dcs)])
@@ -178,12 +200,7 @@ class NetworkFunction:
         n_low = next(c for c in ncs if c != 0)
         d_low = next(c for c in dcs if c != 0)
 
-        def tidy(c, by):
-            if c == 0:
-                return sympy.Integer(0)
-            q = sympy.cancel(c / by)
-            return sympy.factor(q) if sympy.count_ops(q) < 80 else q
-
+        tidy = _tidy_ratio
         return tidy(n_low, d_low), tuple(tidy(c, n_low) for c in ncs), tuple(tidy(c, d_low) for c in dcs)
 
     def normalized_expr(self) -> sympy.Expr:
@@ -219,6 +236,8 @@ class NetworkFunction:
         >>> NetworkFunction(sympy.Integer(1), S**2 + S + 1).order()
         2
         """
+        if self.ratio is not None:
+            return self.ratio.degree("s")
         return max(sympy.degree(self.num, S), sympy.degree(self.den, S))
 
     def dc_gain(self) -> sympy.Expr:
@@ -229,7 +248,7 @@ class NetworkFunction:
         >>> NetworkFunction(S, S + 1).dc_gain()
         0
         """
-        return _ratio_limit(self.num, self.den, S, 0)
+        return self._gain_at(0)
 
     def hf_gain(self) -> sympy.Expr:
         """Limit as s -> oo (``oo`` when it grows without bound).
@@ -239,7 +258,16 @@ class NetworkFunction:
         >>> NetworkFunction(2 * S, S + 1).hf_gain()
         2
         """
-        return _ratio_limit(self.num, self.den, S, sympy.oo)
+        return self._gain_at(sympy.oo)
+
+    def _gain_at(self, point):
+        if self.ratio is not None and not self.infinite:
+            r = self.ratio.limit("s", 0 if point == 0 else "oo")
+            if r is None:
+                return sympy.oo
+            n, d = r.to_sympy()
+            return _tidy_ratio(n, d)
+        return _ratio_limit(self.num, self.den, S, point)
 
     def limit(self, symbol: sympy.Symbol, point) -> "NetworkFunction":
         """The function as ``symbol`` goes to 0 or oo (exact, on the polynomials).
@@ -254,6 +282,12 @@ class NetworkFunction:
         """
         if self.infinite or symbol not in self.free_symbols():
             return self
+        if self.ratio is not None:
+            r = self.ratio.limit(symbol.name, 0 if point == 0 else "oo")
+            if r is None:
+                raise SingularCircuitError(str(symbol), f"the {self.quantity} grows without bound as {symbol} -> {point}",
+                                           "keep that fixture in the circuit")
+            return NetworkFunction.from_ratio(r, self.quantity)
         ncs, dcs = sympy.Poly(self.num, symbol), sympy.Poly(self.den, symbol)
         if point == 0:
             a, b = min(m[0] for m in ncs.monoms()), min(m[0] for m in dcs.monoms())
@@ -310,6 +344,41 @@ class NetworkFunction:
         n, d = cancel_ratio(self.num.xreplace(m), self.den.xreplace(m))
         return NetworkFunction(n, d, self.quantity)
 
+    def coefficient_values(self, values: Mapping) -> tuple[list[float], list[float]] | None:
+        """Coefficients of numerator and denominator (lowest power of s first) as floats at
+        the given values; None when a symbol other than s has no value.
+
+        The coefficients are compiled once per function (``sympy.lambdify`` with the
+        ``math`` module), so repeated evaluation at nearby values is cheap.
+
+        Examples
+        --------
+        >>> R, C = sympy.symbols("R C", positive=True)
+        >>> NetworkFunction(sympy.Integer(1), 1 + S * R * C).coefficient_values({R: 1000, C: 1e-6})
+        ([1.0], [1.0, 0.001])
+        """
+        if self.infinite:
+            return None
+        args, fn = self._coefficient_function
+        given = {(k.name if hasattr(k, "name") else str(k)): v for k, v in values.items()}
+        try:
+            point = [float(given[x.name]) for x in args]
+        except KeyError:
+            return None
+        n = len(self._coefficients[0])
+        try:
+            out = [float(v) for v in fn(*point)]
+        except (ZeroDivisionError, OverflowError, ValueError, TypeError):
+            return None
+        return out[:n], out[n:]
+
+    @cached_property
+    def _coefficient_function(self):
+        ncs, dcs = self._coefficients
+        args = sorted(self.free_symbols() - {S}, key=lambda x: x.name)
+        fn = sympy.lambdify(args, list(ncs) + list(dcs), modules="math", dummify=True)
+        return args, fn
+
     def evaluate(self, values: Mapping, s_values):
         """Evaluate numerically at complex frequencies (numpy, imported here).
 
@@ -360,9 +429,17 @@ def _ratio_limit(num, den, var, point):
         return sympy.oo
     k_n = -a if point != 0 else a
     k_d = -b if point != 0 else b
-    n, d = cancel_ratio(pn.coeff_monomial(var**k_n), pd.coeff_monomial(var**k_d))
-    q = n / d
-    return sympy.factor(q) if sympy.count_ops(q) < 80 else q
+    return _tidy_ratio(pn.coeff_monomial(var**k_n), pd.coeff_monomial(var**k_d))
+
+
+def _tidy_ratio(num: sympy.Expr, den: sympy.Expr) -> sympy.Expr:
+    """num/den cancelled exactly (flint), and factored when small enough to read."""
+    if num == 0:
+        return sympy.Integer(0)
+    if smaller_than(num, 400) and smaller_than(den, 400):
+        return factor_ratio(num, den)
+    n, d = cancel_ratio(num, den)
+    return n / d
 
 
 def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEFAULT_MAX_TERMS,
@@ -425,5 +502,4 @@ def _solved(circuit: Circuit, quantity: str, max_terms: int, progress, where: st
     ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
     if progress:
         progress("converting to sympy")
-    num, den = ratio.to_sympy()
-    return NetworkFunction(num, den, quantity)
+    return NetworkFunction.from_ratio(ratio, quantity)

@@ -129,3 +129,50 @@ def integer_scale(fn, fd):
     if fd.coeffs()[-1] < 0:
         scale = -scale
     return fn * scale, fd * scale
+
+
+def smaller_than(expr, nodes: int) -> bool:
+    """True when an expression tree has fewer than ``nodes`` nodes; stops counting early.
+
+    A cheap stand-in for ``sympy.count_ops`` on expressions that may be huge.
+
+    Examples
+    --------
+    >>> x, y = sympy.symbols("x y")
+    >>> smaller_than(x + y, 10), smaller_than(sum(x**k for k in range(50)), 10)
+    (True, False)
+    """
+    from itertools import islice
+
+    return sum(1 for _ in islice(sympy.preorder_traversal(expr), nodes)) < nodes
+
+
+def factor_ratio(num, den=1) -> sympy.Expr:
+    """num/den cancelled and factored with python-flint (much faster than sympy.factor).
+
+    Examples
+    --------
+    >>> x, y = sympy.symbols("x y")
+    >>> factor_ratio(x**2 - y**2, 2 * x + 2 * y)
+    x/2 - y/2
+    >>> factor_ratio(x**2 * y + x * y**2, x - y)
+    x*y*(x + y)/(x - y)
+    """
+    num, den = sympy.expand(num), sympy.expand(den)
+    if num == 0:
+        return sympy.Integer(0)
+    bridge = Bridge([num, den])
+    fn, fd = bridge.to_flint(num), bridge.to_flint(den)
+    g = fn.gcd(fd)
+    if not g.is_one():
+        fn, fd = fn / g, fd / g
+
+    def product(p):
+        const, factors = p.factor()
+        out = sympy.Rational(int(const.p), int(const.q))
+        parts = [bridge.to_sympy(f) ** e for f, e in factors]
+        return out, sympy.Mul(*parts)
+
+    cn, pn = product(fn)
+    cd, pd = product(fd)
+    return (cn / cd) * pn / pd

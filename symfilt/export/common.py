@@ -9,6 +9,8 @@ from itertools import combinations
 
 import sympy
 
+from ..polybridge import factor_ratio, smaller_than
+
 GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "kappa", "lambda", "mu",
          "nu", "xi", "rho", "sigma", "tau", "phi", "chi", "psi", "omega"}
 
@@ -96,7 +98,7 @@ def _resistive(e) -> bool:
 def _split_parallel(num_factors: list, den_sum: sympy.Expr):
     """Find A + B = den_sum with A * B dividing the numerator's product."""
     terms = sympy.Add.make_args(den_sum)
-    if len(terms) < 2 or len(terms) > 10:
+    if len(terms) < 2 or len(terms) > 6:
         return None
     num = sympy.Mul(*num_factors)
     for k in range(1, len(terms) // 2 + 1):
@@ -125,7 +127,7 @@ def readable(expr):
     >>> print(readable(RL / (R1 + Rs + RL)))
     R_L/(R1 + R_L + R_s)
     """
-    if expr is None or not isinstance(expr, sympy.Expr) or expr.is_number or sympy.count_ops(expr) > 150:
+    if expr is None or not isinstance(expr, sympy.Expr) or expr.is_number or not smaller_than(expr, 300):
         return expr
     if expr.has(sympy.Symbol("s")):
         return expr
@@ -201,6 +203,6 @@ def impedance_display(z):
     if z.infinite:
         return sympy.oo
     e = z.as_expr()
-    if sympy.count_ops(e) < 150:
-        return sympy.factor(e)
+    if smaller_than(e, 600):
+        return factor_ratio(z.num, z.den)
     return z.normalized_expr()
