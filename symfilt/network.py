@@ -8,6 +8,7 @@ a new one.
 
 from __future__ import annotations
 
+import math
 from dataclasses import dataclass, field, replace
 from functools import cached_property
 from typing import Callable, Mapping
@@ -167,15 +168,25 @@ class NetworkFunction:
     def _normalized(self):
         if self.infinite:
             return sympy.Integer(1), sympy.Integer(0)
-        ncs, dcs = self.coefficients()
+        ncs, dcs, ratio_of = self._coefficient_source()
         low = next(c for c in dcs if c != 0)
 
         def tidy(c):
-            return _tidy_ratio(c, low)
+            return ratio_of(c, low)
 
         num = sympy.Add(*[tidy(c) * S**k for k, c in enumerate(ncs)])
         den = sympy.Add(*[tidy(c) * S**k for k, c in enumerate(dcs)])
         return num, den
+
+    def _coefficient_source(self):
+        """Coefficient lists in s and a function giving a tidy ratio of two of them: on the
+        engine's flint polynomials when there are some, else on sympy expressions."""
+        if self.ratio is not None:
+            ncs, dcs = self.ratio.coefficients("s")
+            symbols = self.ratio.symbols
+            return ncs, dcs, lambda a, b: _tidy_flint(a, b, symbols)
+        ncs, dcs = self.coefficients()
+        return ncs, dcs, _tidy_ratio
 
     def gain_form(self) -> tuple[sympy.Expr, list[sympy.Expr], list[sympy.Expr]]:
         """``K`` and the coefficient lists of ``N(s)``, ``D(s)`` with H = K N(s)/D(s), where
@@ -194,13 +205,11 @@ class NetworkFunction:
     def _gain_form(self):
         if self.infinite:
             return sympy.oo, (sympy.Integer(1),), (sympy.Integer(1),)
-        ncs, dcs = self.coefficients()
+        ncs, dcs, tidy = self._coefficient_source()
         if all(c == 0 for c in ncs):
             return sympy.Integer(0), (sympy.Integer(1),), (sympy.Integer(1),)
         n_low = next(c for c in ncs if c != 0)
         d_low = next(c for c in dcs if c != 0)
-
-        tidy = _tidy_ratio
         return tidy(n_low, d_low), tuple(tidy(c, n_low) for c in ncs), tuple(tidy(c, d_low) for c in dcs)
 
     def normalized_expr(self) -> sympy.Expr:
@@ -359,8 +368,10 @@ class NetworkFunction:
         """
         if self.infinite:
             return None
-        args, fn = self._coefficient_function
         given = {(k.name if hasattr(k, "name") else str(k)): v for k, v in values.items()}
+        if self.ratio is not None:
+            return self._coefficient_values_exact(given)
+        args, fn = self._coefficient_function
         try:
             point = [float(given[x.name]) for x in args]
         except KeyError:
@@ -372,11 +383,45 @@ class NetworkFunction:
             return None
         return out[:n], out[n:]
 
+    def _coefficient_values_exact(self, given: dict):
+        """Evaluate the engine's coefficient polynomials exactly (flint fmpq) at the values."""
+        import flint
+
+        ctx, ncs, dcs = self._coefficient_polys_q
+        point = []
+        for name in ctx.names():
+            sym = self.ratio.symbols.get(name)
+            if name == "s":
+                point.append(flint.fmpq(0))
+            elif sym is sympy.pi:
+                point.append(flint.fmpq(*math.pi.as_integer_ratio()))
+            elif name in given:
+                v = given[name]
+                if isinstance(v, float):
+                    point.append(flint.fmpq(*v.as_integer_ratio()))
+                else:
+                    q = sympy.Rational(v)
+                    point.append(flint.fmpq(int(q.p), int(q.q)))
+            else:
+                return None
+        conv = lambda cs: [_fmpq_float(c(*point)) for c in cs]
+        return conv(ncs), conv(dcs)
+
+    @cached_property
+    def _coefficient_polys_q(self):
+        import flint
+
+        ncs, dcs = self.ratio.coefficients("s")
+        names = tuple(self.ratio.num.context().names())
+        ctx = flint.fmpq_mpoly_ctx.get(names, "degrevlex")
+        conv = lambda cs: [ctx.from_dict(c.to_dict()) for c in cs]
+        return ctx, conv(ncs), conv(dcs)
+
     @cached_property
     def _coefficient_function(self):
         ncs, dcs = self._coefficients
         args = sorted(self.free_symbols() - {S}, key=lambda x: x.name)
-        fn = sympy.lambdify(args, list(ncs) + list(dcs), modules="math", dummify=True)
+        fn = sympy.lambdify(args, list(ncs) + list(dcs), modules="math")
         return args, fn
 
     def evaluate(self, values: Mapping, s_values):
@@ -402,6 +447,10 @@ class NetworkFunction:
         dc = [complex(sympy.N(c.xreplace(sub), 30)) if c != 0 else 0j for c in dcs]
         sv = np.asarray(s_values, dtype=complex)
         return np.polyval(nc[::-1], sv) / np.polyval(dc[::-1], sv)
+
+
+def _fmpq_float(q) -> float:
+    return int(q.p) / int(q.q)
 
 
 def _coeffs(p: sympy.Expr) -> list[sympy.Expr]:
@@ -430,6 +479,23 @@ def _ratio_limit(num, den, var, point):
     k_n = -a if point != 0 else a
     k_d = -b if point != 0 else b
     return _tidy_ratio(pn.coeff_monomial(var**k_n), pd.coeff_monomial(var**k_d))
+
+
+def _tidy_flint(num, den, symbols: dict) -> sympy.Expr:
+    """num/den of two engine polynomials, cancelled in flint; factored in flint when small."""
+    from .elimination import cancel_pair, poly_to_sympy
+
+    if num == 0:
+        return sympy.Integer(0)
+    n, d = cancel_pair(num, den)
+    if len(n) + len(d) > 60:
+        return poly_to_sympy(n, symbols) / poly_to_sympy(d, symbols)
+
+    def product(p):
+        const, factors = p.factor()
+        return sympy.Integer(int(const)) * sympy.Mul(*[poly_to_sympy(f, symbols) ** e for f, e in factors])
+
+    return product(n) / product(d)
 
 
 def _tidy_ratio(num: sympy.Expr, den: sympy.Expr) -> sympy.Expr:
