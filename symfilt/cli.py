@@ -104,23 +104,11 @@ def _percent(text: str, where: str) -> float:
     return value
 
 
-class _DelayedProgress:
-    """Stage names on stderr, only once a derivation has run longer than ``delay`` seconds."""
-
-    def __init__(self, delay: float = 2.0) -> None:
-        import time
-
-        self._clock = time.monotonic
-        self._start = self._clock()
-        self._delay = delay
-
-    def __call__(self, stage: str) -> None:
-        if self._clock() - self._start >= self._delay:
-            click.echo(f"symfilt: {stage}", err=True)
-
-
 def _progress():
-    return _DelayedProgress()
+    """Stage names on stderr, only once a derivation has run longer than two seconds."""
+    from .elimination import DelayedProgress
+
+    return DelayedProgress(lambda stage: click.echo(f"symfilt: {stage}", err=True))
 
 
 @click.group(name="symfilt", cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
