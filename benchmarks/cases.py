@@ -20,12 +20,7 @@ def rc_ladder(n: int) -> Circuit:
     >>> [p.name for p in rc_ladder(2).parts]
     ['R1', 'C1', 'R2', 'C2']
     """
-    parts, prev = [], "in"
-    for k in range(1, n + 1):
-        node = "out" if k == n else f"n{k}"
-        parts += [R(f"R{k}", prev, node), C(f"C{k}", node, "0")]
-        prev = node
-    return Circuit.build(parts, source="symbol", load="symbol", title=f"RC ladder, {n} sections")
+    return catalogue.rc_ladder(n, R=None, C=None, source="symbol", load="symbol")
 
 
 def sallen_key_cascade() -> Circuit:

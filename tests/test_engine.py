@@ -101,12 +101,7 @@ def same(a, b) -> bool:
 
 
 def ladder(n: int) -> Circuit:
-    parts, prev = [], "in"
-    for k in range(1, n + 1):
-        node = "out" if k == n else f"n{k}"
-        parts += [R(f"R{k}", prev, node), C(f"C{k}", node, "0")]
-        prev = node
-    return Circuit.build(parts, source="symbol", load="symbol", title=f"RC ladder {n}")
+    return catalogue.rc_ladder(n, R=None, C=None, source="symbol", load="symbol")
 
 
 def controlled() -> Circuit:
@@ -199,7 +194,7 @@ def test_size_budget_error_names_the_size_and_the_option():
     err = info.value
     assert isinstance(err, OverflowError)
     assert re.fullmatch(
-        r"RC ladder 5: the derivation outgrew its size budget: a polynomial reached (\d+) terms, over the budget of "
+        r"RC ladder, 5 sections: the derivation outgrew its size budget: a polynomial reached (\d+) terms, over the budget of "
         r"20 \(the circuit has 10 parts and 8 unknowns\), raise the budget with --max-terms \(max_terms= in "
         r"Python\) or derive the stages one at a time",
         str(err))
