@@ -194,3 +194,25 @@ def test_undefined_at_these_values(run_cli, tmp_path):
     assert data["numeric"]["ideal"]["q"] is None
     assert data["numeric"]["ideal"]["stability"] == "marginal"
     assert data["ideal"]["q"] is not None  # the closed form is still there
+
+
+def test_large_functions_are_written_from_the_engine_and_read_back(run_cli, monkeypatch):
+    # Above LARGE_TERMS the JSON is written straight from the flint polynomials; it must still
+    # be exact: the RC ladder's transfer, numerator/denominator and impedances read back equal.
+    from symfilt import analyse, catalogue
+    from symfilt.export import json as jx
+
+    monkeypatch.setattr(jx, "LARGE_TERMS", 5)
+    code, out, _ = run_cli("derive", "@rc-ladder", "--format", "json")
+    assert code == 0
+    data = json.loads(out)
+    syms = jx.read_symbols(data)
+    a = analyse(catalogue.build("rc-ladder"), sensitivity=False)
+    for key in ("loaded", "ideal"):
+        st = getattr(a, key)
+        d = data[key]
+        read = lambda text: sympy.sympify(text, locals=syms)
+        assert sympy.cancel(read(d["transfer"]) - st.transfer.as_expr()) == 0
+        assert sympy.cancel(read(d["numerator"]) / read(d["denominator"]) - st.transfer.as_expr()) == 0
+        assert sympy.cancel(read(d["input_impedance"]) - st.zin.as_expr()) == 0
+        assert sympy.cancel(read(d["output_impedance"]) - st.zout.as_expr()) == 0

@@ -50,6 +50,39 @@ def transfer_text(h) -> str:
     return body if k == 1 else f"({p(k)})*{body}"
 
 
+#: Network functions with more terms than this are written straight from the engine's
+#: flint polynomials (exact and sympy-readable, without the K·N/D layout): printing a
+#: sympy expression of tens of thousands of terms would take most of a minute.
+LARGE_TERMS = 2000
+
+
+def _large(h) -> bool:
+    return h.ratio is not None and not h.infinite and h.ratio.terms > LARGE_TERMS
+
+
+def _poly_text(p) -> str:
+    return "(" + p.str().replace("^", "**") + ")"
+
+
+def _ratio_text(h) -> str:
+    """num/den of a large function as text, from the flint polynomials."""
+    return f"{_poly_text(h.ratio.num)}/{_poly_text(h.ratio.den)}"
+
+
+def _function_fields(h) -> tuple[str, str, str]:
+    """transfer, numerator, denominator texts (the denominator's lowest coefficient made 1)."""
+    if _large(h):
+        _ncs, dcs = h.ratio.coefficients("s")
+        low = _poly_text(next(c for c in dcs if c != 0))
+        return _ratio_text(h), f"{_poly_text(h.ratio.num)}/{low}", f"{_poly_text(h.ratio.den)}/{low}"
+    num, den = h.normalized()
+    return transfer_text(h), _s(num), _s(den)
+
+
+def _impedance_text(z) -> str:
+    return _ratio_text(z) if _large(z) else _s(z.as_expr())
+
+
 def stage_dict(st: StageResult) -> dict:
     """One view (loaded or ideal) as a JSON-ready dict.
 
@@ -61,12 +94,12 @@ def stage_dict(st: StageResult) -> dict:
     >>> d["transfer"], d["kind"], d["cutoff"]
     ('1/(C1*R1*s + 1)', 'lowpass', '1/(C1*R1)')
     """
-    num, den = st.transfer.normalized()
+    transfer, numerator, denominator = _function_fields(st.transfer)
     dc, hf = st.transfer.dc_gain(), st.transfer.hf_gain()
     out = {
-        "transfer": transfer_text(st.transfer),
-        "numerator": _s(num),
-        "denominator": _s(den),
+        "transfer": transfer,
+        "numerator": numerator,
+        "denominator": denominator,
         "order": int(st.transfer.order()),
         "kind": st.form.kind,
         "dc_gain": _s(dc),
@@ -79,8 +112,8 @@ def stage_dict(st: StageResult) -> dict:
         "cutoff_note": st.cutoff.reason or None,
         "band_edges": None if st.cutoff.edges is None else [_s(e) for e in st.cutoff.edges],
         "bandwidth": _s(st.cutoff.bandwidth),
-        "input_impedance": _s(st.zin.as_expr()),
-        "output_impedance": _s(st.zout.as_expr()),
+        "input_impedance": _impedance_text(st.zin),
+        "output_impedance": _impedance_text(st.zout),
         "sensitivity": {q: (None if t is None else {k: _s(v) for k, v in t.items()})
                         for q, t in st.sensitivity.items()} if st.sensitivity else
         {"cutoff": None, "w0": None, "q": None, "dc_gain": None},

@@ -6,6 +6,7 @@ import sympy
 
 from ..analysis import Analysis, StageResult
 from ..values import format_value
+from ..polybridge import smaller_than
 from .common import impedance_display, readable, transfer_parts
 
 LONG = 400  # one-line expressions longer than this are not printed in the text report
@@ -26,6 +27,8 @@ def one_line(expr) -> str:
     """
     if expr is None:
         return "—"
+    if not smaller_than(expr, 4 * LONG):
+        return "(large expression; see --format json or latex)"
     text = sympy.sstr(readable(expr))
     text = text.replace("**", "^").replace("*", "·").replace("oo", "∞")
     if len(text) > LONG:
@@ -63,6 +66,8 @@ def transfer_pretty(h) -> str:
 
     if h.infinite:
         return "∞"
+    if h.ratio is not None and h.ratio.terms > 10 * LONG:
+        return f"({h.ratio.terms}-term transfer function; see --format json or latex)"
     k, n, d = transfer_parts(h)
     pp = PrettyPrinter({"use_unicode": True, "order": "none", "wrap_line": False})
     if d == 1:
@@ -89,6 +94,8 @@ def transfer_line(h) -> str:
     """
     if h.infinite:
         return "∞"
+    if h.ratio is not None and h.ratio.terms > 10 * LONG:
+        return f"({h.ratio.terms}-term transfer function; see --format json or latex)"
     k, n, d = transfer_parts(h)
     fmt = lambda e: sympy.sstr(e, order="none").replace("**", "^").replace("*", "·")
     body = fmt(n) if d == 1 else (f"({fmt(n)})" if isinstance(n, sympy.Add) else fmt(n)) + f"/({fmt(d)})"
