@@ -46,49 +46,29 @@ def sensitivity(y: sympy.Expr, x: sympy.Symbol) -> sympy.Expr:
     return e
 
 
-def product_sensitivity(factors, x: sympy.Symbol) -> sympy.Expr:
-    """S_x^y for y = product of polynomials p_i ** e_i, as sum of e_i * (x / p_i) dp_i/dx.
+def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
+    """S_x^y for y = product of polynomials p_i ** e_i, for every symbol x at once.
 
-    Exact and cheap: every term is a ratio of polynomials, so the result is a
-    cancelled rational function (no radicals), even when y itself has square roots.
+    S_x^y = sum of e_i * (x / p_i) dp_i/dx: exact and cheap, a cancelled ratio of
+    polynomials (no radicals) even when y itself has square roots. Worked on
+    python-flint polynomials; each factor is converted once. None when ``factors``
+    is None.
 
     Parameters
     ----------
-    factors : iterable of (sympy.Expr, number)
+    factors : iterable of (sympy.Expr, number) or None
         Polynomials and their exponents.
-    x : sympy.Symbol
-
-    Examples
-    --------
-    >>> R1, R2, C1, C2 = sympy.symbols("R1 R2 C1 C2", positive=True)
-    >>> q = [(R1 * R2 * C1 * C2, sympy.Rational(1, 2)), (C2 * (R1 + R2), -1)]
-    >>> product_sensitivity(q, R1)
-    -(R1 - R2)/(2*(R1 + R2))
-    """
-    terms = [(p, e) for p, e in factors if x in p.free_symbols]
-    if not terms:
-        return sympy.Integer(0)
-    from .network import cancel_ratio
-
-    den = sympy.Mul(*[p for p, _e in terms])
-    num = sympy.Add(*[e * x * sympy.diff(p, x) * sympy.Mul(*[q for q, _f in terms if q is not p])
-                      for p, e in terms])
-    n, d = cancel_ratio(num, den)
-    total = n / d
-    return sympy.factor(total) if sympy.count_ops(total) < _SMALL else total
-
-
-def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
-    """:func:`product_sensitivity` for many symbols at once, on python-flint polynomials.
-
-    Each factor is converted once; each sensitivity is a cancelled ratio of
-    polynomials. None when ``factors`` is None.
+    symbols : iterable of sympy.Symbol
 
     Examples
     --------
     >>> R, C = sympy.symbols("R C", positive=True)
     >>> product_sensitivities([(R * C, -1)], [R, C])
     {'R': -1, 'C': -1}
+    >>> R1, R2, C1, C2 = sympy.symbols("R1 R2 C1 C2", positive=True)
+    >>> q = [(R1 * R2 * C1 * C2, sympy.Rational(1, 2)), (C2 * (R1 + R2), -1)]
+    >>> product_sensitivities(q, [R1])
+    {'R1': -(R1 - R2)/(2*(R1 + R2))}
     """
     if factors is None:
         return None

@@ -22,7 +22,6 @@ import tempfile
 import time
 from pathlib import Path
 
-import pytest
 from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
@@ -195,20 +194,11 @@ def test_mutated_files_derive_or_fail_cleanly():
     assert outcomes["refused"] > 0 and outcomes["derived"] > 0  # both ends were reached
 
 
-def _cli_group():
-    cli = pytest.importorskip("symfilt.cli")
-    group = getattr(cli, "cli", None) or getattr(cli, "main", None)
-    import click
-
-    if not isinstance(group, click.Group):
-        pytest.skip("symfilt.cli has no click group yet")
-    return group
-
-
 def test_mutated_files_through_the_command_line():
     from click.testing import CliRunner
 
-    group = _cli_group()
+    from symfilt.cli import cli as group
+
     folder = Path(tempfile.mkdtemp(prefix="symfilt-fuzz-cli-"))
     stop_at = time.monotonic() + BUDGET_SECONDS
     codes = {0: 0, 2: 0}

@@ -14,19 +14,6 @@ from ..polybridge import factor_ratio, smaller_than
 GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "kappa", "lambda", "mu",
          "nu", "xi", "rho", "sigma", "tau", "phi", "chi", "psi", "omega"}
 
-#: Display labels of the quantities, in report order.
-LABELS = {
-    "transfer": "H(s)",
-    "dc_gain": "DC gain H(0)",
-    "hf_gain": "HF gain H(∞)",
-    "w0": "w0",
-    "q": "Q",
-    "cutoff": "cutoff ωc",
-    "zin": "Zin",
-    "zout": "Zout",
-}
-
-
 def latex_name(name: str) -> str:
     """The trade's LaTeX for a symbol name: R1 -> R_{1}, R_s -> R_{s}, A_U1 -> A_{U1}.
 

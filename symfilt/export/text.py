@@ -10,7 +10,6 @@ from ..polybridge import smaller_than
 from .common import impedance_display, readable, transfer_parts
 
 LONG = 400  # one-line expressions longer than this are not printed in the text report
-QUANTITY_KEYS = ("transfer", "dc-gain", "cutoff", "w0", "q", "zin", "zout", "sensitivity")
 _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
 
 
@@ -237,7 +236,8 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     ----------
     a : Analysis
     quantity : str, optional
-        Only this quantity (one of :data:`QUANTITY_KEYS`).
+        Only this quantity (as ``symfilt derive --quantity`` names it: transfer, dc-gain,
+        cutoff, w0, q, zin, zout, sensitivity).
     load_limits : sequence of LoadLimit, optional
 
     Examples
