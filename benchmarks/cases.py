@@ -7,7 +7,7 @@ the source and load resistances are symbols R_s and R_L.
 from __future__ import annotations
 
 from symfilt import catalogue
-from symfilt.circuit import Circuit, Part
+from symfilt.model.circuit import Circuit, Part
 
 R, C, U = Part.resistor, Part.capacitor, Part.opamp
 

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 import sympy
 
-from symfilt.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S, part_symbol
+from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S, part_symbol
 
 
 def nodal_equations(circuit: Circuit):

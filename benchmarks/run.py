@@ -7,7 +7,7 @@ Run from the repository root::
     python benchmarks/run.py --json out.json
 
 For every case the transfer function of the loaded circuit is derived by
-``symfilt.network.derive`` (median of several in-process runs, sympy's cache
+``symfilt.analysis.network.derive`` (median of several in-process runs, sympy's cache
 cleared before each), and by the plain approach a user would otherwise write
 (nodal equations in sympy, ``sympy.solve``, ``sympy.cancel``; see ``plain.py``),
 timed in-process inside a child process that is stopped at a time limit. Both
@@ -37,8 +37,8 @@ import sympy  # noqa: E402
 from sympy.core.cache import clear_cache  # noqa: E402
 
 from cases import build_case, case_names  # noqa: E402
-from symfilt import network  # noqa: E402
-from symfilt.mna import build_system  # noqa: E402
+from symfilt.analysis import network
+from symfilt.engine.mna import build_system  # noqa: E402
 
 #: The case the speed target is stated for, with the plain approach's longer limit.
 TARGET_CASE = "ladder-8"
@@ -95,11 +95,11 @@ def run_plain(name: str, limit: float, repeats: int):
 
 def same_function(h, text: str) -> bool:
     """Exact check that symfilt's num/den equals the plain result, as polynomials in flint."""
-    from symfilt.polybridge import Bridge
+    from symfilt.engine.polybridge import PolyContext
 
     other = pickle.loads(base64.b64decode(text))  # written by our own child process
     pn, pd = sympy.fraction(sympy.together(other))
-    bridge = Bridge([h.num, h.den, pn, pd])
+    bridge = PolyContext([h.num, h.den, pn, pd])
     f = bridge.to_flint
     return f(h.num) * f(pd) == f(pn) * f(h.den)
 

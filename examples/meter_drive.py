@@ -14,7 +14,9 @@ from __future__ import annotations
 from pathlib import Path
 
 import symfilt
-from symfilt import Circuit, Part, format_value
+from symfilt import Circuit
+from symfilt import Part
+from symfilt import format_value
 
 HERE = Path(__file__).resolve().parent
 

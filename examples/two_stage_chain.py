@@ -15,8 +15,8 @@ import math
 from pathlib import Path
 
 import symfilt
-from symfilt.analysis import numeric_cutoff
-from symfilt.circuit import Circuit, Part
+from symfilt.analysis.stage import numeric_cutoff
+from symfilt.model.circuit import Circuit, Part
 
 HERE = Path(__file__).resolve().parent
 

@@ -8,13 +8,13 @@ Examples
 (R1 + R_L + R_s)/(C1*R_L*(R1 + R_s))
 """
 
-from . import catalogue
-from .analysis import Analysis, StandardForm, analyse, standard_form, substitute
-from .limits import LoadLimit, load_limits
-from .circuit import Circuit, Fixture, Part
-from .claims import Equivalence, assert_equivalent, equivalent, parse_claim
-from .circuit_file import circuit_to_text, load_circuit, parse_circuit_text
-from .errors import (
+from symfilt.model import catalogue
+from symfilt.analysis.stage import Analysis, StandardForm, analyse, standard_form, substitute
+from symfilt.analysis.loading import LoadLimit, load_limits
+from symfilt.model.circuit import Circuit, Fixture, Part
+from symfilt.claims.judge import Equivalence, assert_equivalent, equivalent, parse_claim
+from symfilt.model.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
+from symfilt.errors import (
     CircuitError,
     CircuitFileError,
     ClaimError,
@@ -25,10 +25,10 @@ from .errors import (
     UsageError,
     ValueParseError,
 )
-from .network import NetworkFunction, derive
-from .values import format_value, parse_value
+from symfilt.analysis.network import NetworkFunction, derive
+from symfilt.model.values import format_value, parse_value
 
-__version__ = "0.1.0"
+from symfilt.version import __version__
 
 __all__ = [
     "Analysis",

@@ -11,10 +11,10 @@ from pathlib import Path
 
 import click
 
-from .errors import SymfiltError, UsageError
+from symfilt.errors import SymfiltError, UsageError
 
 FORMATS = ("text", "latex", "mathml", "json")
-QUANTITIES = ("transfer", "dc-gain", "cutoff", "w0", "q", "zin", "zout", "sensitivity")
+CLI_QUANTITIES = ("transfer", "dc-gain", "cutoff", "w0", "q", "zin", "zout", "sensitivity")
 
 
 class _Group(click.Group):
@@ -64,8 +64,8 @@ def load(source: str):
     >>> load("@rc-lowpass").title
     'RC low-pass'
     """
-    from . import catalogue
-    from .circuit_file import load_circuit
+    from symfilt.model import catalogue
+    from symfilt.model.circuit_file import load_circuit
 
     if source.startswith("@"):
         return catalogue.build(source)
@@ -86,7 +86,7 @@ def _inputs(circuit: str) -> list:
 def _emit_report(fmt: str, as_dict, as_text, result) -> None:
     """Emit a design report as JSON or text."""
     if fmt == "json":
-        from .export.json import dumps
+        from symfilt.export.json import dumps
 
         _emit(dumps(as_dict(result)) + "\n")
     else:
@@ -106,7 +106,7 @@ def _percent(text: str, where: str) -> float:
 
 def _progress():
     """Stage names on stderr, only once a derivation has run longer than two seconds."""
-    from .elimination import DelayedProgress
+    from symfilt.engine.elimination import DelayedProgress
 
     return DelayedProgress(lambda stage: click.echo(f"symfilt: {stage}", err=True))
 
@@ -120,7 +120,7 @@ def cli():
 @cli.command(short_help="H(s), gains, w0, Q, cutoff, Zin, Zout, sensitivities: loaded and ideal.")
 @click.argument("circuit")
 @click.option("--format", "fmt", type=click.Choice(FORMATS), default="text", show_default=True)
-@click.option("--quantity", type=click.Choice(QUANTITIES), help="Print only this quantity.")
+@click.option("--quantity", type=click.Choice(CLI_QUANTITIES), help="Print only this quantity.")
 @click.option("--substitute", is_flag=True, help="Put the parts' values into the formulas.")
 @click.option("--load-limit", "load_limit", metavar="TOL",
               help="Report the smallest R_L and largest R_s keeping the cutoff within TOL (e.g. 2%) of ideal.")
@@ -130,10 +130,10 @@ def cli():
               help="Size budget of the elimination (terms per polynomial).")
 def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_terms):
     """Derive H(s), gains, w0, Q, cutoff, Zin, Zout and sensitivities of CIRCUIT (a file or @name)."""
-    from .analysis import analyse, substitute as put_values
-    from .limits import load_limits
-    from .elimination import DEFAULT_MAX_TERMS
-    from .structure import structure_warnings
+    from symfilt.analysis.stage import analyse, substitute as put_values
+    from symfilt.analysis.loading import load_limits
+    from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+    from symfilt.model.structure import structure_warnings
 
     original = c = load(circuit)
     if opamp_model:
@@ -149,7 +149,7 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     limits = load_limits(a, tol) if tol is not None else None
     shown = put_values(a) if substitute else a
     if fmt == "json":
-        from .export import json as jx
+        from symfilt.export import json as jx
 
         extra = {}
         if limits is not None:
@@ -163,15 +163,15 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
             data = _select_json(data, quantity)
         _emit(jx.dumps(data) + "\n")
     elif fmt == "latex":
-        from .export import latex
+        from symfilt.export import latex
 
         _emit(latex.render(shown, quantity))
     elif fmt == "mathml":
-        from .export import mathml
+        from symfilt.export import mathml
 
         _emit(mathml.render(shown, quantity))
     else:
-        from .export import text
+        from symfilt.export import text
 
         out = text.render(shown, quantity, limits)
         if opamp_section is not None:
@@ -189,7 +189,7 @@ def _select_json(data: dict, quantity: str) -> dict:
 @cli.command(short_help="Is a hand derivation equal to the derived quantity? Says where not.")
 @click.argument("circuit")
 @click.argument("claim")
-@click.option("--quantity", type=click.Choice([q for q in QUANTITIES if q != "sensitivity"]), default="transfer",
+@click.option("--quantity", type=click.Choice([q for q in CLI_QUANTITIES if q != "sensitivity"]), default="transfer",
               show_default=True, help="The derived quantity the claim is about.")
 @click.option("--ideal", is_flag=True, help="Compare with the ideal (stage alone) form instead of the loaded one.")
 @click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
@@ -198,9 +198,9 @@ def check(circuit, claim, quantity, ideal, fmt):
 
     Exit 0 when equal, 1 when different, 2 on bad input.
     """
-    from .analysis import analyse
-    from .claims import equivalent
-    from .export.check_report import check_json, check_text
+    from symfilt.analysis.stage import analyse
+    from symfilt.claims.judge import equivalent
+    from symfilt.export.check_report import check_json, check_text
 
     c = load(circuit)
     a = analyse(c, sensitivity=False, progress=_progress())
@@ -221,9 +221,9 @@ def check(circuit, claim, quantity, ideal, fmt):
 @click.option("--write", "write", type=click.Path(dir_okay=False), help="Write the circuit as a circuit file.")
 def catalogue(name, write):
     """List the built-in circuits, or show or write one of them."""
-    from . import catalogue as cat
-    from .circuit_file import circuit_to_text
-    from .outfile import write_text_atomic
+    from symfilt.model import catalogue as cat
+    from symfilt.model.circuit_file import circuit_to_text
+    from symfilt.export.outfile import write_text_atomic
 
     if not name:
         width = max(len(n) for n in cat.names())
@@ -244,8 +244,8 @@ SERIES_NAMES = ("E6", "E12", "E24", "E48", "E96", "E192")
 
 def _opamp_error_section(original, opamp_model, fmt):
     """The op-amp error of ``derive --opamp-model gain|single-pole``: a dict (json) or text."""
-    from .export import design_report
-    from .opamp_error import opamp_error
+    from symfilt.export import design_report
+    from symfilt.design.opamp_error import opamp_error
 
     err = opamp_error(original, opamp_model)
     return design_report.opamp_error_dict(err) if fmt == "json" else design_report.opamp_error_text(err)
@@ -255,7 +255,7 @@ def _spread_progress():
     """A progress bar on stderr, shown once the sampling has taken more than a second."""
     import time
 
-    from .export.design_report import progress_line
+    from symfilt.export.design_report import progress_line
 
     started = []
     shown = []
@@ -282,8 +282,8 @@ def _spread_progress():
 @click.option("--format", "fmt", type=click.Choice(DESIGN_FORMATS), default="text", show_default=True)
 def size(circuit, target, vary, series, fmt):
     """Solve CIRCUIT for a part value that meets a target, and snap it to a preferred series."""
-    from .design import parse_target, size as size_to_target
-    from .export import design_report
+    from symfilt.design.sizing import parse_target, size as size_to_target
+    from symfilt.export import design_report
 
     c = load(circuit)
     parts = tuple(p.strip() for p in vary.split(",") if p.strip())
@@ -304,8 +304,8 @@ def size(circuit, target, vary, series, fmt):
 @click.option("--format", "fmt", type=click.Choice(DESIGN_FORMATS), default="text", show_default=True)
 def spread(circuit, tols, runs, seed, distribution, plot_file, fmt):
     """Tolerance spread of the loaded cutoff, f0, Q and DC gain: Monte Carlo and worst case."""
-    from .export import design_report
-    from .spread import parse_tolerance, spread as run_spread
+    from symfilt.export import design_report
+    from symfilt.design.spread import parse_tolerance, spread as run_spread
 
     c = load(circuit)
     tolerances = dict(parse_tolerance(t) for t in tols)
@@ -323,8 +323,8 @@ def spread(circuit, tols, runs, seed, distribution, plot_file, fmt):
 @click.option("--format", "fmt", type=click.Choice(DESIGN_FORMATS), default="text", show_default=True)
 def drive(circuit, amplitude, frequency, fmt):
     """Peak output voltage, output current and slew rate each op-amp of CIRCUIT must deliver."""
-    from .drive import drive as drive_check
-    from .export import design_report
+    from symfilt.design.drive import drive as drive_check
+    from symfilt.export import design_report
 
     result = drive_check(load(circuit), amplitude, frequency)
     for line in design_report.drive_warnings(result):
@@ -336,7 +336,7 @@ def _frequency(text, where: str):
     """A frequency option in Hz, written like a part value (``10``, ``1k``, ``2.5 kHz``); None stays None."""
     if text is None:
         return None
-    from .values import parse_value
+    from symfilt.model.values import parse_value
 
     value = parse_value(text, where=where)
     if value <= 0:
@@ -354,7 +354,7 @@ def _frequency(text, where: str):
               help="Switch every op-amp to this model.")
 def note(circuit, output, fmin, fmax, opamp_model):
     """Write a design note for CIRCUIT (a file or @name): parts, equations, loaded vs ideal, sensitivities, Bode plot."""
-    from .export.note import write_note
+    from symfilt.export.note import write_note
 
     c = load(circuit)
     if opamp_model:
@@ -377,14 +377,14 @@ def note(circuit, output, fmin, fmax, opamp_model):
               help="Switch every op-amp to this model.")
 def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
     """Draw the Bode plot of CIRCUIT (a file or @name), loaded and ideal overlaid."""
-    from .analysis import analyse
-    from .bode import bode_data, csv_text
-    from .outfile import write_text_atomic
+    from symfilt.analysis.stage import analyse
+    from symfilt.analysis.bode import bode_data, csv_text
+    from symfilt.export.outfile import write_text_atomic
 
     if not output and not csv_file:
         raise UsageError("plot", "nothing to write", "give -o FILE (.svg or .png) and/or --csv FILE")
     if output:
-        from .plot import FORMATS
+        from symfilt.export.plot import FORMATS
 
         if Path(output).suffix.lower() not in FORMATS:
             raise UsageError(output, f"cannot draw to a {Path(output).suffix or 'suffix-less'} file",
@@ -398,7 +398,7 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
         write_text_atomic(csv_file, csv_text(data), protect=_inputs(circuit))
         click.echo(f"wrote {csv_file}", err=True)
     if output:
-        from .plot import plot_bode
+        from symfilt.export.plot import plot_bode
 
         plot_bode(data, output, protect=_inputs(circuit))
         click.echo(f"wrote {output}", err=True)
@@ -407,9 +407,9 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
 @cli.command(short_help="The built-in scenario: a sensor into an ADC, passive vs buffered.")
 def demo():
     """Run the built-in scenario: a sensor into an ADC, passive versus buffered."""
-    from . import demo as scenario
-    from .analysis import analyse
-    from .export.text import render_demo
+    from symfilt.model import demo as scenario
+    from symfilt.analysis.stage import analyse
+    from symfilt.export.text import render_demo
 
     results = [analyse(c, sensitivity=False) for c in scenario.stages()]
     _emit(render_demo(results))

@@ -25,12 +25,12 @@ from scipy import signal
 from scipy.optimize import brentq
 
 from symfilt import catalogue
-from symfilt.analysis import StandardForm, analyse, cutoff, second_order_root, standard_form
-from symfilt.limits import load_limits
-from symfilt.circuit import Circuit, Part
+from symfilt.analysis.stage import StandardForm, analyse, cutoff, second_order_root, standard_form
+from symfilt.analysis.loading import load_limits
+from symfilt.model.circuit import Circuit, Part
 from symfilt.cli import cli
 from symfilt.export.json import read_symbols
-from symfilt.network import NetworkFunction, derive
+from symfilt.analysis.network import NetworkFunction, derive
 
 s = sympy.Symbol("s")
 R, C = sympy.symbols("R C", positive=True)
@@ -946,7 +946,7 @@ def test_third_order_numeric_cutoff_sensitivity():
     # Issue 3, item 4: "S_x^y for y in cutoff, w0, Q, DC gain, to every symbol, symbolic and numeric
     # at the given values". A third-order circuit with every value known gets a numeric cutoff
     # (numeric["loaded"]["cutoff_hz"]) but no numeric cutoff sensitivity, although
-    # symfilt.sensitivity.numeric_sensitivity says it is "used where a quantity has no closed form
+    # symfilt.analysis.sensitivity.numeric_sensitivity says it is "used where a quantity has no closed form
     # (cutoff beyond second order)" -- it is not called anywhere.
     # Circuit: RC ladder, R1 in->a, C1 a->0, R2 a->b, C2 b->0, R3 b->out, C3 out->0, R_s = 600, R_L = 10k.
     c = Circuit.build([Part.resistor("R1", "in", "a", "1k"), Part.capacitor("C1", "a", "0", "100n"),

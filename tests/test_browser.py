@@ -19,7 +19,7 @@ import tempfile
 import pytest
 
 from symfilt import catalogue
-from symfilt.analysis import analyse
+from symfilt.analysis.stage import analyse
 from symfilt.export.note_html import note_html
 
 pytestmark = pytest.mark.browser

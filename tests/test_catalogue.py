@@ -16,10 +16,10 @@ import sympy
 from scipy.optimize import brentq
 
 from symfilt import catalogue
-from symfilt.analysis import analyse, standard_form
-from symfilt.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
+from symfilt.analysis.stage import analyse, standard_form
+from symfilt.model.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
 from symfilt.errors import UsageError
-from symfilt.network import NetworkFunction, derive
+from symfilt.analysis.network import NetworkFunction, derive
 
 s = sympy.Symbol("s")
 pos = lambda names: sympy.symbols(names, positive=True)

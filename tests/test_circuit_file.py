@@ -7,7 +7,7 @@ import os
 import pytest
 
 from symfilt import catalogue
-from symfilt.circuit_file import MAX_FILE_BYTES, circuit_to_text, load_circuit, parse_circuit_text
+from symfilt.model.circuit_file import MAX_FILE_BYTES, circuit_to_text, load_circuit, parse_circuit_text
 from symfilt.errors import CircuitError, CircuitFileError, SingularCircuitError, SizeLimitError, ValueParseError
 
 GOOD = """title = "Anti-alias stage"

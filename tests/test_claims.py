@@ -1,4 +1,4 @@
-"""Checking a hand derivation (symfilt.claims, symfilt.claim_parse, export.check_report).
+"""Checking a hand derivation (symfilt.claims.judge, symfilt.claims.parse, export.check_report).
 
 The "derived" side of every comparison is built here by nodal analysis, node by
 node with the connections written out, and solved with ``sympy.solve``; the
@@ -24,8 +24,8 @@ import sympy
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
-from symfilt.claim_parse import MAX_DEPTH, MAX_EXPONENT, MAX_LATEX_TOKENS, MAX_LENGTH, parse_claim
-from symfilt.claims import Equivalence, assert_equivalent, equivalent
+from symfilt.claims.parse import MAX_DEPTH, MAX_EXPONENT, MAX_LATEX_TOKENS, MAX_LENGTH, parse_claim
+from symfilt.claims.judge import Equivalence, assert_equivalent, equivalent
 from symfilt.errors import ClaimError
 from symfilt.export.check_report import check_json, check_text
 
@@ -384,7 +384,7 @@ HOSTILE = [
 def watchers(monkeypatch):
     """Record any attempt to run a process or import a system module during a call."""
     calls = []
-    from symfilt.claims import parse_claim as warm
+    from symfilt.claims.judge import parse_claim as warm
     warm(r"\frac{1}{R_{1}}", {"R1": R1})  # load the LaTeX parser before watching
     monkeypatch.setattr(os, "system", lambda *a, **k: calls.append(("system", a)))
     monkeypatch.setattr(os, "popen", lambda *a, **k: calls.append(("popen", a)))

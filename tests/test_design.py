@@ -16,13 +16,13 @@ import pytest
 import sympy
 from scipy.optimize import brentq
 
-from symfilt.circuit import Circuit, Part
-from symfilt.design import SERIES, parse_target, series_neighbours, series_values, size, snap
-from symfilt.drive import drive
+from symfilt.model.circuit import Circuit, Part
+from symfilt.design.sizing import SERIES, parse_target, series_neighbours, series_values, size, snap
+from symfilt.design.drive import drive
 from symfilt.errors import OutputError, UsageError
 from symfilt.export import design_report
-from symfilt.opamp_error import opamp_error
-from symfilt.spread import batch_cutoff, parse_tolerance, spread, vector_model
+from symfilt.design.opamp_error import opamp_error
+from symfilt.design.spread import batch_cutoff, parse_tolerance, spread, vector_model
 
 R1, R2, C1, C2, R_s, R_L = sympy.symbols("R1 R2 C1 C2 R_s R_L", positive=True)
 A_U1 = sympy.Symbol("A_U1", positive=True)

@@ -15,11 +15,12 @@ import re
 import pytest
 import sympy
 
-from symfilt import catalogue, network
-from symfilt.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, Part, S, part_symbol
-from symfilt.elimination import DEFAULT_MAX_TERMS, DelayedProgress, poly_to_sympy, solve
+from symfilt import catalogue
+from symfilt.analysis import network
+from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, Part, S, part_symbol
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS, DelayedProgress, poly_to_sympy, solve
 from symfilt.errors import SingularCircuitError, SizeLimitError
-from symfilt.mna import build_system
+from symfilt.engine.mna import build_system
 
 R, C, L, U = Part.resistor, Part.capacitor, Part.inductor, Part.opamp
 

@@ -11,7 +11,8 @@ from pathlib import Path
 
 import pytest
 
-from symfilt import analyse, load_circuit
+from symfilt import analyse
+from symfilt import load_circuit
 
 EXAMPLES = Path(__file__).resolve().parent.parent / "examples"
 SCRIPTS = sorted(EXAMPLES.glob("*.py"))

@@ -26,9 +26,9 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 from symfilt import catalogue
-from symfilt.circuit_file import circuit_to_text, load_circuit
+from symfilt.model.circuit_file import circuit_to_text, load_circuit
 from symfilt.errors import SymfiltError
-from symfilt.network import derive
+from symfilt.analysis.network import derive
 
 EXAMPLES = 150
 BUDGET_SECONDS = 240.0  # after this, remaining examples are skipped

@@ -21,13 +21,13 @@ import pytest
 import sympy
 
 from symfilt import catalogue
-from symfilt.analysis import analyse
-from symfilt.bode import bode_data, csv_text
+from symfilt.analysis.stage import analyse
+from symfilt.analysis.bode import bode_data, csv_text
 from symfilt.errors import OutputError, UsageError
 from symfilt.export import json as jx
 from symfilt.export.note import note_latex, note_markdown, write_note
 from symfilt.export.note_html import note_html
-from symfilt.plot import bode_svg, plot_bode, render_bode
+from symfilt.export.plot import bode_svg, plot_bode, render_bode
 
 NOTE_CIRCUITS = ["sallen-key-lowpass", "rc-lowpass", "mfb-bandpass", "twin-t-notch", "state-variable"]
 VOID = {"meta", "br", "hr", "img", "input", "link", "col", "area", "base", "source", "wbr", "mspace",

@@ -28,9 +28,9 @@ import sympy
 from hypothesis import HealthCheck, assume, event, given, settings
 from hypothesis import strategies as st
 
-from symfilt.circuit import Circuit, Part
+from symfilt.model.circuit import Circuit, Part
 from symfilt.errors import SingularCircuitError
-from symfilt.network import derive
+from symfilt.analysis.network import derive
 
 s = sympy.Symbol("s")
 PASSIVE = ("resistor", "capacitor", "inductor")

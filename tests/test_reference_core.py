@@ -20,8 +20,8 @@ import sympy
 from scipy.optimize import brentq
 
 from symfilt import catalogue
-from symfilt.circuit import Circuit, Part
-from symfilt.network import derive
+from symfilt.model.circuit import Circuit, Part
+from symfilt.analysis.network import derive
 
 s = sympy.Symbol("s")
 R1, R2, R3, C1, C2, L1, Rf, Rg = sympy.symbols("R1 R2 R3 C1 C2 L1 Rf Rg", positive=True)

@@ -2,7 +2,7 @@
 
 One test per error class, each checking the message word for word. The solvability
 checks are also held against the outside: whenever the structural analysis calls a
-circuit singular, the determinant of the MNA matrix built by ``symfilt.mna`` must
+circuit singular, the determinant of the MNA matrix built by ``symfilt.engine.mna`` must
 vanish at random values (a structurally singular matrix has a zero determinant for
 every value of its entries: Duff, Erisman and Reid, "Direct Methods for Sparse
 Matrices", 2nd ed., Oxford 2017, section 6.2, structural rank).
@@ -17,12 +17,12 @@ from fractions import Fraction
 import pytest
 
 from symfilt import catalogue
-from symfilt.circuit import Circuit, Fixture, Part
+from symfilt.model.circuit import Circuit, Fixture, Part
 from symfilt.errors import (CircuitError, OutputError, SingularCircuitError, SizeLimitError, SymfiltError,
                             ValueParseError)
-from symfilt.mna import build_system
-from symfilt.outfile import write_bytes_atomic, write_text_atomic
-from symfilt.structure import MODES, _mna_pattern, check_solvable, structural_rank, structure_warnings
+from symfilt.engine.mna import build_system
+from symfilt.export.outfile import write_bytes_atomic, write_text_atomic
+from symfilt.model.structure import MODES, _mna_pattern, check_solvable, structural_rank, structure_warnings
 
 R, C, L, U, M = Part.resistor, Part.capacitor, Part.inductor, Part.opamp, Part.make
 
@@ -199,7 +199,7 @@ def test_catalogue_circuits_are_solvable_and_full_rank():
 
 
 def _numeric_matrix(circuit, mode, rng):
-    """The MNA matrix of symfilt.mna at random positive integers, as exact fractions."""
+    """The MNA matrix of symfilt.engine.mna at random positive integers, as exact fractions."""
     system = build_system(circuit, mode)
     names = system.ctx.names()
     point = [rng.randint(2, 97) for _ in names]
@@ -249,7 +249,7 @@ def _random_circuit(rng) -> Circuit:
 
 def test_a_circuit_called_singular_has_a_zero_determinant():
     # structural singularity implies det = 0 for every value; check it on random circuits with the
-    # matrix that symfilt.mna builds (an independent implementation of the stamps)
+    # matrix that symfilt.engine.mna builds (an independent implementation of the stamps)
     rng = random.Random(20240611)
     singular = regular = 0
     for _ in range(400):
@@ -374,7 +374,7 @@ def test_interrupted_rename_leaves_the_old_file(tmp_path, monkeypatch):
     def fail(*_args):
         raise OSError(28, "No space left on device")
 
-    monkeypatch.setattr("symfilt.outfile.os.replace", fail)
+    monkeypatch.setattr("symfilt.export.outfile.os.replace", fail)
     assert message(OutputError, write_text_atomic, target, "new note " * 1000) == (
         f"{target}: cannot be written (No space left on device), check the folder exists, is writable and has space")
     assert target.read_text() == "old note"
@@ -389,7 +389,7 @@ def test_interrupt_in_the_middle_of_the_write_leaves_the_old_file(tmp_path, monk
     def interrupt(_fd):
         raise KeyboardInterrupt
 
-    monkeypatch.setattr("symfilt.outfile.os.fsync", interrupt)
+    monkeypatch.setattr("symfilt.export.outfile.os.fsync", interrupt)
     with pytest.raises(KeyboardInterrupt):
         write_bytes_atomic(target, b"\x89PNG" + b"\x00" * 100_000)
     assert target.read_bytes() == b"old plot"

@@ -9,7 +9,7 @@ import pytest
 import sympy
 
 from symfilt.errors import ValueParseError
-from symfilt.values import MAX_MAGNITUDE, MIN_MAGNITUDE, parse_value
+from symfilt.model.values import MAX_MAGNITUDE, MIN_MAGNITUDE, parse_value
 
 R = sympy.Rational
 

@@ -1,8 +1,8 @@
-"""Reports of a claim check (:class:`symfilt.claims.Equivalence`): short text and JSON.
+"""Reports of a claim check (:class:`symfilt.claims.judge.Equivalence`): short text and JSON.
 
 Examples
 --------
->>> from symfilt.claims import Equivalence
+>>> from symfilt.claims.judge import Equivalence
 >>> print(check_text(Equivalence(True, "exact", 0, (), None)), end="")
 equal: the claim matches the derived result (decided exactly)
 """
@@ -24,8 +24,8 @@ def check_text(result: Any) -> str:
 
     Parameters
     ----------
-    result : symfilt.claims.Equivalence
-        The outcome of :func:`symfilt.claims.equivalent`.
+    result : symfilt.claims.judge.Equivalence
+        The outcome of :func:`symfilt.claims.judge.equivalent`.
 
     Returns
     -------
@@ -34,7 +34,7 @@ def check_text(result: Any) -> str:
 
     Examples
     --------
-    >>> from symfilt.claims import Equivalence
+    >>> from symfilt.claims.judge import Equivalence
     >>> r = Equivalence(False, "sampled", 24, ("agrees up to sign: a sign was lost",), {"R1": 1.0})
     >>> print(check_text(r), end="")
     different: the claim does not match the derived result (sampled at 24 points)
@@ -52,17 +52,17 @@ def check_json(result: Any) -> str:
 
     Parameters
     ----------
-    result : symfilt.claims.Equivalence
-        The outcome of :func:`symfilt.claims.equivalent`.
+    result : symfilt.claims.judge.Equivalence
+        The outcome of :func:`symfilt.claims.judge.equivalent`.
 
     Returns
     -------
     str
-        ``json.dumps`` of :meth:`~symfilt.claims.Equivalence.to_dict`, indented by 2.
+        ``json.dumps`` of :meth:`~symfilt.claims.judge.Equivalence.to_dict`, indented by 2.
 
     Examples
     --------
-    >>> from symfilt.claims import Equivalence
+    >>> from symfilt.claims.judge import Equivalence
     >>> import json
     >>> json.loads(check_json(Equivalence(True, "exact", 0, (), None)))
     {'equivalent': True, 'method': 'exact', 'points': 0, 'diagnosis': [], 'counterexample': None}

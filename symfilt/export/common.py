@@ -9,7 +9,7 @@ from itertools import combinations
 
 import sympy
 
-from ..polybridge import factor_ratio, smaller_than
+from symfilt.engine.polybridge import factor_ratio, smaller_than
 
 GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "kappa", "lambda", "mu",
          "nu", "xi", "rho", "sigma", "tau", "phi", "chi", "psi", "omega"}
@@ -100,7 +100,7 @@ def _split_parallel(num_factors: list, den_sum: sympy.Expr):
     return None
 
 
-def readable(expr):
+def parallel_display(expr):
     """Rewrite ``a b / (a + b)`` as ``a || b`` where it appears, for display only.
 
     The result prints with ``||`` (text) or ``\\parallel`` (LaTeX) and equals the
@@ -109,9 +109,9 @@ def readable(expr):
     Examples
     --------
     >>> R1, Rs, RL, C1 = sympy.symbols("R1 R_s R_L C1", positive=True)
-    >>> print(readable((R1 + Rs + RL) / (C1 * RL * (R1 + Rs))))
+    >>> print(parallel_display((R1 + Rs + RL) / (C1 * RL * (R1 + Rs))))
     1/(C1*((R1 + R_s) || R_L))
-    >>> print(readable(RL / (R1 + Rs + RL)))
+    >>> print(parallel_display(RL / (R1 + Rs + RL)))
     R_L/(R1 + R_L + R_s)
     """
     if expr is None or not isinstance(expr, sympy.Expr) or expr.is_number or not smaller_than(expr, 300):
@@ -150,14 +150,14 @@ def transfer_parts(h, *, parallel: bool = True):
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.network import derive
+    >>> from symfilt.analysis.network import derive
     >>> k, n, d = transfer_parts(derive(catalogue.build("rc-lowpass")))
     >>> print(k, "|", n, "|", sympy.sstr(d, order="none"))
     R_L/(R1 + R_L + R_s) | 1 | C1*((R1 + R_s) || R_L)*s + 1
     """
     s = sympy.Symbol("s")
     k, ncs, dcs = h.gain_form()
-    fix = readable if parallel else (lambda e: e)
+    fix = parallel_display if parallel else (lambda e: e)
 
     def poly(cs):
         terms = []
@@ -181,7 +181,7 @@ def impedance_display(z):
 
     Examples
     --------
-    >>> from symfilt.network import NetworkFunction
+    >>> from symfilt.analysis.network import NetworkFunction
     >>> R1, C1 = sympy.symbols("R1 C1", positive=True)
     >>> s = sympy.Symbol("s")
     >>> impedance_display(NetworkFunction.from_expr(R1 + 1 / (s * C1), "zin"))

@@ -11,9 +11,9 @@ import io
 import math
 from pathlib import Path
 
-from ..errors import OutputError
-from ..values import format_value
-from .text import one_line
+from symfilt.errors import OutputError
+from symfilt.model.values import format_value
+from symfilt.export.text import one_line
 
 _PART_UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
 _QUANTITY_UNITS = {"cutoff": "Hz", "w0": "Hz", "q": "", "dc-gain": ""}
@@ -46,12 +46,12 @@ def _pct(x, digits: int = 3) -> str:
 # --- size -------------------------------------------------------------------------
 
 def size_dict(r) -> dict:
-    """A :class:`~symfilt.design.SizeResult` as a JSON-ready dict (DESIGN.md ``size``).
+    """A :class:`~symfilt.design.sizing.SizeResult` as a JSON-ready dict (DESIGN.md ``size``).
 
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.design import size
+    >>> from symfilt.design.sizing import size
     >>> d = size_dict(size(catalogue.build("rc-lowpass"), ("cutoff", 2000), "R1"))
     >>> d["vary"], d["target"], d["series"], [n["value"] for n in d["neighbours"]]
     ('R1', {'quantity': 'cutoff', 'value': 2000.0, 'unit': 'Hz'}, 'E24', [4700.0, 5100.0])
@@ -76,12 +76,12 @@ def size_dict(r) -> dict:
 
 
 def size_text(r) -> str:
-    """A :class:`~symfilt.design.SizeResult` as a plain-text report.
+    """A :class:`~symfilt.design.sizing.SizeResult` as a plain-text report.
 
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.design import size
+    >>> from symfilt.design.sizing import size
     >>> print(size_text(size(catalogue.build("rc-lowpass"), ("cutoff", 2000), "R1")))  # doctest: +ELLIPSIS
     Size R1 for a loaded cutoff of 2 kHz
       exact      R1 = ...
@@ -123,12 +123,12 @@ _STAT_KEYS = ("nominal", "mean", "std", "p1", "p50", "p99", "worst_low", "worst_
 
 
 def spread_dict(r) -> dict:
-    """A :class:`~symfilt.spread.SpreadResult` as a JSON-ready dict (DESIGN.md ``spread``).
+    """A :class:`~symfilt.design.spread.SpreadResult` as a JSON-ready dict (DESIGN.md ``spread``).
 
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.spread import spread
+    >>> from symfilt.design.spread import spread
     >>> d = spread_dict(spread(catalogue.build("rc-lowpass"), {"R": 0.01}, runs=500, seed=3))
     >>> d["runs"], d["seed"], sorted(d["quantities"]["cutoff_hz"])[:4]
     (500, 3, ['corner_high', 'corner_low', 'linear_high', 'linear_low'])
@@ -147,12 +147,12 @@ def spread_dict(r) -> dict:
 
 
 def spread_text(r) -> str:
-    """A :class:`~symfilt.spread.SpreadResult` as a plain-text table.
+    """A :class:`~symfilt.design.spread.SpreadResult` as a plain-text table.
 
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.spread import spread
+    >>> from symfilt.design.spread import spread
     >>> print(spread_text(spread(catalogue.build("rc-lowpass"), {"R": 0.01, "C": 0.05}, runs=500, seed=3)))  # doctest: +ELLIPSIS
     Tolerance spread, loaded: 500 runs, uniform, seed 3
       tolerances  R1 ±1 %, C1 ±5 %
@@ -203,13 +203,13 @@ def write_histogram(r, path, *, protect=()) -> None:
     --------
     >>> import tempfile, pathlib
     >>> from symfilt import catalogue
-    >>> from symfilt.spread import spread
+    >>> from symfilt.design.spread import spread
     >>> p = pathlib.Path(tempfile.mkdtemp()) / "spread.png"
     >>> write_histogram(spread(catalogue.build("rc-lowpass"), {"R": 0.01}, runs=500, seed=3), p)
     >>> p.read_bytes()[:4]
     b'\\x89PNG'
     """
-    from ..outfile import write_bytes_atomic
+    from symfilt.export.outfile import write_bytes_atomic
 
     fmt = Path(path).suffix.lower().lstrip(".")
     if fmt not in ("png", "svg", "pdf"):
@@ -250,8 +250,8 @@ def drive_warnings(r) -> list[str]:
 
     Examples
     --------
-    >>> from symfilt.circuit import Circuit, Part
-    >>> from symfilt.drive import drive
+    >>> from symfilt.model.circuit import Circuit, Part
+    >>> from symfilt.design.drive import drive
     >>> c = Circuit.build([Part.resistor("R1", "in", "n", "10k"), Part.resistor("R2", "n", "out", "22k"),
     ...                    Part.opamp("U1", "0", "n", "out", iout_max="1m")], load="2k")
     >>> drive_warnings(drive(c, 1, "1k"))
@@ -269,12 +269,12 @@ def drive_warnings(r) -> list[str]:
 
 
 def drive_dict(r) -> dict:
-    """A :class:`~symfilt.drive.DriveResult` as a JSON-ready dict (DESIGN.md ``drive``).
+    """A :class:`~symfilt.design.drive.DriveResult` as a JSON-ready dict (DESIGN.md ``drive``).
 
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.drive import drive
+    >>> from symfilt.design.drive import drive
     >>> d = drive_dict(drive(catalogue.build("inverting-lowpass"), 1, 1000))
     >>> sorted(d["opamps"]["U1"])[:5]
     ['branches', 'iout_exceeded', 'iout_max_a', 'iout_peak_a', 'node']
@@ -295,12 +295,12 @@ def drive_dict(r) -> dict:
 
 
 def drive_text(r) -> str:
-    """A :class:`~symfilt.drive.DriveResult` as a plain-text report.
+    """A :class:`~symfilt.design.drive.DriveResult` as a plain-text report.
 
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.drive import drive
+    >>> from symfilt.design.drive import drive
     >>> print(drive_text(drive(catalogue.build("inverting-lowpass"), 1, 1000)))  # doctest: +ELLIPSIS
     Op-amp drive at 1 V peak (source), 1 kHz
     U1, output node out
@@ -329,12 +329,12 @@ def drive_text(r) -> str:
 # --- op-amp error -----------------------------------------------------------------
 
 def opamp_error_dict(e) -> dict:
-    """A :class:`~symfilt.opamp_error.OpampError` as a JSON-ready dict.
+    """A :class:`~symfilt.design.opamp_error.OpampError` as a JSON-ready dict.
 
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.opamp_error import opamp_error
+    >>> from symfilt.design.opamp_error import opamp_error
     >>> d = opamp_error_dict(opamp_error(catalogue.build("inverting-lowpass"), "gain"))
     >>> d["dc_gain"]["first_order"]
     {'A_U1': '-(R1 + R2 + R_s)/(R1 + R_s)'}
@@ -363,12 +363,12 @@ def _series_line(terms: dict | None) -> str:
 
 
 def opamp_error_text(e) -> str:
-    """A :class:`~symfilt.opamp_error.OpampError` as a plain-text section.
+    """A :class:`~symfilt.design.opamp_error.OpampError` as a plain-text section.
 
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.opamp_error import opamp_error
+    >>> from symfilt.design.opamp_error import opamp_error
     >>> print(opamp_error_text(opamp_error(catalogue.build("inverting-lowpass"), "gain", gain="100k")))  # doctest: +ELLIPSIS
     Op-amp error (gain model against ideal op-amps, loaded; relative)
     DC gain

@@ -11,7 +11,7 @@ import math
 
 import sympy
 
-from ..analysis import Analysis, StageResult
+from symfilt.analysis.stage import Analysis, StageResult
 
 
 def _s(e):
@@ -34,11 +34,11 @@ def transfer_text(h) -> str:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.network import derive
+    >>> from symfilt.analysis.network import derive
     >>> transfer_text(derive(catalogue.build("rc-lowpass")))
     '(R_L/(R1 + R_L + R_s))*1/(C1*R_L*(R1 + R_s)*s/(R1 + R_L + R_s) + 1)'
     """
-    from .common import transfer_parts
+    from symfilt.export.common import transfer_parts
 
     if h.infinite:
         return "oo"
@@ -89,7 +89,7 @@ def stage_dict(st: StageResult) -> dict:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> d = stage_dict(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal)
     >>> d["transfer"], d["kind"], d["cutoff"]
     ('1/(C1*R1*s + 1)', 'lowpass', '1/(C1*R1)')
@@ -127,7 +127,7 @@ def analysis_dict(a: Analysis, extra: dict | None = None) -> dict:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> d = analysis_dict(analyse(catalogue.build("rc-lowpass")))
     >>> sorted(d)
     ['ideal', 'input', 'loaded', 'numeric', 'output', 'ratios', 'sum_rules', 'symbols', 'title']
@@ -176,7 +176,7 @@ def read_symbols(data: dict) -> dict:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> d = analysis_dict(analyse(catalogue.build("rc-lowpass"), sensitivity=False))
     >>> syms = read_symbols(d)
     >>> sympy.sympify(d["ideal"]["transfer"], locals=syms) == analyse(catalogue.build("rc-lowpass")).ideal.transfer.as_expr()

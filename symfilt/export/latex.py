@@ -5,8 +5,8 @@ from __future__ import annotations
 
 import sympy
 
-from ..analysis import Analysis, StageResult
-from .common import impedance_display, readable, symbol_names, transfer_parts
+from symfilt.analysis.stage import Analysis, StageResult
+from symfilt.export.common import impedance_display, parallel_display, symbol_names, transfer_parts
 
 
 def transfer_tex(h) -> str:
@@ -15,7 +15,7 @@ def transfer_tex(h) -> str:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.network import derive
+    >>> from symfilt.analysis.network import derive
     >>> print(transfer_tex(derive(catalogue.build("rc-lowpass")).ideal()))
     \\frac{1}{C_{1} R_{1} s + 1}
     """
@@ -45,7 +45,7 @@ def tex(expr, *, keep_parallel: bool = True) -> str:
     """
     if expr is None:
         return "\\text{---}"
-    e = readable(expr) if keep_parallel else expr
+    e = parallel_display(expr) if keep_parallel else expr
     return sympy.latex(e, symbol_names=symbol_names(expr), ln_notation=False)
 
 
@@ -60,7 +60,7 @@ def stage_equations(st: StageResult) -> list[tuple[str, str]]:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> dict(stage_equations(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal))["\\\\omega_{c}"]
     '\\\\frac{1}{C_{1} R_{1}}'
     """
@@ -87,7 +87,7 @@ def quantity_latex(st: StageResult, quantity: str) -> str | None:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> quantity_latex(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal, "dc-gain")
     '1'
     """
@@ -106,7 +106,7 @@ def sensitivity_rows(st: StageResult) -> list[tuple[str, str]]:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> sensitivity_rows(analyse(catalogue.build("rc-lowpass")).ideal)[0]
     ('S_{R_{1}}^{\\\\omega_{c}}', '-1')
     """
@@ -116,7 +116,7 @@ def sensitivity_rows(st: StageResult) -> list[tuple[str, str]]:
         if not table:
             continue
         for name, e in table.items():
-            from .common import latex_name
+            from symfilt.export.common import latex_name
 
             rows.append((f"S_{{{latex_name(name)}}}^{{{names[q]}}}", tex(e, keep_parallel=False)))
     return rows
@@ -128,7 +128,7 @@ def render(a: Analysis, quantity: str | None = None) -> str:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> out = render(analyse(catalogue.build("rc-lowpass"), sensitivity=False))
     >>> out.count("\\\\begin{align*}") == out.count("\\\\end{align*}") == 2
     True

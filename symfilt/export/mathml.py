@@ -4,8 +4,8 @@ from __future__ import annotations
 
 from html import escape
 
-from ..analysis import Analysis
-from . import latex
+from symfilt.analysis.stage import Analysis
+from symfilt.export import latex
 
 
 def to_mathml(tex_text: str, display: str = "block") -> str:
@@ -28,7 +28,7 @@ def render(a: Analysis, quantity: str | None = None) -> str:
     --------
     >>> import xml.dom.minidom
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> doc = render(analyse(catalogue.build("rc-lowpass"), sensitivity=False))
     >>> xml.dom.minidom.parseString(doc).documentElement.tagName
     'div'

@@ -19,12 +19,12 @@ from __future__ import annotations
 import math
 from pathlib import Path
 
-from ..analysis import Analysis, StageResult
-from ..values import format_value
-from .latex import stage_equations
+from symfilt.analysis.stage import Analysis, StageResult
+from symfilt.model.values import format_value
+from symfilt.export.latex import stage_equations
 
 #: Numeric quantities of the loaded-versus-ideal table: JSON key, label, LaTeX label, unit.
-QUANTITIES = (
+NUMBER_ROWS = (
     ("cutoff_hz", "cutoff frequency", "f_{c}", "Hz"),
     ("low_edge_hz", "lower band edge", "f_{L}", "Hz"),
     ("high_edge_hz", "upper band edge", "f_{H}", "Hz"),
@@ -82,7 +82,7 @@ def kind_words(st: StageResult) -> str:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> kind_words(analyse(catalogue.build("rc-ladder"), sensitivity=False).ideal)
     'third-order response'
     """
@@ -118,7 +118,7 @@ def part_rows(a: Analysis) -> list[dict]:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> r = part_rows(analyse(catalogue.build("rc-lowpass"), sensitivity=False))[0]
     >>> r["name"], r["connection"], r["value"], r["key"]
     ('R1', 'in → out', '4.7 kΩ', 'symbols.R1.value')
@@ -176,7 +176,7 @@ def stability_row(a: Analysis) -> dict | None:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> r = stability_row(analyse(catalogue.build("rc-lowpass"), sensitivity=False))
     >>> r["loaded"]["text"], r["loaded"]["key"]
     ('stable', 'numeric.loaded.stability')
@@ -198,13 +198,13 @@ def number_rows(a: Analysis) -> list[dict]:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> r = number_rows(analyse(catalogue.build("rc-lowpass"), sensitivity=False))[0]
     >>> r["label"], r["loaded"]["text"], r["ideal"]["text"], r["ratio"]["text"]
     ('cutoff frequency', '2.088 kHz', '1.539 kHz', '1.357')
     """
     rows = []
-    for key, label, tex_label, unit in QUANTITIES:
+    for key, label, tex_label, unit in NUMBER_ROWS:
         lo, hi = a.numeric.get("loaded", {}), a.numeric.get("ideal", {})
         if key not in lo and key not in hi:
             continue
@@ -230,7 +230,7 @@ def sensitivity_table(a: Analysis, view: str) -> tuple[list[str], list[tuple[str
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> cols, rows = sensitivity_table(analyse(catalogue.build("rc-lowpass")), "ideal")
     >>> cols, rows[0][0], [c["text"] for c in rows[0][1]]
     (['cutoff', 'w0', 'dc_gain'], 'R1', ['-1', '-1', '0'])
@@ -260,7 +260,7 @@ def standard_form_tex(st: StageResult) -> str | None:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> standard_form_tex(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal)
     'H(s) = \\\\frac{K}{1 + s \\\\tau}, \\\\quad \\\\omega_{0} = \\\\frac{1}{\\\\tau}'
     """
@@ -295,7 +295,7 @@ def equations(st: StageResult) -> list[tuple[str, str]]:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> equations(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal)[0]
     ('transfer function', 'H(s) = \\\\frac{1}{C_{1} R_{1} s + 1}')
     """
@@ -308,7 +308,7 @@ def has_fixtures(a: Analysis) -> bool:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> has_fixtures(analyse(catalogue.build("rc-lowpass", source="none", load="none"), sensitivity=False))
     False
     """
@@ -322,7 +322,7 @@ def views(a: Analysis) -> tuple:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> [k for k, _ in views(analyse(catalogue.build("rc-lowpass"), sensitivity=False))]
     ['loaded', 'ideal']
     """
@@ -335,7 +335,7 @@ def assumptions(a: Analysis) -> list[str]:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> assumptions(analyse(catalogue.build("rc-lowpass"), sensitivity=False))[0]
     'Passive stage: no op-amps.'
     """
@@ -377,7 +377,7 @@ def cautions(a: Analysis) -> list[str]:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> any("bench" in c for c in cautions(analyse(catalogue.build("rc-lowpass"), sensitivity=False)))
     True
     """
@@ -404,11 +404,11 @@ def sweep(a: Analysis, fmin=None, fmax=None, points=None):
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> sweep(analyse(catalogue.build("rc-lowpass", R1=None), sensitivity=False))
     (None, 'no value for R1')
     """
-    from ..bode import DEFAULT_POINTS, bode_data, missing_values
+    from symfilt.analysis.bode import DEFAULT_POINTS, bode_data, missing_values
 
     missing = missing_values(a.loaded.transfer, a.circuit.values())
     if missing:
@@ -436,12 +436,12 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> md = note_markdown(analyse(catalogue.build("rc-lowpass")), plot_file="rc-bode.svg")
     >>> md.splitlines()[0], md.count("$$") % 2, "](rc-bode.svg)" in md
     ('# RC low-pass', 0, True)
     """
-    from .. import __version__
+    from symfilt.version import __version__
 
     title = a.circuit.title or "Untitled stage"
     out = [f"# {title}", "", f"Design note: {kind_words(a.ideal)} from {node_name(a.circuit.input)} "
@@ -509,7 +509,7 @@ def note_latex(a: Analysis) -> str:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> tex = note_latex(analyse(catalogue.build("rc-lowpass")))
     >>> tex.count("\\\\begin{align}"), tex.count("\\\\end{align}"), "f_{c} &\\\\approx 2.088\\\\,\\\\mathrm{kHz}" in tex
     (1, 1, True)
@@ -575,9 +575,9 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
     >>> [p.name for p in write_note(catalogue.build("rc-lowpass"), d / "rc.md")]
     ['rc-bode.svg', 'rc.md']
     """
-    from ..analysis import analyse
-    from ..errors import UsageError
-    from ..outfile import write_text_atomic
+    from symfilt.analysis.stage import analyse
+    from symfilt.errors import UsageError
+    from symfilt.export.outfile import write_text_atomic
 
     p = Path(path)
     kind = NOTE_FORMATS.get(p.suffix.lower())
@@ -586,21 +586,21 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
                          "name the note .html, .md or .tex")
     a = circuit if isinstance(circuit, Analysis) else analyse(circuit, progress=progress)
     if kind == "html":
-        from .note_html import note_html
+        from symfilt.export.note_html import note_html
 
         write_text_atomic(p, note_html(a, source=source, fmin=fmin, fmax=fmax, points=points), protect=protect)
         return [p]
     if kind == "latex":
         write_text_atomic(p, note_latex(a), protect=protect)
         return [p]
-    from ..plot import render_bode
+    from symfilt.export.plot import render_bode
 
     data, _ = sweep(a, fmin, fmax, points)
     written = []
     plot_name = None
     if data is not None:
         svg_path = p.with_name(p.stem + "-bode.svg")
-        from ..outfile import write_bytes_atomic
+        from symfilt.export.outfile import write_bytes_atomic
 
         write_bytes_atomic(svg_path, render_bode(data, "svg"), protect=protect)
         written.append(svg_path)

@@ -12,9 +12,9 @@ from __future__ import annotations
 import re
 from html import escape
 
-from ..analysis import Analysis
-from .latex import sensitivity_rows
-from .note import (SENS_COLUMNS, assumptions, cautions, equations, has_fixtures, kind_words, node_name, number_rows,
+from symfilt.analysis.stage import Analysis
+from symfilt.export.latex import sensitivity_rows
+from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, has_fixtures, kind_words, node_name, number_rows,
                    part_rows, plain_number, sensitivity_table, stability_row, standard_form_tex, sweep, views)
 
 _CSS = """
@@ -87,7 +87,7 @@ def _html_prose(text: str) -> str:
 
 
 def _mathml(tex_text: str, display: str = "block") -> str:
-    from .mathml import to_mathml
+    from symfilt.export.mathml import to_mathml
 
     return to_mathml(tex_text, display=display)
 
@@ -196,7 +196,7 @@ def _html_sensitivity(a: Analysis) -> list[str]:
 
 
 def _html_plot(a: Analysis, fmin=None, fmax=None, points=None) -> list[str]:
-    from ..plot import bode_svg
+    from symfilt.export.plot import bode_svg
 
     data, reason = sweep(a, fmin, fmax, points)
     if data is None:
@@ -224,12 +224,12 @@ def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=Non
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> page = note_html(analyse(catalogue.build("rc-lowpass")))
     >>> page.startswith("<!DOCTYPE html>"), "<script" in page, page.count("<math") > 10, "<svg" in page
     (True, False, True, True)
     """
-    from .. import __version__
+    from symfilt.version import __version__
 
     title = a.circuit.title or "Untitled stage"
     fix = " with its source and load, and alone" if has_fixtures(a) else ""

@@ -4,10 +4,10 @@ from __future__ import annotations
 
 import sympy
 
-from ..analysis import Analysis, StageResult
-from ..values import format_value
-from ..polybridge import smaller_than
-from .common import impedance_display, readable, transfer_parts
+from symfilt.analysis.stage import Analysis, StageResult
+from symfilt.model.values import format_value
+from symfilt.engine.polybridge import smaller_than
+from symfilt.export.common import impedance_display, parallel_display, transfer_parts
 
 LONG = 400  # one-line expressions longer than this are not printed in the text report
 _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
@@ -28,7 +28,7 @@ def one_line(expr) -> str:
         return "—"
     if not smaller_than(expr, 4 * LONG):
         return "(large expression; see --format json or latex)"
-    text = sympy.sstr(readable(expr))
+    text = sympy.sstr(parallel_display(expr))
     text = text.replace("**", "^").replace("*", "·").replace("oo", "∞")
     if len(text) > LONG:
         return f"({len(text)}-character expression; see --format json or latex)"
@@ -54,7 +54,7 @@ def transfer_pretty(h) -> str:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.network import derive
+    >>> from symfilt.analysis.network import derive
     >>> print(transfer_pretty(derive(catalogue.build("inverting-lowpass")).ideal()))  # doctest: +NORMALIZE_WHITESPACE
     -R₂       1
     ────⋅───────────
@@ -87,7 +87,7 @@ def transfer_line(h) -> str:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.network import derive
+    >>> from symfilt.analysis.network import derive
     >>> transfer_line(derive(catalogue.build("rc-lowpass")))
     'R_L/(R1 + R_L + R_s) · 1/(C1·((R1 + R_s) || R_L)·s + 1)'
     """
@@ -243,7 +243,7 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> print(render(analyse(catalogue.build("rc-lowpass")), "cutoff"))
     cutoff ωc, loaded = 1/(C1·((R1 + R_s) || R_L))
     cutoff ωc, ideal  = 1/(C1·R1)
@@ -290,7 +290,7 @@ def render_limit(lim) -> str:
 
     Examples
     --------
-    >>> from symfilt.limits import LoadLimit
+    >>> from symfilt.analysis.loading import LoadLimit
     >>> render_limit(LoadLimit("R_L", "min", 0.02, 235000.0, sympy.Symbol("R1") * 50, ""))
     '  R_L ≥ 235 kΩ keeps the cutoff within 2% of ideal  (R_L ≥ 50·R1)'
     """
@@ -356,8 +356,8 @@ def render_demo(results) -> str:
 
     Examples
     --------
-    >>> from symfilt import demo
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.model import demo
+    >>> from symfilt.analysis.stage import analyse
     >>> print(render_demo([analyse(demo.passive_stage(), sensitivity=False)]).splitlines()[0])
     symfilt demo: a humidity probe (10 kΩ output resistance) into an ADC input (22 kΩ ‖ 100 pF)
     """

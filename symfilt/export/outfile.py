@@ -12,7 +12,7 @@ import secrets
 import stat
 from pathlib import Path
 
-from .errors import OutputError
+from symfilt.errors import OutputError
 
 
 def write_text_atomic(path, text: str, *, protect=()) -> None:

@@ -34,11 +34,11 @@ from typing import Callable, Mapping, Sequence
 import sympy
 from mpmath.libmp.libhyper import NoConvergence
 
-from .analysis import StageResult, analyse, numeric_values
-from .circuit import LOAD_C, Circuit, S
-from .elimination import DEFAULT_MAX_TERMS
-from .errors import UsageError
-from .values import parse_value
+from symfilt.analysis.stage import StageResult, analyse, numeric_values
+from symfilt.model.circuit import LOAD_C, Circuit, S
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+from symfilt.errors import UsageError
+from symfilt.model.values import parse_value
 
 # --- IEC 60063 preferred numbers ------------------------------------------------
 
@@ -148,7 +148,7 @@ def snap(value, series: str = "E24") -> sympy.Rational:
 
 # --- targets --------------------------------------------------------------------
 
-#: Target quantities and the key of :func:`symfilt.analysis.numeric_values` that measures each.
+#: Target quantities and the key of :func:`symfilt.analysis.stage.numeric_values` that measures each.
 TARGETS = MappingProxyType({"cutoff": "cutoff_hz", "w0": "f0_hz", "q": "q", "dc-gain": "dc_gain"})
 _ALIASES = {"cutoff": "cutoff", "fc": "cutoff", "w0": "w0", "f0": "w0", "q": "q",
             "dc-gain": "dc-gain", "dc_gain": "dc-gain", "gain": "dc-gain"}
@@ -357,10 +357,10 @@ def _log_roots(f: Callable[[float], float | None], lo: float, hi: float, per_dec
 
 def _numeric_cutoff_function(stage: StageResult, tie: dict, values: dict, x, goal: float):
     """f(x) = cutoff(x) / goal - 1 in Hz, the cutoff found from the coefficients of H(s) in
-    floating point (:func:`symfilt.spread.batch_cutoff`, numpy) - fast enough for a scan."""
+    floating point (:func:`symfilt.design.spread.batch_cutoff`, numpy) - fast enough for a scan."""
     import numpy as np
 
-    from .spread import batch_cutoff
+    from symfilt.design.spread import batch_cutoff
 
     b, d = stage.transfer.coefficients()
     lam = [sympy.lambdify(x, (c.xreplace(tie) if tie else c).xreplace(values), "math") for c in b + d]

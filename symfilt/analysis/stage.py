@@ -22,12 +22,12 @@ from typing import Callable, Mapping
 
 import sympy
 
-from .circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, S
-from .elimination import DEFAULT_MAX_TERMS
-from .network import NetworkFunction, derive
-from .sensitivity import product_sensitivities, sum_rules
+from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, S
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+from symfilt.analysis.network import NetworkFunction, derive
+from symfilt.analysis.sensitivity import product_sensitivities, sum_rules
 
-KINDS = ("lowpass", "highpass", "bandpass", "notch", "allpass", "general")
+RESPONSE_KINDS = ("lowpass", "highpass", "bandpass", "notch", "allpass", "general")
 _SMALL = 120  # simplify expressions up to this many operations
 
 
@@ -50,7 +50,7 @@ class StandardForm:
     ----------
     order : int
     kind : str
-        One of :data:`KINDS`.
+        One of :data:`RESPONSE_KINDS`.
     gain : sympy.Expr or None
         K: the pass-band gain of the standard form (DC gain of a low-pass, HF gain of a
         high-pass, the gain at w0 of a band-pass).
@@ -621,7 +621,7 @@ def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
 
 def _numeric_cutoff_sensitivity(h: NetworkFunction, values: Mapping) -> dict | None:
     """S_x^cutoff by a central difference in log x of the numeric cutoff (no closed form)."""
-    from .sensitivity import numeric_sensitivity
+    from symfilt.analysis.sensitivity import numeric_sensitivity
 
     if h.free_symbols() - {S} - set(values) or numeric_cutoff(h, values) is None:
         return None

@@ -22,7 +22,7 @@ from fractions import Fraction
 
 import sympy
 
-from .errors import ValueParseError
+from symfilt.errors import ValueParseError
 
 #: SI prefixes and their powers of ten.
 PREFIXES: dict[str, int] = {

@@ -1,8 +1,8 @@
 """Network functions: exact ratios of polynomials in s, and deriving them from a circuit.
 
 :func:`derive` turns a circuit into a :class:`NetworkFunction` (transfer function,
-input impedance or output impedance) through :mod:`symfilt.mna` and
-:mod:`symfilt.elimination`. A NetworkFunction is frozen; every operation returns
+input impedance or output impedance) through :mod:`symfilt.engine.mna` and
+:mod:`symfilt.engine.elimination`. A NetworkFunction is frozen; every operation returns
 a new one.
 """
 
@@ -15,14 +15,14 @@ from typing import Callable, Mapping
 
 import sympy
 
-from .circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
-from .elimination import DEFAULT_MAX_TERMS, solve
-from .errors import SingularCircuitError
-from .mna import build_system
-from .polybridge import Bridge, factor_ratio, integer_scale, smaller_than
+from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS, solve
+from symfilt.errors import SingularCircuitError
+from symfilt.engine.mna import build_system
+from symfilt.engine.polybridge import PolyContext, factor_ratio, integer_scale, smaller_than
 
 #: Quantities derive() knows, with the MNA mode that gives each.
-QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
+NETWORK_QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
 
 
 def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Expr]:
@@ -41,7 +41,7 @@ def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Ex
     num, den = sympy.expand(num), sympy.expand(den)
     if num == 0:
         return sympy.Integer(0), sympy.Integer(1)
-    bridge = Bridge([num, den])
+    bridge = PolyContext([num, den])
     fn, fd = bridge.to_flint(num), bridge.to_flint(den)
     g = fn.gcd(fd)
     if not g.is_one():
@@ -79,13 +79,13 @@ class NetworkFunction:
 
     @classmethod
     def from_ratio(cls, ratio, quantity: str = "transfer") -> "NetworkFunction":
-        """Build from an engine :class:`~symfilt.elimination.Ratio`, keeping it for fast limits.
+        """Build from an engine :class:`~symfilt.engine.elimination.Ratio`, keeping it for fast limits.
 
         Examples
         --------
         >>> from symfilt import catalogue
-        >>> from symfilt.elimination import solve
-        >>> from symfilt.mna import build_system
+        >>> from symfilt.engine.elimination import solve
+        >>> from symfilt.engine.mna import build_system
         >>> h = NetworkFunction.from_ratio(solve(build_system(catalogue.build("rc-lowpass"), "transfer")))
         >>> h.order(), h.ideal().as_expr()
         (1, 1/(C1*R1*s + 1))
@@ -144,7 +144,7 @@ class NetworkFunction:
     @cached_property
     def _coefficients(self):
         if self.ratio is not None and not self.infinite:
-            from .elimination import poly_to_sympy
+            from symfilt.engine.elimination import poly_to_sympy
 
             ncs, dcs = self.ratio.coefficients("s")
             conv = lambda cs: tuple(poly_to_sympy(c, self.ratio.symbols) for c in cs)
@@ -483,7 +483,7 @@ def _ratio_limit(num, den, var, point):
 
 def _tidy_flint(num, den, symbols: dict) -> sympy.Expr:
     """num/den of two engine polynomials, cancelled in flint; factored in flint when small."""
-    from .elimination import cancel_pair, poly_to_sympy
+    from symfilt.engine.elimination import cancel_pair, poly_to_sympy
 
     if num == 0:
         return sympy.Integer(0)
@@ -519,7 +519,7 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
         ``transfer`` is V(output)/V(source); ``zin`` the impedance the source sees
         behind R_s; ``zout`` the impedance the load sees.
     max_terms : int
-        Size budget of the elimination (see :mod:`symfilt.elimination`).
+        Size budget of the elimination (see :mod:`symfilt.engine.elimination`).
     progress : callable, optional
         Receives stage names.
 
@@ -535,8 +535,8 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
     >>> sympy.factor(h.as_expr())
     -R2/((R1 + R_s)*(C1*R2*s + 1))
     """
-    if quantity not in QUANTITIES:
-        raise ValueError(f"quantity must be one of {list(QUANTITIES)}")
+    if quantity not in NETWORK_QUANTITIES:
+        raise ValueError(f"quantity must be one of {list(NETWORK_QUANTITIES)}")
     if progress:
         progress(f"stamping {quantity}")
     where = circuit.title or "circuit"
@@ -557,14 +557,14 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
             n, d = cancel_ratio(-den, num)
             return NetworkFunction(n, d, quantity)
     if quantity == "transfer":
-        from .structure import check_solvable
+        from symfilt.model.structure import check_solvable
 
         check_solvable(circuit, modes=("transfer",))  # names the nodes and parts of a singular setup
     return _solved(circuit, quantity, max_terms, progress, where)
 
 
 def _solved(circuit: Circuit, quantity: str, max_terms: int, progress, where: str) -> NetworkFunction:
-    system = build_system(circuit, QUANTITIES[quantity])
+    system = build_system(circuit, NETWORK_QUANTITIES[quantity])
     ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
     if progress:
         progress("converting to sympy")

@@ -35,12 +35,12 @@ from dataclasses import dataclass, field
 
 import sympy
 
-from .analysis import cutoff as cutoff_of
-from .analysis import numeric_cutoff, standard_form
-from .circuit import Circuit, S
-from .elimination import DEFAULT_MAX_TERMS
-from .errors import UsageError
-from .network import NetworkFunction, derive
+from symfilt.analysis.stage import cutoff as cutoff_of
+from symfilt.analysis.stage import numeric_cutoff, standard_form
+from symfilt.model.circuit import Circuit, S
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+from symfilt.errors import UsageError
+from symfilt.analysis.network import NetworkFunction, derive
 
 _BIG = 400  # operations above which an exact expression is left unsimplified
 _SHOWN = 250  # operations above which a first-order coefficient is given as a number only

@@ -9,7 +9,7 @@ before and after the same RC, the stage holds its response.
 
 from __future__ import annotations
 
-from .circuit import Circuit, Part
+from symfilt.model.circuit import Circuit, Part
 
 R, C, U = Part.resistor, Part.capacitor, Part.opamp
 PROBE_RESISTANCE = "10k"

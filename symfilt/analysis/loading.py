@@ -14,9 +14,9 @@ from typing import Callable, Mapping
 
 import sympy
 
-from .analysis import Analysis, _finite, cutoff, numeric_cutoff, standard_form
-from .circuit import LOAD_C, LOAD_R, SOURCE_R, S
-from .network import NetworkFunction
+from symfilt.analysis.stage import Analysis, _finite, cutoff, numeric_cutoff, standard_form
+from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, S
+from symfilt.analysis.network import NetworkFunction
 
 
 @dataclass(frozen=True)
@@ -99,7 +99,7 @@ def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.analysis import analyse
+    >>> from symfilt.analysis.stage import analyse
     >>> lims = load_limits(analyse(catalogue.build("rc-lowpass"), sensitivity=False), 0.02)
     >>> [(x.fixture, x.bound, x.exact, round(x.value)) for x in lims]
     [('R_s', 'max', R1/49, 96), ('R_L', 'min', 50*R1, 235000)]

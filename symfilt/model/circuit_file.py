@@ -1,4 +1,4 @@
-"""Circuit files (TOML, symfilt's own schema) to and from :class:`~symfilt.circuit.Circuit`.
+"""Circuit files (TOML, symfilt's own schema) to and from :class:`~symfilt.model.circuit.Circuit`.
 
 The schema is in DESIGN.md and in the README. Every problem is a
 :class:`~symfilt.errors.SymfiltError` whose message starts with the file name and
@@ -17,10 +17,10 @@ import tomllib
 import unicodedata
 from pathlib import Path
 
-from .circuit import KINDS, Circuit, Fixture, Part, clip_name
-from .errors import CircuitFileError, SizeLimitError, SymfiltError
-from .structure import MAX_PARTS
-from .values import format_value
+from symfilt.model.circuit import PART_PINS, Circuit, Fixture, Part, clip_name
+from symfilt.errors import CircuitFileError, SizeLimitError, SymfiltError
+from symfilt.model.structure import MAX_PARTS
+from symfilt.model.values import format_value
 
 #: Largest circuit file read, in bytes.
 MAX_FILE_BYTES = 256 * 1024
@@ -207,7 +207,7 @@ def _suggest(word: str, choices) -> str:
 
 
 def _port(v, where: str) -> str:
-    from .circuit import _node
+    from symfilt.model.circuit import _node
 
     return _node(v, where)
 
@@ -225,10 +225,10 @@ def _part(pname: str, spec, name: str) -> Part:
         raise CircuitFileError(where, "a part must be an inline table",
                                "write it as { kind = \"resistor\", nodes = [...], value = \"...\" }")
     kind = spec.get("kind")
-    if not isinstance(kind, str) or kind not in KINDS:
+    if not isinstance(kind, str) or kind not in PART_PINS:
         shown = f"{clip_name(kind)!r}" if isinstance(kind, str) else clip_name(kind)
         raise CircuitFileError(where, f"unknown kind {shown}" if kind is not None else "no kind given",
-                               (_suggest(kind, KINDS) if isinstance(kind, str) else "") + "use one of " + ", ".join(KINDS))
+                               (_suggest(kind, PART_PINS) if isinstance(kind, str) else "") + "use one of " + ", ".join(PART_PINS))
     extra = set(spec) - _PART_KEYS[kind]
     if extra:
         key = sorted(extra)[0]
@@ -244,7 +244,7 @@ def _part(pname: str, spec, name: str) -> Part:
                              iout_max=spec.get("iout_max"), slew=spec.get("slew"))
         nodes = spec.get("nodes")
         if not isinstance(nodes, list):
-            raise CircuitFileError(where, "no nodes list", f"write nodes = [{', '.join(repr(k) for k in KINDS[kind])}]")
+            raise CircuitFileError(where, "no nodes list", f"write nodes = [{', '.join(repr(k) for k in PART_PINS[kind])}]")
         value = spec.get("gain") if kind in ("vcvs", "vccs", "ccvs", "cccs") else spec.get("value")
         return Part.make(pname, kind, nodes, value=value, control=spec.get("control"))
     except CircuitFileError:
@@ -308,7 +308,7 @@ def _q(text: str) -> str:
 def _v(value) -> str:
     """Exact value as text that reads back to the same number."""
     text = format_value(value, digits=12).replace(" ", "").replace("µ", "u")
-    from .values import parse_value
+    from symfilt.model.values import parse_value
 
     if parse_value(text) == value:
         return _q(text)
@@ -326,7 +326,7 @@ def circuit_to_text(circuit: Circuit) -> str:
 
     Examples
     --------
-    >>> from symfilt.circuit import Part
+    >>> from symfilt.model.circuit import Part
     >>> c = Circuit.build([Part.resistor("R1", "in", "out", "4k7"), Part.capacitor("C1", "out", "0", "22n")])
     >>> parse_circuit_text(circuit_to_text(c)) == c
     True

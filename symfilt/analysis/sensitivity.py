@@ -74,10 +74,10 @@ def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
         return None
     import flint
 
-    from .polybridge import Bridge, integer_scale
+    from symfilt.engine.polybridge import PolyContext, integer_scale
 
     factors = [(sympy.sympify(p), sympy.Rational(e)) for p, e in factors if p != 1]
-    bridge = Bridge([p for p, _e in factors] + list(symbols))
+    bridge = PolyContext([p for p, _e in factors] + list(symbols))
     polys = [(bridge.to_flint(p), flint.fmpq(int(e.p), int(e.q)), p.free_symbols) for p, e in factors]
     out = {}
     for x in symbols:

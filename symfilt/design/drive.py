@@ -26,12 +26,12 @@ from dataclasses import dataclass, field, replace
 from typing import Mapping
 
 
-from .circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S
-from .elimination import DEFAULT_MAX_TERMS, solve
-from .errors import UsageError
-from .mna import build_system
-from .network import NetworkFunction, cancel_ratio
-from .values import parse_value
+from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS, solve
+from symfilt.errors import UsageError
+from symfilt.engine.mna import build_system
+from symfilt.analysis.network import NetworkFunction, cancel_ratio
+from symfilt.model.values import parse_value
 
 
 def node_transfer(circuit: Circuit, unknown: str, *, max_terms: int = DEFAULT_MAX_TERMS) -> NetworkFunction:
@@ -179,7 +179,7 @@ def drive(circuit: Circuit, amplitude, frequency, *, max_terms: int = DEFAULT_MA
 
     Examples
     --------
-    >>> from symfilt.circuit import Part
+    >>> from symfilt.model.circuit import Part
     >>> c = Circuit.build([Part.resistor("R1", "in", "n", "10k"), Part.resistor("R2", "n", "out", "22k"),
     ...                    Part.opamp("U1", "0", "n", "out", iout_max="1m")], load="2k")
     >>> d = drive(c, 1, "1k").opamps[0]

@@ -1,7 +1,7 @@
 """Circuits as values: parts, ports, source and load fixtures, and their symbols.
 
 A :class:`Circuit` is frozen. It is built from a circuit file
-(:func:`symfilt.circuit_file.load_circuit`), from the catalogue, or directly in Python::
+(:func:`symfilt.model.circuit_file.load_circuit`), from the catalogue, or directly in Python::
 
     >>> c = Circuit.build(
     ...     [Part.resistor("R1", "in", "out", "4k7"), Part.capacitor("C1", "out", "gnd", "22n")],
@@ -24,11 +24,11 @@ from typing import Iterable, Mapping
 
 import sympy
 
-from .errors import CircuitError, SizeLimitError, ValueParseError
-from .values import parse_value
+from symfilt.errors import CircuitError, SizeLimitError, ValueParseError
+from symfilt.model.values import parse_value
 
 #: Part kinds and their pins.
-KINDS: dict[str, tuple[str, ...]] = {
+PART_PINS: dict[str, tuple[str, ...]] = {
     "resistor": ("a", "b"),
     "capacitor": ("a", "b"),
     "inductor": ("a", "b"),
@@ -131,9 +131,9 @@ class Part:
     name : str
         Unique name, also the part's symbol (``R1``, ``C2``, ``U1``, ``E1``).
     kind : str
-        One of :data:`KINDS`.
+        One of :data:`PART_PINS`.
     nodes : tuple of str
-        The pins in the order of :data:`KINDS` for that kind.
+        The pins in the order of :data:`PART_PINS` for that kind.
     value : sympy.Rational or None
         Resistance, capacitance, inductance, or a controlled source's gain; None keeps it symbolic.
     model : str
@@ -236,15 +236,15 @@ class Part:
         if keyword.iskeyword(name):
             raise CircuitError(where, f"the name {name} is a reserved word of Python, which reads the formulas back",
                                "rename the part, e.g. R_" + name)
-        if not isinstance(kind, str) or kind not in KINDS:
-            close = difflib.get_close_matches(kind, KINDS, n=1) if isinstance(kind, str) else []
+        if not isinstance(kind, str) or kind not in PART_PINS:
+            close = difflib.get_close_matches(kind, PART_PINS, n=1) if isinstance(kind, str) else []
             raise CircuitError(where, f"unknown kind {clip_name(kind)!r}" if isinstance(kind, str) else f"unknown kind {clip_name(kind)}",
-                               (f"did you mean {close[0]}? " if close else "") + "use one of " + ", ".join(KINDS))
+                               (f"did you mean {close[0]}? " if close else "") + "use one of " + ", ".join(PART_PINS))
         if isinstance(nodes, (str, bytes)) or not isinstance(nodes, Iterable):
-            raise CircuitError(where, "the nodes must be a list", "list the pins: " + ", ".join(KINDS[kind]))
+            raise CircuitError(where, "the nodes must be a list", "list the pins: " + ", ".join(PART_PINS[kind]))
         nodes = list(nodes)
-        if len(nodes) != len(KINDS[kind]):
-            raise CircuitError(where, f"a {kind} has {len(KINDS[kind])} pins ({', '.join(KINDS[kind])}), got {len(nodes)}",
+        if len(nodes) != len(PART_PINS[kind]):
+            raise CircuitError(where, f"a {kind} has {len(PART_PINS[kind])} pins ({', '.join(PART_PINS[kind])}), got {len(nodes)}",
                                "list exactly those pins")
         nodes = tuple(_node(n, where) for n in nodes)
         if kind == "opamp":
@@ -289,7 +289,7 @@ class Part:
         ...
         symfilt.errors.CircuitError: part C1: a negative capacitance (-22n) is not a real part, give its magnitude
         """
-        from .values import format_value
+        from symfilt.model.values import format_value
 
         where = f"part {self.name}"
         if self.kind in ("resistor", "capacitor", "inductor") and self.value is not None:
@@ -421,7 +421,7 @@ class Circuit:
 
     @classmethod
     def from_file(cls, path) -> "Circuit":
-        """Read a circuit file (see :mod:`symfilt.circuit_file`).
+        """Read a circuit file (see :mod:`symfilt.model.circuit_file`).
 
         Examples
         --------
@@ -432,7 +432,7 @@ class Circuit:
         >>> len(Circuit.from_file(p).parts)
         2
         """
-        from .circuit_file import load_circuit
+        from symfilt.model.circuit_file import load_circuit
 
         return load_circuit(path)
 
@@ -587,6 +587,6 @@ class Circuit:
         ...
         symfilt.errors.CircuitError: part R1: both ends are on node in, connect it between two different nodes
         """
-        from .structure import check_structure
+        from symfilt.model.structure import check_structure
 
         check_structure(self)

@@ -1,4 +1,4 @@
-"""Bode plots of a sweep from :mod:`symfilt.bode`: drawing only.
+"""Bode plots of a sweep from :mod:`symfilt.analysis.bode`: drawing only.
 
 matplotlib is imported inside the functions here and nowhere else in symfilt, and
 only its object-oriented interface is used (a :class:`matplotlib.figure.Figure`
@@ -12,7 +12,7 @@ import math
 import re
 from pathlib import Path
 
-from .errors import UsageError
+from symfilt.errors import UsageError
 
 #: Line colours of the two views (our own palette).
 COLOURS = {"loaded": "#a23b2a", "ideal": "#2f5d8a"}
@@ -31,7 +31,7 @@ def _finite(values) -> list[float]:
 def _figure(data):
     from matplotlib.figure import Figure
 
-    from .values import format_value
+    from symfilt.model.values import format_value
 
     fig = Figure(figsize=(8.0, 6.0), layout="constrained")
     mag, ph = fig.subplots(2, 1, sharex=True, height_ratios=[3, 2])
@@ -74,13 +74,13 @@ def render_bode(data, fmt: str = "svg") -> bytes:
 
     Parameters
     ----------
-    data : symfilt.bode.BodeData
+    data : symfilt.analysis.bode.BodeData
     fmt : {"svg", "png"}
 
     Examples
     --------
     >>> from symfilt import catalogue, analyse
-    >>> from symfilt.bode import bode_data
+    >>> from symfilt.analysis.bode import bode_data
     >>> d = bode_data(analyse(catalogue.build("rc-lowpass"), sensitivity=False), points=50)
     >>> render_bode(d, "png")[:8]
     b'\\x89PNG\\r\\n\\x1a\\n'
@@ -103,7 +103,7 @@ def bode_svg(data) -> str:
     Examples
     --------
     >>> from symfilt import catalogue, analyse
-    >>> from symfilt.bode import bode_data
+    >>> from symfilt.analysis.bode import bode_data
     >>> svg = bode_svg(bode_data(analyse(catalogue.build("rc-lowpass"), sensitivity=False), points=20))
     >>> svg.startswith("<svg") and svg.rstrip().endswith("</svg>")
     True
@@ -122,7 +122,7 @@ def plot_bode(data, path, *, protect=()) -> Path:
 
     Parameters
     ----------
-    data : symfilt.bode.BodeData
+    data : symfilt.analysis.bode.BodeData
     path : str or Path
     protect : sequence of paths
         Files never to overwrite (the input circuit file).
@@ -135,12 +135,12 @@ def plot_bode(data, path, *, protect=()) -> Path:
     --------
     >>> import tempfile, pathlib
     >>> from symfilt import catalogue, analyse
-    >>> from symfilt.bode import bode_data
+    >>> from symfilt.analysis.bode import bode_data
     >>> p = pathlib.Path(tempfile.mkdtemp()) / "bode.svg"
     >>> plot_bode(bode_data(analyse(catalogue.build("rc-lowpass"), sensitivity=False), points=20), p).suffix
     '.svg'
     """
-    from .outfile import write_bytes_atomic
+    from symfilt.export.outfile import write_bytes_atomic
 
     p = Path(path)
     fmt = FORMATS.get(p.suffix.lower())

@@ -27,10 +27,10 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
-from .errors import CircuitError, SingularCircuitError, SizeLimitError
+from symfilt.errors import CircuitError, SingularCircuitError, SizeLimitError
 
 if TYPE_CHECKING:  # pragma: no cover
-    from .circuit import Circuit
+    from symfilt.model.circuit import Circuit
 
 #: Most parts a circuit may have.
 MAX_PARTS = 200
@@ -60,13 +60,13 @@ def check_structure(circuit: "Circuit") -> None:
 
     Examples
     --------
-    >>> from symfilt.circuit import Circuit, Part
+    >>> from symfilt.model.circuit import Circuit, Part
     >>> Circuit.build([Part.resistor("R1", "in", "out")], output="nowhere")
     Traceback (most recent call last):
     ...
     symfilt.errors.CircuitError: ports output: node nowhere is not connected to any part, name a node that a part uses
     """
-    from .circuit import CONTROL_KINDS, GROUND, KINDS
+    from symfilt.model.circuit import CONTROL_KINDS, GROUND, PART_PINS
 
     parts = circuit.parts
     if not parts:
@@ -76,11 +76,11 @@ def check_structure(circuit: "Circuit") -> None:
                              "split the circuit into stages and derive each one")
     seen: set[str] = set()
     for p in parts:
-        if p.kind not in KINDS:
-            raise CircuitError(f"part {p.name}", f"unknown kind {p.kind!r}", "use one of " + ", ".join(KINDS))
-        if len(p.nodes) != len(KINDS[p.kind]):
-            raise CircuitError(f"part {p.name}", f"a {p.kind} has {len(KINDS[p.kind])} pins "
-                               f"({', '.join(KINDS[p.kind])}), got {len(p.nodes)}", "list exactly those pins")
+        if p.kind not in PART_PINS:
+            raise CircuitError(f"part {p.name}", f"unknown kind {p.kind!r}", "use one of " + ", ".join(PART_PINS))
+        if len(p.nodes) != len(PART_PINS[p.kind]):
+            raise CircuitError(f"part {p.name}", f"a {p.kind} has {len(PART_PINS[p.kind])} pins "
+                               f"({', '.join(PART_PINS[p.kind])}), got {len(p.nodes)}", "list exactly those pins")
         if p.name in seen:
             raise CircuitError(f"part {p.name}", "the name is used twice", "give each part its own name")
         seen.add(p.name)
@@ -141,7 +141,7 @@ def _floating_nodes(circuit: "Circuit") -> set[str]:
     op-amp joins its output to ground (it drives it); the source joins the input to
     ground; control pins draw no current and join nothing.
     """
-    from .circuit import GROUND
+    from symfilt.model.circuit import GROUND
 
     adj: dict[str, set[str]] = {}
     for a, b in _branches(circuit, current_sources=True):
@@ -160,7 +160,7 @@ def _branches(circuit: "Circuit", *, current_sources: bool, driven: bool = True,
     ``driven``: the source (or R_s and the source) joins the input to ground.
     ``load``: the load joins the output to ground (default: when the circuit has one).
     """
-    from .circuit import GROUND
+    from symfilt.model.circuit import GROUND
 
     out = []
     for p in circuit.parts:
@@ -208,13 +208,13 @@ def structure_warnings(circuit: "Circuit") -> list[str]:
 
     Examples
     --------
-    >>> from symfilt.circuit import Circuit, Part
+    >>> from symfilt.model.circuit import Circuit, Part
     >>> c = Circuit.build([Part.resistor("R1", "in", "out"), Part.resistor("R2", "out", "0"),
     ...                    Part.capacitor("C1", "out", "outt")])
     >>> structure_warnings(c)
     ['node outt: only one connection (C1), check the spelling of the node name or connect it']
     """
-    from .circuit import GROUND
+    from symfilt.model.circuit import GROUND
 
     count: dict[str, list[str]] = {}
     for p in circuit.parts:
@@ -234,7 +234,7 @@ def structure_warnings(circuit: "Circuit") -> list[str]:
 
 # --- solvability --------------------------------------------------------------------------
 
-#: The ways the circuit is driven, as in :func:`symfilt.mna.build_system`.
+#: The ways the circuit is driven, as in :func:`symfilt.engine.mna.build_system`.
 MODES = ("transfer", "zin", "zout")
 
 
@@ -278,7 +278,7 @@ def check_solvable(circuit: "Circuit", modes=MODES) -> None:
 
     Examples
     --------
-    >>> from symfilt.circuit import Circuit, Part
+    >>> from symfilt.model.circuit import Circuit, Part
     >>> c = Circuit(parts=(Part.opamp("U1", "in", "0", "out"), Part.resistor("R1", "out", "0")))
     >>> check_solvable(c)
     Traceback (most recent call last):
@@ -303,7 +303,7 @@ def check_solvable(circuit: "Circuit", modes=MODES) -> None:
 
 def _check_voltage_loops(circuit: "Circuit", mode: str) -> None:
     """A loop of voltage-type branches: its circulating current is in the null space."""
-    from .circuit import GROUND
+    from symfilt.model.circuit import GROUND
 
     driven, rs, _load = _setup(circuit, mode)
     branches: list[tuple[str, str, str]] = []  # (label, a, b)
@@ -370,7 +370,7 @@ def _check_current_cutsets(circuit: "Circuit", mode: str) -> None:
     op-amp inputs) straddles the group; groups with such a pair are left to the
     matching.
     """
-    from .circuit import GROUND
+    from symfilt.model.circuit import GROUND
 
     driven, _rs, load = _setup(circuit, mode)
     adj: dict[str, set[str]] = {}
@@ -404,12 +404,12 @@ def _check_current_cutsets(circuit: "Circuit", mode: str) -> None:
 def _mna_pattern(circuit: "Circuit", mode: str) -> tuple[list[tuple[str, str]], list[set[int]]]:
     """Labels and sparsity pattern of the MNA system of ``mode``.
 
-    The same stamps as :func:`symfilt.mna.build_system`: KCL at each node, then one
+    The same stamps as :func:`symfilt.engine.mna.build_system`: KCL at each node, then one
     constraint per voltage-type part; unknowns are node voltages, then branch
     currents, so row ``i`` and column ``i`` share the label ``("node", n)`` or
     ``("part", name)``.
     """
-    from .circuit import GROUND
+    from symfilt.model.circuit import GROUND
 
     driven, rs, load = _setup(circuit, mode)
     nodes = circuit.nodes()

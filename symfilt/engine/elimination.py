@@ -36,8 +36,8 @@ from typing import Callable
 import flint
 import sympy
 
-from .errors import SingularCircuitError, SizeLimitError
-from .mna import MnaSystem
+from symfilt.errors import SingularCircuitError, SizeLimitError
+from symfilt.engine.mna import MnaSystem
 
 #: Default size budget: the most terms any polynomial of a derivation may have.
 #: The transfer function of a ten-section RC ladder with symbolic source and load
@@ -50,7 +50,7 @@ DEFAULT_MAX_TERMS = 200_000
 class DelayedProgress:
     """A progress callback that stays silent until a derivation has run ``delay`` seconds.
 
-    Give it as ``progress=`` to :func:`solve` or :func:`symfilt.network.derive`;
+    Give it as ``progress=`` to :func:`solve` or :func:`symfilt.analysis.network.derive`;
     each stage name reported after the delay is passed to ``write``, so short
     derivations print nothing at all.
 
@@ -110,7 +110,7 @@ class Ratio:
         Examples
         --------
         >>> from symfilt import catalogue
-        >>> from symfilt.mna import build_system
+        >>> from symfilt.engine.mna import build_system
         >>> solve(build_system(catalogue.build("rc-lowpass"), "transfer")).terms
         6
         """
@@ -122,7 +122,7 @@ class Ratio:
         Examples
         --------
         >>> from symfilt import catalogue
-        >>> from symfilt.mna import build_system
+        >>> from symfilt.engine.mna import build_system
         >>> num, den = solve(build_system(catalogue.build("rc-lowpass"), "transfer")).to_sympy()
         >>> sympy.factor(num / den)
         R_L/(C1*R1*R_L*s + C1*R_L*R_s*s + R1 + R_L + R_s)
@@ -135,7 +135,7 @@ class Ratio:
         Examples
         --------
         >>> from symfilt import catalogue
-        >>> from symfilt.mna import build_system
+        >>> from symfilt.engine.mna import build_system
         >>> solve(build_system(catalogue.build("sallen-key-lowpass"), "transfer")).degree("s")
         2
         """
@@ -153,7 +153,7 @@ class Ratio:
         Examples
         --------
         >>> from symfilt import catalogue
-        >>> from symfilt.mna import build_system
+        >>> from symfilt.engine.mna import build_system
         >>> r = solve(build_system(catalogue.build("rc-lowpass").without_fixtures(), "transfer"))
         >>> [[poly_to_sympy(c, r.symbols) for c in cs] for cs in r.coefficients("s")]
         [[1], [1, C1*R1]]
@@ -170,7 +170,7 @@ class Ratio:
         Examples
         --------
         >>> from symfilt import catalogue
-        >>> from symfilt.mna import build_system
+        >>> from symfilt.engine.mna import build_system
         >>> r = solve(build_system(catalogue.build("rc-lowpass"), "transfer"))
         >>> r.limit("R_L", "oo").limit("R_s", 0).to_sympy()
         (1, C1*R1*s + 1)
@@ -373,7 +373,7 @@ def solve(system: MnaSystem, *, max_terms: int = DEFAULT_MAX_TERMS,
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.mna import build_system
+    >>> from symfilt.engine.mna import build_system
     >>> r = solve(build_system(catalogue.build("rc-lowpass").without_fixtures(), "transfer"))
     >>> r.to_sympy()
     (1, C1*R1*s + 1)

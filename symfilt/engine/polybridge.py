@@ -11,7 +11,7 @@ import flint
 import sympy
 
 
-class Bridge:
+class PolyContext:
     """A polynomial ring over the rationals in the given sympy symbols.
 
     Parameters
@@ -22,7 +22,7 @@ class Bridge:
     Examples
     --------
     >>> x, y = sympy.symbols("x y")
-    >>> b = Bridge([x * y + 1])
+    >>> b = PolyContext([x * y + 1])
     >>> p = b.to_flint(x * y + 1) * b.to_flint(x - y / 2)
     >>> b.to_sympy(p) == sympy.expand((x * y + 1) * (x - y / 2))
     True
@@ -49,7 +49,7 @@ class Bridge:
         Examples
         --------
         >>> x = sympy.Symbol("x")
-        >>> Bridge([x]).to_flint(x**2 / 3 + 1)
+        >>> PolyContext([x]).to_flint(x**2 / 3 + 1)
         1/3*x0^2 + 1
         """
         e = sympy.expand(sympy.sympify(expr).xreplace({sympy.pi: self._pi}))
@@ -67,7 +67,7 @@ class Bridge:
         Examples
         --------
         >>> x = sympy.Symbol("x")
-        >>> b = Bridge([x])
+        >>> b = PolyContext([x])
         >>> b.to_sympy(b.to_flint(2 * x + 1))
         2*x + 1
         """
@@ -86,7 +86,7 @@ class Bridge:
         Examples
         --------
         >>> x, y = sympy.symbols("x y")
-        >>> b = Bridge([x * y])
+        >>> b = PolyContext([x * y])
         >>> b.to_sympy(b.derivative(b.to_flint(x**2 * y), x))
         2*x*y
         """
@@ -100,7 +100,7 @@ class Bridge:
         Examples
         --------
         >>> x = sympy.Symbol("x")
-        >>> Bridge([x]).gen(x)
+        >>> PolyContext([x]).gen(x)
         x0
         """
         return self.ctx.gens()[self._index[symbol]]
@@ -113,7 +113,7 @@ def integer_scale(fn, fd):
     Examples
     --------
     >>> x = sympy.Symbol("x")
-    >>> b = Bridge([x])
+    >>> b = PolyContext([x])
     >>> n, d = integer_scale(b.to_flint(x / 2), b.to_flint(-x / 4 - sympy.Rational(1, 2)))
     >>> b.to_sympy(n), b.to_sympy(d)
     (-2*x, x + 2)
@@ -161,7 +161,7 @@ def factor_ratio(num, den=1) -> sympy.Expr:
     num, den = sympy.expand(num), sympy.expand(den)
     if num == 0:
         return sympy.Integer(0)
-    bridge = Bridge([num, den])
+    bridge = PolyContext([num, den])
     fn, fd = bridge.to_flint(num), bridge.to_flint(den)
     g = fn.gcd(fd)
     if not g.is_one():

@@ -1,6 +1,6 @@
 """Bode sweep data: |H(j2πf)| in dB and its phase in degrees, loaded and ideal.
 
-Only numbers here (numpy, imported inside the functions); :mod:`symfilt.plot`
+Only numbers here (numpy, imported inside the functions); :mod:`symfilt.export.plot`
 draws them and :func:`csv_text` writes them as CSV. The transfer functions are
 the exact ones of the analysis, evaluated at the circuit's values.
 """
@@ -11,7 +11,7 @@ import math
 from dataclasses import dataclass, field
 from typing import Mapping
 
-from .errors import UsageError
+from symfilt.errors import UsageError
 
 #: Default number of frequencies in a sweep.
 DEFAULT_POINTS = 400
@@ -54,11 +54,11 @@ def missing_values(h, values: Mapping) -> list[str]:
     Examples
     --------
     >>> from symfilt import catalogue
-    >>> from symfilt.network import derive
+    >>> from symfilt.analysis.network import derive
     >>> missing_values(derive(catalogue.build("rc-lowpass", R1=None)), {})
     ['C1', 'R1', 'R_L', 'R_s']
     """
-    from .circuit import S
+    from symfilt.model.circuit import S
 
     known = {str(k) for k in values}
     return sorted(str(x) for x in h.free_symbols() - {S} if str(x) not in known)
@@ -114,7 +114,7 @@ def bode_data(source, values: Mapping | None = None, fmin: float | None = None, 
     source : Analysis or NetworkFunction
         An analysis (its loaded and ideal transfer functions and numeric cutoffs), or a
         loaded transfer function (its ideal view is taken with
-        :meth:`~symfilt.network.NetworkFunction.ideal`).
+        :meth:`~symfilt.analysis.network.NetworkFunction.ideal`).
     values : mapping, optional
         Symbol (or name) -> number for every symbol but ``s``. Default: the circuit's
         values (an analysis) or none.
@@ -143,7 +143,7 @@ def bode_data(source, values: Mapping | None = None, fmin: float | None = None, 
     """
     import numpy as np
 
-    from .analysis import Analysis, numeric_cutoff
+    from symfilt.analysis.stage import Analysis, numeric_cutoff
 
     if isinstance(source, Analysis):
         loaded, ideal = source.loaded.transfer, source.ideal.transfer

@@ -1,6 +1,6 @@
 """Check a hand derivation against a derived quantity, and say where it goes wrong.
 
-:func:`equivalent` reads the claim with :func:`~symfilt.claim_parse.parse_claim`
+:func:`equivalent` reads the claim with :func:`~symfilt.claims.parse.parse_claim`
 (plain text or LaTeX, never evaluated) and decides whether it equals the derived
 expression: exactly on python-flint polynomials for rational functions, by
 high-precision sampling with mpmath when radicals appear. When the two differ it
@@ -21,7 +21,7 @@ import flint
 import mpmath
 import sympy
 
-from symfilt.claim_parse import parse_claim
+from symfilt.claims.parse import parse_claim
 from symfilt.errors import ClaimError, UsageError
 
 SAMPLE_POINTS = 24  # points of the sampled test
@@ -503,7 +503,7 @@ def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping
     ----------
     claim : str or sympy.Expr
         The hand derivation; text (plain or LaTeX) is read with
-        :func:`~symfilt.claim_parse.parse_claim` against the symbols of
+        :func:`~symfilt.claims.parse.parse_claim` against the symbols of
         ``derived``, ``symbols`` and ``s``.
     derived : sympy.Expr or object with ``as_expr()``
         The quantity symfilt derived (a NetworkFunction, a cutoff, a gain).

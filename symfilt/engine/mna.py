@@ -5,7 +5,7 @@ circuit's symbols (python-flint ``fmpz_mpoly``). Fractions never appear:
 
 * a resistor ``R`` stamps a *conductance generator* ``G:R`` that stands for ``1/R``,
   and an inductor ``L`` stamps ``Y:L`` that stands for ``1/(s L)``; the elimination
-  turns them back into ``R`` and ``s L`` at the end (:mod:`symfilt.elimination`);
+  turns them back into ``R`` and ``s L`` at the end (:mod:`symfilt.engine.elimination`);
 * a capacitor stamps ``s C``;
 * voltage-type parts (the source, vcvs, ccvs, op-amp outputs) add a branch current
   unknown and a constraint row; an ideal op-amp is a nullor (its constraint row is
@@ -23,7 +23,7 @@ from dataclasses import dataclass
 import flint
 import sympy
 
-from .circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S, part_symbol
+from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S, part_symbol
 
 #: What the system is set up to find.
 MODES = ("transfer", "zin", "zout")

@@ -8,7 +8,7 @@ walk over Python's ``ast``; LaTeX is tokenised here, handed to sympy's LaTeX
 parser (lark backend) in a canonical form, and its result is walked by the same
 whitelist. Every limit (length, nesting depth, exponent, number size, expanded
 size) ends in a :class:`~symfilt.errors.ClaimError` naming it. The equivalence
-test lives in :mod:`symfilt.claims`.
+test lives in :mod:`symfilt.claims.judge`.
 """
 
 from __future__ import annotations

@@ -1,6 +1,6 @@
 """Built-in parametric circuits, by their trade names.
 
-Each entry is a function returning a :class:`~symfilt.circuit.Circuit`; every
+Each entry is a function returning a :class:`~symfilt.model.circuit.Circuit`; every
 value is a keyword argument (text such as ``"4k7"``, ``"symbol"`` for the source and
 load fixtures, or None to keep a part symbolic). The default values are a
 plausible example of each stage, not a recommendation.
@@ -14,9 +14,9 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Callable
 
-from .circuit import Circuit, Part
-from .errors import UsageError
-from .values import parse_value
+from symfilt.model.circuit import Circuit, Part
+from symfilt.errors import UsageError
+from symfilt.model.values import parse_value
 
 R, C, L, U = Part.resistor, Part.capacitor, Part.inductor, Part.opamp
 R_, C_ = R, C  # for builders whose parameters are called R and C

@@ -36,10 +36,10 @@ from typing import Callable, Mapping, Sequence
 
 import sympy
 
-from .analysis import analyse, numeric_sensitivities
-from .circuit import Circuit, S
-from .elimination import DEFAULT_MAX_TERMS
-from .errors import UsageError
+from symfilt.analysis.stage import analyse, numeric_sensitivities
+from symfilt.model.circuit import Circuit, S
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+from symfilt.errors import UsageError
 
 DISTRIBUTIONS = ("uniform", "normal")
 #: Quantities of a spread run, in report order.

@@ -1,0 +1,1 @@
+"""Analysis of network functions: standard forms, cutoff, numbers, sensitivities, loading."""
