@@ -22,7 +22,8 @@ from symfilt.errors import (CircuitError, OutputError, SingularCircuitError, Siz
                             ValueParseError)
 from symfilt.engine.mna import build_system
 from symfilt.export.outfile import write_bytes_atomic, write_text_atomic
-from symfilt.model.structure import MODES, _mna_pattern, check_solvable, structural_rank, structure_warnings
+from symfilt.model.solvability import MODES, check_solvable, structural_pattern, structural_rank
+from symfilt.model.structure import structure_warnings
 
 R, C, L, U, M = Part.resistor, Part.capacitor, Part.inductor, Part.opamp, Part.make
 
@@ -275,7 +276,7 @@ def test_the_pattern_is_the_pattern_of_the_mna_stamps():
                  if c.parts and {c.input, c.output} <= {n for p in c.parts for n in p.nodes}]
     for c in circuits:
         for mode in MODES:
-            labels, rows = _mna_pattern(c, mode)
+            labels, rows = structural_pattern(c, mode)
             system = build_system(c, mode)
             assert len(labels) == system.size
             mine = {(r, col) for r, cols in enumerate(rows) for col in cols}

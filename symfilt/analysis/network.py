@@ -557,7 +557,7 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
             n, d = cancel_ratio(-den, num)
             return NetworkFunction(n, d, quantity)
     if quantity == "transfer":
-        from symfilt.model.structure import check_solvable
+        from symfilt.model.solvability import check_solvable
 
         check_solvable(circuit, modes=("transfer",))  # names the nodes and parts of a singular setup
     return _solved(circuit, quantity, max_terms, progress, where)

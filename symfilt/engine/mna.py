@@ -23,12 +23,10 @@ from dataclasses import dataclass
 import flint
 import sympy
 
-from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S, part_symbol
+from symfilt.model.circuit import Circuit, S, part_symbol
+from symfilt.model.stamps import MODES, PI, stamp_table
 
-#: What the system is set up to find.
-MODES = ("transfer", "zin", "zout")
-PI = "pi"  # generator name standing for the number pi (single-pole op-amps)
-_SOURCE_NODE = "\x00source"
+__all__ = ["MODES", "PI", "MnaSystem", "build_system"]
 
 
 @dataclass(frozen=True)
@@ -78,22 +76,11 @@ class MnaSystem:
         return len(self.unknowns)
 
 
-def _two_terminal(circuit: Circuit, mode: str) -> list[tuple[str, str, str, str]]:
-    """(name, kind, a, b) of every two-terminal admittance, fixtures included per mode."""
-    items = [(p.name, p.kind, p.nodes[0], p.nodes[1]) for p in circuit.parts
-             if p.kind in ("resistor", "capacitor", "inductor")]
-    if circuit.source.present and mode in ("transfer", "zout"):
-        items.append((SOURCE_R, "resistor", _SOURCE_NODE, circuit.input))
-    if mode in ("transfer", "zin"):
-        if circuit.load_resistance.present:
-            items.append((LOAD_R, "resistor", circuit.output, GROUND))
-        if circuit.load_capacitance.present:
-            items.append((LOAD_C, "capacitor", circuit.output, GROUND))
-    return items
-
-
 def build_system(circuit: Circuit, mode: str = "transfer") -> MnaSystem:
     """Stamp the circuit into an MNA system.
+
+    The stamps are the records of :func:`symfilt.model.stamps.stamp_table`; here
+    each entry becomes a flint polynomial.
 
     Parameters
     ----------
@@ -117,10 +104,31 @@ def build_system(circuit: Circuit, mode: str = "transfer") -> MnaSystem:
     >>> sys.unknowns
     ('V(in)', 'V(out)', 'V(source)', 'I(source)')
     """
-    if mode not in MODES:
-        raise ValueError(f"mode must be one of {MODES}")
-    twos = _two_terminal(circuit, mode)
-    # generators: circuit symbols, then reciprocal ones
+    table = stamp_table(circuit, mode)
+    ctx, factor, reciprocal, symbols = _ring(circuit, table.admittances)
+    zero = ctx.from_dict({})
+    index = {u: i for i, u in enumerate(table.unknowns)}
+    rows: list[dict[int, object]] = [dict() for _ in table.unknowns]
+    for st in table.stamps:
+        row, c = rows[index[st.row]], index[st.column]
+        new = row.get(c, zero) + _poly(st.entry, factor, ctx)
+        if new == 0:
+            row.pop(c, None)
+        else:
+            row[c] = new
+    rhs = {index[u]: _poly(entry, factor, ctx) for u, entry in table.rhs}
+    return MnaSystem(ctx=ctx, rows=tuple(rows), rhs=rhs, unknowns=tuple(u.label for u in table.unknowns),
+                     target=index[table.target], reciprocal=reciprocal, symbols=symbols,
+                     parts=len(circuit.parts))
+
+
+def _ring(circuit: Circuit, twos):
+    """The polynomial ring: (context, factor name -> polynomial, reciprocal generators, symbols).
+
+    Generators: ``s``, the two-terminal parts, the controlled sources' gains, the
+    op-amps' ``A_`` and ``GBW_`` (and pi), then the reciprocal generators ``G:R``
+    (1/R) and ``Y:L`` (1/(s L)).
+    """
     gen_names: list[str] = []
     symbols: dict[str, object] = {}
 
@@ -130,7 +138,7 @@ def build_system(circuit: Circuit, mode: str = "transfer") -> MnaSystem:
             symbols[name] = sym
 
     gen("s", S)
-    for name, kind, _a, _b in twos:
+    for name, _kind, _a, _b in twos:
         gen(name, part_symbol(name))
     for p in circuit.parts:
         if p.kind in ("vcvs", "vccs", "ccvs", "cccs"):
@@ -148,123 +156,20 @@ def build_system(circuit: Circuit, mode: str = "transfer") -> MnaSystem:
             reciprocal[f"Y:{name}"] = {"s": 1, name: 1}
     all_gens = gen_names + list(reciprocal)
     ctx = flint.fmpz_mpoly_ctx.get(tuple(all_gens), "degrevlex")
-    g = dict(zip(all_gens, ctx.gens()))
-    zero, one = ctx.from_dict({}), ctx.from_dict({(0,) * len(all_gens): 1})
+    factor = dict(zip(all_gens, ctx.gens()))
+    admittance = {"resistor": lambda nm: factor[f"G:{nm}"], "capacitor": lambda nm: factor["s"] * factor[nm],
+                  "inductor": lambda nm: factor[f"Y:{nm}"]}
+    for name, kind, _a, _b in twos:
+        factor[f"Y:{name}"] = admittance[kind](name)
+    return ctx, factor, reciprocal, symbols
 
-    # unknowns: node voltages, then branch currents
-    nodes = circuit.nodes()
-    if mode in ("transfer", "zout") and circuit.source.present:
-        nodes.append(_SOURCE_NODE)
-    unknowns = [f"V({'source' if n == _SOURCE_NODE else n})" for n in nodes]
-    index = {n: i for i, n in enumerate(nodes)}
-    branches: list[str] = []
-    if mode in ("transfer", "zout"):
-        branches.append("source")
-    for p in circuit.parts:
-        if p.kind in ("vcvs", "ccvs", "opamp"):
-            branches.append(p.name)
-    bindex = {b: len(nodes) + i for i, b in enumerate(branches)}
-    unknowns += [f"I({b})" for b in branches]
-    n = len(unknowns)
-    rows: list[dict[int, object]] = [dict() for _ in range(n)]
-    rhs: dict[int, object] = {}
 
-    def add(r: int | None, c: int | None, v) -> None:
-        if r is None or c is None:
-            return
-        new = rows[r].get(c, zero) + v
-        if new == 0:
-            rows[r].pop(c, None)
-        else:
-            rows[r][c] = new
-
-    def vi(node: str) -> int | None:
-        return None if node == GROUND else index[node]
-
-    admittance = {"resistor": lambda nm: g[f"G:{nm}"], "capacitor": lambda nm: g["s"] * g[nm],
-                  "inductor": lambda nm: g[f"Y:{nm}"]}
-    branch_admittance: dict[str, tuple] = {}
-    for name, kind, a, b in twos:
-        y = admittance[kind](name)
-        branch_admittance[name] = (y, a, b)
-        ia, ib = vi(a), vi(b)
-        add(ia, ia, y)
-        add(ib, ib, y)
-        add(ia, ib, -y)
-        add(ib, ia, -y)
-
-    def control_current(name: str) -> list[tuple[int, object]]:
-        """The controlling current as a list of (column, coefficient)."""
-        if name in bindex:
-            return [(bindex[name], one)]
-        y, a, b = branch_admittance[name]
-        out = []
-        if vi(a) is not None:
-            out.append((vi(a), y))
-        if vi(b) is not None:
-            out.append((vi(b), -y))
-        return out
-
-    for p in circuit.parts:
-        if p.kind == "vccs":
-            gm = g[p.name]
-            op, om, cp, cm = (vi(x) for x in p.nodes)
-            for row, sign in ((op, 1), (om, -1)):
-                add(row, cp, sign * gm)
-                add(row, cm, -sign * gm)
-        elif p.kind == "cccs":
-            f = g[p.name]
-            op, om = vi(p.nodes[0]), vi(p.nodes[1])
-            for col, coef in control_current(p.control):
-                add(op, col, f * coef)
-                add(om, col, -f * coef)
-    for p in circuit.parts:
-        if p.kind not in ("vcvs", "ccvs", "opamp"):
-            continue
-        k = bindex[p.name]
-        if p.kind == "opamp":
-            plus, minus, out = (vi(x) for x in p.nodes)
-            add(out, k, one)  # output current leaves the node into the op-amp's output branch
-            if p.model == "ideal":
-                add(k, plus, one)
-                add(k, minus, -one)
-            elif p.model == "gain":
-                a0 = g[f"A_{p.name}"]
-                add(k, out, one)
-                add(k, plus, -a0)
-                add(k, minus, a0)
-            else:
-                a0, gbw = g[f"A_{p.name}"], g[f"GBW_{p.name}"]
-                wb = 2 * g[PI] * gbw
-                add(k, out, a0 * g["s"] + wb)
-                add(k, plus, -a0 * wb)
-                add(k, minus, a0 * wb)
-        else:
-            op, om = vi(p.nodes[0]), vi(p.nodes[1])
-            add(op, k, one)
-            add(om, k, -one)
-            add(k, op, one)
-            add(k, om, -one)
-            gain = g[p.name]
-            if p.kind == "vcvs":
-                add(k, vi(p.nodes[2]), -gain)
-                add(k, vi(p.nodes[3]), gain)
-            else:
-                for col, coef in control_current(p.control):
-                    add(k, col, -gain * coef)
-    if mode in ("transfer", "zout"):
-        k = bindex["source"]
-        src = index[_SOURCE_NODE] if circuit.source.present else index[circuit.input]
-        add(src, k, one)
-        add(k, src, one)
-        if mode == "transfer":
-            rhs[k] = one
-    if mode == "zin":
-        rhs[index[circuit.input]] = one
-        target = index[circuit.input]
-    else:
-        target = index[circuit.output]
-    if mode == "zout":
-        rhs[index[circuit.output]] = one
-    return MnaSystem(ctx=ctx, rows=tuple(rows), rhs=rhs, unknowns=tuple(unknowns), target=target,
-                     reciprocal=reciprocal, symbols=symbols, parts=len(circuit.parts))
+def _poly(entry: tuple, factor: dict, ctx):
+    """A stamp entry (terms of coefficient and factor names) as a flint polynomial."""
+    out = ctx.from_dict({})
+    for coefficient, names in entry:
+        term = ctx.from_dict({(0,) * ctx.nvars(): coefficient})
+        for name in names:
+            term = term * factor[name]
+        out += term
+    return out
