@@ -1,9 +1,8 @@
 """Network functions: exact ratios of polynomials in s, and deriving them from a circuit.
 
 :func:`derive` turns a circuit into a :class:`NetworkFunction` (transfer function,
-input impedance or output impedance) through :mod:`symfilt.engine.mna` and
-:mod:`symfilt.engine.elimination`. A NetworkFunction is frozen; every operation returns
-a new one.
+input impedance or output impedance) through :func:`symfilt.engine.solve.solve_unknown`.
+A NetworkFunction is frozen; every operation returns a new one.
 """
 
 from __future__ import annotations
@@ -16,9 +15,9 @@ from typing import Callable, Mapping
 import sympy
 
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
-from symfilt.engine.elimination import DEFAULT_MAX_TERMS, solve
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS, Ratio, cancel_pair
+from symfilt.engine.solve import solve_unknown
 from symfilt.errors import SingularCircuitError
-from symfilt.engine.mna import build_system
 from symfilt.engine.polybridge import PolyContext, factor_ratio, integer_scale, smaller_than
 
 #: Quantities derive() knows, with the MNA mode that gives each.
@@ -544,18 +543,7 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
         try:
             return _solved(circuit, "zin", max_terms, progress, where)
         except SingularCircuitError:
-            # A unit current into an input that draws no current at all (an op-amp
-            # input) has no solution. Drive it with an ideal unit voltage instead
-            # (R_s removed) and solve for the source current: Zin = 1/Yin.
-            alone = replace(circuit, source=Fixture())
-            system = build_system(alone, "transfer")
-            system = replace(system, target=system.unknowns.index("I(source)"))
-            num, den = solve(system, max_terms=max_terms, progress=progress, where=where).to_sympy()
-            if num == 0:
-                return NetworkFunction(sympy.Integer(1), sympy.Integer(0), quantity)
-            # the branch current flows from the node into the source: Yin = -I
-            n, d = cancel_ratio(-den, num)
-            return NetworkFunction(n, d, quantity)
+            return _zin_by_voltage(circuit, max_terms, progress, where)
     if quantity == "transfer":
         from symfilt.model.solvability import check_solvable
 
@@ -564,8 +552,22 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
 
 
 def _solved(circuit: Circuit, quantity: str, max_terms: int, progress, where: str) -> NetworkFunction:
-    system = build_system(circuit, NETWORK_QUANTITIES[quantity])
-    ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
+    ratio = solve_unknown(circuit, drive=NETWORK_QUANTITIES[quantity], max_terms=max_terms, progress=progress,
+                          where=where)
     if progress:
         progress("converting to sympy")
     return NetworkFunction.from_ratio(ratio, quantity)
+
+
+def _zin_by_voltage(circuit: Circuit, max_terms: int, progress, where: str) -> NetworkFunction:
+    """Zin of an input that draws no current for a unit current drive (an op-amp input).
+
+    Driven with an ideal unit voltage instead (R_s removed), the source current
+    ``I`` flows from the node into the source, so ``Yin = -I`` and ``Zin = 1/Yin``.
+    """
+    current = solve_unknown(replace(circuit, source=Fixture()), "I(source)", drive="transfer",
+                            max_terms=max_terms, progress=progress, where=where)
+    if current.num == 0:
+        return NetworkFunction(sympy.Integer(1), sympy.Integer(0), "zin")
+    num, den = cancel_pair(-current.den, current.num)
+    return NetworkFunction.from_ratio(Ratio(num, den, current.symbols), "zin")

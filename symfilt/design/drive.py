@@ -22,15 +22,15 @@ Examples
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, field
 from typing import Mapping
 
 
 from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S
-from symfilt.engine.elimination import DEFAULT_MAX_TERMS, solve
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+from symfilt.engine.solve import solve_unknown
 from symfilt.errors import UsageError
-from symfilt.engine.mna import build_system
-from symfilt.analysis.network import NetworkFunction, cancel_ratio
+from symfilt.analysis.network import NetworkFunction
 from symfilt.model.values import parse_value
 
 
@@ -54,15 +54,8 @@ def node_transfer(circuit: Circuit, unknown: str, *, max_terms: int = DEFAULT_MA
     >>> sympy.factor(h.as_expr())
     1/(C1*R1*s + C1*R_s*s + 1)
     """
-    system = build_system(circuit, "transfer")
-    name = unknown if unknown.startswith("I(") else f"V({unknown})"
-    if name not in system.unknowns:
-        raise UsageError(unknown, "no such node or branch", "name a node of the circuit")
-    ratio = solve(replace(system, target=system.unknowns.index(name)), max_terms=max_terms,
-                  where=circuit.title or "circuit")
-    num, den = ratio.to_sympy()
-    num, den = cancel_ratio(num, den)
-    return NetworkFunction(num, den, "transfer")
+    return NetworkFunction.from_ratio(solve_unknown(circuit, unknown, drive="transfer", max_terms=max_terms),
+                                      "transfer")
 
 
 @dataclass(frozen=True)

@@ -398,89 +398,109 @@ def _bareiss_target(system: MnaSystem, max_terms: int, progress, where: str):
     """Sparse Bareiss elimination with lazy row scaling; returns (c, a) of the last row ``a x_t = c``."""
     n = system.size
     ctx = system.ctx
-    one = ctx.from_dict({(0,) * ctx.nvars(): 1})
-    rhs_col = n
-    rows = [dict(r) for r in system.rows]
-    for r, v in system.rhs.items():
-        rows[r][rhs_col] = v
+    rows, col_rows = _augmented(system)
     target = system.target
     active_rows = set(range(n))
     active_cols = set(range(n)) - {target}
-    col_rows: dict[int, set[int]] = {}
-    for i, row in enumerate(rows):
-        for j in row:
-            col_rows.setdefault(j, set()).add(i)
-    pivots = [one]  # pivots[k]: pivot of step k (pivots[0] = 1)
+    pivots = [ctx.from_dict({(0,) * ctx.nvars(): 1})]  # pivots[k]: pivot of step k (pivots[0] = 1)
     level = [0] * n  # step after which each row was last brought up to date
     report = max(1, (n - 1) // 10)
 
-    def bring(i: int, k: int) -> None:
-        """Scale row i to the state after step k: times pivots[k] / pivots[level[i]]."""
-        if level[i] == k:
-            return
-        up, down = pivots[k], pivots[level[i]]
-        rows[i] = {j: (up * v) / down if not down.is_one() else up * v for j, v in rows[i].items()}
-        level[i] = k
+    def checked(v) -> None:
+        _check_size(v, max_terms, system, where)
 
     step = 0
     while active_cols:
         step += 1
         if progress and (step - 1) % report == 0:
             progress(f"elimination step {step} of {n - 1}")
-        best = None
-        for j in active_cols:
-            candidates = col_rows.get(j, set()) & active_rows
-            for i in candidates:
-                p = rows[i][j]
-                # Markowitz count (+1) weighted by the pivot's size: the work its step makes
-                key = (((len(rows[i]) - 1) * (len(candidates) - 1) + 1) * len(p), p.total_degree())
-                if best is None or key < best[0]:
-                    best = (key, i, j)
+        best = _choose_pivot(rows, col_rows, active_rows, active_cols)
         if best is None:
             raise _singular(where)
-        _key, pr, pc = best
+        pr, pc = best
         active_rows.discard(pr)
         active_cols.discard(pc)
         prev = pivots[step - 1]
-        bring(pr, step - 1)
+        _bring(rows, level, pivots, pr, step - 1)
         pivot_row = rows[pr]
-        pivot = pivot_row[pc]
         for i in col_rows[pc] & active_rows:
-            bring(i, step - 1)
-            row = rows[i]
-            factor = row[pc]
-            new_row = {}
-            for j in row.keys() | pivot_row.keys():
-                if j == pc:
-                    continue
-                a = row.get(j)
-                b = pivot_row.get(j)
-                if a is None:
-                    v = -(factor * b)
-                elif b is None:
-                    v = pivot * a
-                else:
-                    v = pivot * a - factor * b
-                if v == 0:
-                    continue
-                if not prev.is_one():
-                    v = v / prev
-                _check_size(v, max_terms, system, where)
-                new_row[j] = v
-            for j in row:
+            _bring(rows, level, pivots, i, step - 1)
+            new_row = _eliminated(rows[i], pivot_row, pc, prev, checked)
+            for j in rows[i]:
                 if j not in new_row:
                     col_rows[j].discard(i)
             for j in new_row:
                 col_rows.setdefault(j, set()).add(i)
             rows[i] = new_row
             level[i] = step
-        pivots.append(pivot)
+        pivots.append(pivot_row[pc])
     (last,) = active_rows
     den = rows[last].get(target)
-    num = rows[last].get(rhs_col, ctx.from_dict({}))
+    num = rows[last].get(n, ctx.from_dict({}))
     if den is None or den == 0:
         raise _singular(where)
     return num, den
+
+
+def _augmented(system: MnaSystem) -> tuple[list[dict], dict[int, set[int]]]:
+    """Rows of ``[A | b]`` (b in column ``n``) as mutable dicts, and column -> rows holding it."""
+    rows = [dict(r) for r in system.rows]
+    for r, v in system.rhs.items():
+        rows[r][system.size] = v
+    col_rows: dict[int, set[int]] = {}
+    for i, row in enumerate(rows):
+        for j in row:
+            col_rows.setdefault(j, set()).add(i)
+    return rows, col_rows
+
+
+def _choose_pivot(rows: list[dict], col_rows: dict[int, set[int]], active_rows: set[int],
+                  active_cols: set[int]) -> tuple[int, int] | None:
+    """(row, column) of the pivot: least Markowitz count (+1) times terms, then degree; None if none."""
+    best = None
+    for j in active_cols:
+        candidates = col_rows.get(j, set()) & active_rows
+        for i in candidates:
+            p = rows[i][j]
+            # Markowitz count (+1) weighted by the pivot's size: the work its step makes
+            key = (((len(rows[i]) - 1) * (len(candidates) - 1) + 1) * len(p), p.total_degree())
+            if best is None or key < best[0]:
+                best = (key, i, j)
+    return None if best is None else best[1:]
+
+
+def _bring(rows: list[dict], level: list[int], pivots: list, i: int, k: int) -> None:
+    """Scale row i to the state after step k: times pivots[k] / pivots[level[i]]."""
+    if level[i] == k:
+        return
+    up, down = pivots[k], pivots[level[i]]
+    rows[i] = {j: (up * v) / down if not down.is_one() else up * v for j, v in rows[i].items()}
+    level[i] = k
+
+
+def _eliminated(row: dict, pivot_row: dict, pc: int, prev, checked) -> dict:
+    """One Bareiss update of ``row`` by the pivot row: (pivot * row - factor * pivot row) / prev."""
+    pivot = pivot_row[pc]
+    factor = row[pc]
+    new_row = {}
+    for j in row.keys() | pivot_row.keys():
+        if j == pc:
+            continue
+        a = row.get(j)
+        b = pivot_row.get(j)
+        if a is None:
+            v = -(factor * b)
+        elif b is None:
+            v = pivot * a
+        else:
+            v = pivot * a - factor * b
+        if v == 0:
+            continue
+        if not prev.is_one():
+            v = v / prev
+        checked(v)
+        new_row[j] = v
+    return new_row
 
 
 def _restore(system: MnaSystem, num, den):

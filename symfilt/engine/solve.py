@@ -1,0 +1,76 @@
+"""The engine's one entry point: any unknown of a circuit, driven one of three ways.
+
+:func:`solve_unknown` stamps the circuit (:func:`symfilt.engine.mna.build_system`)
+for a drive mode and solves for one unknown (:func:`symfilt.engine.elimination.solve`):
+the mode's own target (output voltage, input or output impedance), any node
+voltage ``V(node)`` or any branch current ``I(part)`` of a voltage-type part or
+of the source.
+"""
+
+from __future__ import annotations
+
+from dataclasses import replace
+from typing import Callable
+
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS, Ratio, solve
+from symfilt.engine.mna import MODES, build_system
+from symfilt.errors import UsageError
+from symfilt.model.circuit import Circuit
+
+__all__ = ["solve_unknown"]
+
+
+def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = "transfer",
+                  max_terms: int = DEFAULT_MAX_TERMS, progress: Callable[[str], None] | None = None,
+                  where: str | None = None) -> Ratio:
+    """One unknown of the circuit's MNA system as an exact, cancelled ratio.
+
+    Parameters
+    ----------
+    circuit : Circuit
+    unknown : str, optional
+        ``V(<node>)`` (or just the node name), ``I(<part>)`` for the branch current
+        of an op-amp, vcvs or ccvs (it flows from the node into the part's output),
+        or ``I(source)`` for the source's (from the input side into the source).
+        Default: the drive mode's own unknown (output voltage for ``transfer``,
+        input voltage for ``zin``, output voltage for ``zout``).
+    drive : {"transfer", "zin", "zout"}
+        How the circuit is driven (see :func:`symfilt.engine.mna.build_system`):
+        a unit voltage behind R_s, a unit current into the input (no source), or a
+        unit current into the output (source zeroed, no load). The ratio is the
+        unknown per unit of that drive.
+    max_terms : int
+        Size budget of the elimination.
+    progress : callable, optional
+        Receives stage names.
+    where : str, optional
+        Name used in error messages (default: the circuit's title, or "circuit").
+
+    Returns
+    -------
+    Ratio
+
+    Raises
+    ------
+    UsageError
+        When the circuit has no such unknown in that drive mode.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> c = catalogue.build("rc-lowpass").without_fixtures()
+    >>> solve_unknown(c).to_sympy()
+    (1, C1*R1*s + 1)
+    >>> solve_unknown(c, "I(source)").to_sympy()
+    (-C1*s, C1*R1*s + 1)
+    """
+    if drive not in MODES:
+        raise ValueError(f"drive must be one of {MODES}")
+    system = build_system(circuit, drive)
+    if unknown is not None:
+        name = unknown if unknown.startswith(("I(", "V(")) else f"V({unknown})"
+        if name not in system.unknowns:
+            raise UsageError(unknown, "no such node or branch", "name a node of the circuit")
+        system = replace(system, target=system.unknowns.index(name))
+    return solve(system, max_terms=max_terms, progress=progress,
+                 where=where if where is not None else circuit.title or "circuit")
