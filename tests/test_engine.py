@@ -19,8 +19,9 @@ from symfilt import catalogue
 from symfilt.analysis import network
 from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, Part, S, part_symbol
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS, DelayedProgress, poly_to_sympy, solve
-from symfilt.errors import SingularCircuitError, SizeLimitError
+from symfilt.errors import SingularCircuitError, SizeLimitError, UsageError
 from symfilt.engine.mna import build_system
+from symfilt.engine.solve import solve_unknown
 
 R, C, L, U = Part.resistor, Part.capacitor, Part.inductor, Part.opamp
 
@@ -282,3 +283,44 @@ def test_ratio_coefficients_and_degree_agree_with_sympy_poly():
     assert [poly_to_sympy(c, r.symbols) for c in d_cs] == sympy.Poly(den, S).all_coeffs()[::-1]
     assert [poly_to_sympy(c, r.symbols) for c in n_cs] == sympy.Poly(num, S).all_coeffs()[::-1]
     assert r.degree("s") == 3 == sympy.degree(den, S)
+
+
+# --- one entry point for any unknown -------------------------------------------------
+def test_solve_unknown_node_voltage_and_branch_currents_by_hand():
+    # R1 from in to mid, R2 from mid to out, C1 from out to ground, driven by an ideal unit source.
+    # Ohm's law and the voltage divider (common practice): the current is 1/(R1 + R2 + 1/(sC1)),
+    # V(mid) = (R2 + 1/(sC1)) times it; the source's branch current flows from the input into
+    # the source, so it is minus the current the source delivers.
+    c = Circuit.build([R("R1", "in", "mid"), R("R2", "mid", "out"), C("C1", "out", "0")])
+    r1, r2, c1 = part_symbol("R1"), part_symbol("R2"), part_symbol("C1")
+    current = 1 / (r1 + r2 + 1 / (S * c1))
+    v_mid = solve_unknown(c, "V(mid)").to_sympy()
+    assert sympy.cancel(v_mid[0] / v_mid[1] - (r2 + 1 / (S * c1)) * current) == 0
+    assert solve_unknown(c, "mid").to_sympy() == v_mid  # a bare node name is its voltage
+    i_src = solve_unknown(c, "I(source)").to_sympy()
+    assert sympy.cancel(i_src[0] / i_src[1] + current) == 0
+    # a vcvs of gain E1 copying V(in) onto node o, loaded by R3 and by R4 + R5 in parallel: it delivers
+    # E1 V(in) (1/R3 + 1/(R4 + R5)) (Ohm's law), and its branch current flows from the node into the
+    # part's output, so I(E1) is minus that
+    buffered = Circuit.build([R("R0", "in", "0"), Part.make("E1", "vcvs", ["o", "0", "in", "0"]),
+                              R("R3", "o", "0"), R("R4", "o", "out"), R("R5", "out", "0")])
+    r3, r4, r5 = part_symbol("R3"), part_symbol("R4"), part_symbol("R5")
+    i_e1 = solve_unknown(buffered, "I(E1)").to_sympy()
+    assert sympy.cancel(i_e1[0] / i_e1[1] + part_symbol("E1", "vcvs") * (1 / r3 + 1 / (r4 + r5))) == 0
+
+
+def test_solve_unknown_default_is_the_drive_modes_own_unknown():
+    c = catalogue.build("sallen-key-lowpass")
+    for mode in ("transfer", "zin", "zout"):
+        assert solve_unknown(c, drive=mode).to_sympy() == solve(build_system(c, mode)).to_sympy()
+    # the output voltage asked for by name is the same unknown as the default
+    assert solve_unknown(c, f"V({c.output})").to_sympy() == solve_unknown(c).to_sympy()
+
+
+def test_solve_unknown_refuses_a_missing_unknown():
+    c = catalogue.build("rc-lowpass")
+    with pytest.raises(UsageError) as info:
+        solve_unknown(c, "nowhere")
+    assert str(info.value) == "nowhere: no such node or branch, name a node of the circuit"
+    with pytest.raises(ValueError):
+        solve_unknown(c, drive="current")

@@ -286,6 +286,17 @@ def test_the_pattern_is_the_pattern_of_the_mna_stamps():
             assert len(mine - theirs) <= 2, (c, mode)
 
 
+def test_structural_pattern_is_the_matrix_pattern_for_the_catalogue():
+    # one stamp table gives both: for the catalogue (no stamps that cancel) they agree entry for entry
+    for name in catalogue.CATALOGUE:
+        for c in (catalogue.build(name), catalogue.build(name).with_opamp_model("single-pole")):
+            for mode in MODES:
+                unknowns, rows = structural_pattern(c, mode)
+                system = build_system(c, mode)
+                assert tuple(u.label for u in unknowns) == system.unknowns, (name, mode)
+                assert rows == [set(row) for row in system.rows], (name, mode)
+
+
 def test_structure_checks_stay_cheap_on_the_largest_circuit():
     # 200 parts, the limit: a ladder of 100 sections; the checks run without algebra
     parts = []
