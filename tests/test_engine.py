@@ -18,7 +18,8 @@ import sympy
 from symfilt import catalogue
 from symfilt.analysis import network
 from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, Part, S, part_symbol
-from symfilt.engine.elimination import DEFAULT_MAX_TERMS, DelayedProgress, poly_to_sympy, solve
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS, DelayedProgress, solve
+from symfilt.engine.rational import poly_to_sympy
 from symfilt.errors import SingularCircuitError, SizeLimitError, UsageError
 from symfilt.engine.mna import build_system
 from symfilt.engine.solve import solve_unknown

@@ -2,23 +2,25 @@
 
 :func:`derive` turns a circuit into a :class:`NetworkFunction` (transfer function,
 input impedance or output impedance) through :func:`symfilt.engine.solve.solve_unknown`.
-A NetworkFunction is frozen; every operation returns a new one.
+A NetworkFunction is frozen; every operation returns a new one. Its maths is that of
+the :class:`~symfilt.engine.rational.Ratio` it carries; the sympy numerator and
+denominator are made when first asked for.
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field, replace
+from dataclasses import dataclass, replace
 from functools import cached_property
 from typing import Callable, Mapping
 
 import sympy
 
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
-from symfilt.engine.elimination import DEFAULT_MAX_TERMS, Ratio, cancel_pair
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
 from symfilt.errors import SingularCircuitError
-from symfilt.engine.polybridge import PolyContext, factor_ratio, integer_scale, smaller_than
+from symfilt.engine.rational import Ratio, cancel_exprs, cancel_pair, poly_to_sympy, tidy_quotient
 
 #: Quantities derive() knows, with the MNA mode that gives each.
 NETWORK_QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
@@ -29,7 +31,7 @@ def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Ex
 
     Coefficients must be rational; the number pi may appear as a factor. The result
     has integer coefficients without a common factor, and the denominator's trailing
-    coefficient is positive.
+    coefficient is positive (:func:`symfilt.engine.rational.cancel_pair`).
 
     Examples
     --------
@@ -37,19 +39,10 @@ def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Ex
     >>> cancel_ratio(x**2 - y**2, 2*x + 2*y)
     (x - y, 2)
     """
-    num, den = sympy.expand(num), sympy.expand(den)
-    if num == 0:
-        return sympy.Integer(0), sympy.Integer(1)
-    bridge = PolyContext([num, den])
-    fn, fd = bridge.to_flint(num), bridge.to_flint(den)
-    g = fn.gcd(fd)
-    if not g.is_one():
-        fn, fd = fn / g, fd / g
-    fn, fd = integer_scale(fn, fd)
-    return bridge.to_sympy(fn), bridge.to_sympy(fd)
+    return cancel_exprs(num, den)
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, init=False, eq=False, repr=False)
 class NetworkFunction:
     """An exact ratio of polynomials in ``s``: a transfer function or an impedance.
 
@@ -57,9 +50,13 @@ class NetworkFunction:
     ----------
     num, den : sympy.Expr
         Expanded polynomials in ``s`` whose coefficients are polynomials in the
-        circuit's symbols; coprime.
+        circuit's symbols; coprime. They may be left out when ``ratio`` is given.
     quantity : str
         ``transfer``, ``zin`` or ``zout``.
+    ratio : Ratio, optional
+        The same ratio as flint polynomials (made from ``num`` and ``den`` when not
+        given). Limits, coefficients, degrees and substitution work on it; ``num``
+        and ``den`` are then made from it when first used.
 
     Examples
     --------
@@ -69,16 +66,66 @@ class NetworkFunction:
     (1, 1, 0)
     """
 
-    num: sympy.Expr
-    den: sympy.Expr
-    quantity: str = "transfer"
-    #: The same ratio as flint polynomials, when it came from the engine: limits,
-    #: coefficients and degrees then work on it directly (fast for large results).
-    ratio: object = field(default=None, compare=False, repr=False)
+    quantity: str
+
+    def __init__(self, num=None, den=None, quantity: str = "transfer", ratio: Ratio | None = None) -> None:
+        if ratio is None and (num is None or den is None):
+            raise TypeError("give num and den, or ratio")
+        object.__setattr__(self, "quantity", quantity)
+        if ratio is not None:
+            object.__setattr__(self, "ratio", ratio)
+        if num is not None and den is not None:
+            # the views as given; the cached properties below are then never computed
+            object.__setattr__(self, "num", sympy.sympify(num))
+            object.__setattr__(self, "den", sympy.sympify(den))
+
+    @cached_property
+    def ratio(self) -> Ratio:
+        """The function as a :class:`~symfilt.engine.rational.Ratio` of flint polynomials.
+
+        Examples
+        --------
+        >>> NetworkFunction(sympy.Integer(1), 1 + S).ratio.degree(S)
+        1
+        """
+        return Ratio.from_sympy(self.num, self.den)
+
+    @cached_property
+    def num(self) -> sympy.Expr:
+        """The numerator, an expanded sympy polynomial (made once, when first asked for).
+
+        Examples
+        --------
+        >>> NetworkFunction.from_expr(2 / (4 + 2 * S)).num
+        1
+        """
+        return poly_to_sympy(self.ratio.num, self.ratio.symbols)
+
+    @cached_property
+    def den(self) -> sympy.Expr:
+        """The denominator, an expanded sympy polynomial (made once, when first asked for).
+
+        Examples
+        --------
+        >>> NetworkFunction.from_expr(2 / (4 + 2 * S)).den
+        s + 2
+        """
+        return poly_to_sympy(self.ratio.den, self.ratio.symbols)
+
+    def __eq__(self, other) -> bool:
+        if other.__class__ is not self.__class__:
+            return NotImplemented
+        return (self.num, self.den, self.quantity) == (other.num, other.den, other.quantity)
+
+    def __hash__(self) -> int:
+        return hash((self.num, self.den, self.quantity))
+
+    def __repr__(self) -> str:
+        return f"NetworkFunction(num={self.num!r}, den={self.den!r}, quantity={self.quantity!r})"
 
     @classmethod
     def from_ratio(cls, ratio, quantity: str = "transfer") -> "NetworkFunction":
-        """Build from an engine :class:`~symfilt.engine.elimination.Ratio`, keeping it for fast limits.
+        """Build from a :class:`~symfilt.engine.rational.Ratio`; sympy views are made lazily.
 
         Examples
         --------
@@ -89,8 +136,7 @@ class NetworkFunction:
         >>> h.order(), h.ideal().as_expr()
         (1, 1/(C1*R1*s + 1))
         """
-        num, den = ratio.to_sympy()
-        return cls(num, den, quantity, ratio)
+        return cls(quantity=quantity, ratio=ratio)
 
     @classmethod
     def from_expr(cls, expr, quantity: str = "transfer") -> "NetworkFunction":
@@ -102,8 +148,7 @@ class NetworkFunction:
         1/(2*s + 1)
         """
         n, d = sympy.fraction(sympy.together(sympy.sympify(expr)))
-        n, d = cancel_ratio(n, d)
-        return cls(n, d, quantity)
+        return cls.from_ratio(Ratio.from_sympy(n, d), quantity)
 
     # --- views ------------------------------------------------------------------
     @property
@@ -115,7 +160,7 @@ class NetworkFunction:
         >>> NetworkFunction(sympy.Integer(1), sympy.Integer(0), "zin").infinite
         True
         """
-        return self.den == 0
+        return self.ratio.infinite
 
     def as_expr(self) -> sympy.Expr:
         """The ratio as one sympy expression (``oo`` when infinite).
@@ -142,13 +187,9 @@ class NetworkFunction:
 
     @cached_property
     def _coefficients(self):
-        if self.ratio is not None and not self.infinite:
-            from symfilt.engine.elimination import poly_to_sympy
-
-            ncs, dcs = self.ratio.coefficients("s")
-            conv = lambda cs: tuple(poly_to_sympy(c, self.ratio.symbols) for c in cs)
-            return conv(ncs), conv(dcs)
-        return tuple(_coeffs(self.num)), tuple(_coeffs(self.den))
+        ncs, dcs = self.ratio.coefficients(S)
+        conv = lambda cs: tuple(poly_to_sympy(c, self.ratio.symbols) for c in cs)
+        return conv(ncs), conv(dcs)
 
     def normalized(self) -> tuple[sympy.Expr, sympy.Expr]:
         """Numerator and denominator with the denominator's lowest-order coefficient made 1.
@@ -167,25 +208,15 @@ class NetworkFunction:
     def _normalized(self):
         if self.infinite:
             return sympy.Integer(1), sympy.Integer(0)
-        ncs, dcs, ratio_of = self._coefficient_source()
+        ncs, dcs = self.ratio.coefficients(S)
         low = next(c for c in dcs if c != 0)
-
-        def tidy(c):
-            return ratio_of(c, low)
-
-        num = sympy.Add(*[tidy(c) * S**k for k, c in enumerate(ncs)])
-        den = sympy.Add(*[tidy(c) * S**k for k, c in enumerate(dcs)])
+        num = sympy.Add(*[self._tidy(c, low) * S**k for k, c in enumerate(ncs)])
+        den = sympy.Add(*[self._tidy(c, low) * S**k for k, c in enumerate(dcs)])
         return num, den
 
-    def _coefficient_source(self):
-        """Coefficient lists in s and a function giving a tidy ratio of two of them: on the
-        engine's flint polynomials when there are some, else on sympy expressions."""
-        if self.ratio is not None:
-            ncs, dcs = self.ratio.coefficients("s")
-            symbols = self.ratio.symbols
-            return ncs, dcs, lambda a, b: _tidy_flint(a, b, symbols)
-        ncs, dcs = self.coefficients()
-        return ncs, dcs, _tidy_ratio
+    def _tidy(self, a, b) -> sympy.Expr:
+        """a/b of two coefficient polynomials, cancelled and, when small, factored."""
+        return tidy_quotient(a, b, self.ratio.symbols)
 
     def gain_form(self) -> tuple[sympy.Expr, list[sympy.Expr], list[sympy.Expr]]:
         """``K`` and the coefficient lists of ``N(s)``, ``D(s)`` with H = K N(s)/D(s), where
@@ -204,11 +235,12 @@ class NetworkFunction:
     def _gain_form(self):
         if self.infinite:
             return sympy.oo, (sympy.Integer(1),), (sympy.Integer(1),)
-        ncs, dcs, tidy = self._coefficient_source()
+        ncs, dcs = self.ratio.coefficients(S)
         if all(c == 0 for c in ncs):
             return sympy.Integer(0), (sympy.Integer(1),), (sympy.Integer(1),)
         n_low = next(c for c in ncs if c != 0)
         d_low = next(c for c in dcs if c != 0)
+        tidy = self._tidy
         return tidy(n_low, d_low), tuple(tidy(c, n_low) for c in ncs), tuple(tidy(c, d_low) for c in dcs)
 
     def normalized_expr(self) -> sympy.Expr:
@@ -233,7 +265,7 @@ class NetworkFunction:
         >>> sorted(map(str, NetworkFunction(S, S + 1).free_symbols()))
         ['s']
         """
-        return self.num.free_symbols | self.den.free_symbols
+        return self.ratio.free_symbols()
 
     # --- quantities --------------------------------------------------------------
     def order(self) -> int:
@@ -244,9 +276,7 @@ class NetworkFunction:
         >>> NetworkFunction(sympy.Integer(1), S**2 + S + 1).order()
         2
         """
-        if self.ratio is not None:
-            return self.ratio.degree("s")
-        return max(sympy.degree(self.num, S), sympy.degree(self.den, S))
+        return self.ratio.degree(S)
 
     def dc_gain(self) -> sympy.Expr:
         """Value at s = 0 (``oo`` when the function has a pole there).
@@ -256,7 +286,7 @@ class NetworkFunction:
         >>> NetworkFunction(S, S + 1).dc_gain()
         0
         """
-        return self._gain_at(0)
+        return self.ratio.gain(0, S)
 
     def hf_gain(self) -> sympy.Expr:
         """Limit as s -> oo (``oo`` when it grows without bound).
@@ -266,16 +296,7 @@ class NetworkFunction:
         >>> NetworkFunction(2 * S, S + 1).hf_gain()
         2
         """
-        return self._gain_at(sympy.oo)
-
-    def _gain_at(self, point):
-        if self.ratio is not None and not self.infinite:
-            r = self.ratio.limit("s", 0 if point == 0 else "oo")
-            if r is None:
-                return sympy.oo
-            n, d = r.to_sympy()
-            return _tidy_ratio(n, d)
-        return _ratio_limit(self.num, self.den, S, point)
+        return self.ratio.gain("oo", S)
 
     def limit(self, symbol: sympy.Symbol, point) -> "NetworkFunction":
         """The function as ``symbol`` goes to 0 or oo (exact, on the polynomials).
@@ -290,31 +311,11 @@ class NetworkFunction:
         """
         if self.infinite or symbol not in self.free_symbols():
             return self
-        if self.ratio is not None:
-            r = self.ratio.limit(symbol.name, 0 if point == 0 else "oo")
-            if r is None:
-                raise SingularCircuitError(str(symbol), f"the {self.quantity} grows without bound as {symbol} -> {point}",
-                                           "keep that fixture in the circuit")
-            return NetworkFunction.from_ratio(r, self.quantity)
-        ncs, dcs = sympy.Poly(self.num, symbol), sympy.Poly(self.den, symbol)
-        if point == 0:
-            a, b = min(m[0] for m in ncs.monoms()), min(m[0] for m in dcs.monoms())
-            if a < b:
-                raise SingularCircuitError(str(symbol), f"the {self.quantity} grows without bound as {symbol} -> 0",
-                                           "keep that fixture in the circuit")
-            if a > b:
-                return NetworkFunction(sympy.Integer(0), sympy.Integer(1), self.quantity)
-            n, d = ncs.coeff_monomial(symbol**a), dcs.coeff_monomial(symbol**b)
-        else:
-            a, b = ncs.degree(), dcs.degree()
-            if a > b:
-                raise SingularCircuitError(str(symbol), f"the {self.quantity} grows without bound as {symbol} -> oo",
-                                           "keep that fixture in the circuit")
-            if a < b:
-                return NetworkFunction(sympy.Integer(0), sympy.Integer(1), self.quantity)
-            n, d = ncs.coeff_monomial(symbol**a), dcs.coeff_monomial(symbol**b)
-        n, d = cancel_ratio(n, d)
-        return NetworkFunction(n, d, self.quantity)
+        r = self.ratio.limit(symbol, 0 if point == 0 else "oo")
+        if r is None:
+            raise SingularCircuitError(str(symbol), f"the {self.quantity} grows without bound as {symbol} -> {point}",
+                                       "keep that fixture in the circuit")
+        return NetworkFunction.from_ratio(r, self.quantity)
 
     def ideal(self) -> "NetworkFunction":
         """The stage alone: R_s -> 0, R_L -> oo, C_L -> 0 (for those present).
@@ -342,22 +343,14 @@ class NetworkFunction:
         """
         if self.infinite:
             return self
-        by_name = {x.name: x for x in self.free_symbols()}
-        m = {}
-        for k, v in values.items():
-            key = by_name.get(k) if isinstance(k, str) else k
-            if key is None:
-                continue
-            m[key] = sympy.Rational(repr(v)) if isinstance(v, float) else v
-        n, d = cancel_ratio(self.num.xreplace(m), self.den.xreplace(m))
-        return NetworkFunction(n, d, self.quantity)
+        return NetworkFunction.from_ratio(self.ratio.subs(values), self.quantity)
 
     def coefficient_values(self, values: Mapping) -> tuple[list[float], list[float]] | None:
         """Coefficients of numerator and denominator (lowest power of s first) as floats at
         the given values; None when a symbol other than s has no value.
 
-        The coefficients are compiled once per function (``sympy.lambdify`` with the
-        ``math`` module), so repeated evaluation at nearby values is cheap.
+        The coefficient polynomials are evaluated exactly (flint rationals) and then
+        rounded, so repeated evaluation at nearby values is cheap.
 
         Examples
         --------
@@ -368,34 +361,22 @@ class NetworkFunction:
         if self.infinite:
             return None
         given = {(k.name if hasattr(k, "name") else str(k)): v for k, v in values.items()}
-        if self.ratio is not None:
-            return self._coefficient_values_exact(given)
-        args, fn = self._coefficient_function
-        try:
-            point = [float(given[x.name]) for x in args]
-        except KeyError:
-            return None
-        n = len(self._coefficients[0])
-        try:
-            out = [float(v) for v in fn(*point)]
-        except (ZeroDivisionError, OverflowError, ValueError, TypeError):
-            return None
-        return out[:n], out[n:]
+        return self._coefficient_values_exact(given)
 
     def _coefficient_values_exact(self, given: dict):
-        """Evaluate the engine's coefficient polynomials exactly (flint fmpq) at the values."""
+        """Evaluate the coefficient polynomials exactly (flint fmpq) at the values."""
         import flint
 
         ctx, ncs, dcs = self._coefficient_polys_q
         point = []
         for name in ctx.names():
             sym = self.ratio.symbols.get(name)
-            if name == "s":
+            if name == "s" or sym == S:
                 point.append(flint.fmpq(0))
             elif sym is sympy.pi:
                 point.append(flint.fmpq(*math.pi.as_integer_ratio()))
-            elif name in given:
-                v = given[name]
+            elif sym.name in given:
+                v = given[sym.name]
                 if isinstance(v, float):
                     point.append(flint.fmpq(*v.as_integer_ratio()))
                 else:
@@ -410,18 +391,11 @@ class NetworkFunction:
     def _coefficient_polys_q(self):
         import flint
 
-        ncs, dcs = self.ratio.coefficients("s")
+        ncs, dcs = self.ratio.coefficients(S)
         names = tuple(self.ratio.num.context().names())
         ctx = flint.fmpq_mpoly_ctx.get(names, "degrevlex")
         conv = lambda cs: [ctx.from_dict(c.to_dict()) for c in cs]
         return ctx, conv(ncs), conv(dcs)
-
-    @cached_property
-    def _coefficient_function(self):
-        ncs, dcs = self._coefficients
-        args = sorted(self.free_symbols() - {S}, key=lambda x: x.name)
-        fn = sympy.lambdify(args, list(ncs) + list(dcs), modules="math")
-        return args, fn
 
     def evaluate(self, values: Mapping, s_values):
         """Evaluate numerically at complex frequencies (numpy, imported here).
@@ -450,61 +424,6 @@ class NetworkFunction:
 
 def _fmpq_float(q) -> float:
     return int(q.p) / int(q.q)
-
-
-def _coeffs(p: sympy.Expr) -> list[sympy.Expr]:
-    poly = sympy.Poly(p, S)
-    deg = poly.degree()
-    if deg < 0:
-        return [sympy.Integer(0)]
-    return [poly.coeff_monomial(S**k) for k in range(deg + 1)]
-
-
-def _ratio_limit(num, den, var, point):
-    if den == 0:
-        return sympy.oo
-    pn, pd = sympy.Poly(num, var), sympy.Poly(den, var)
-    if pn.is_zero:
-        return sympy.Integer(0)
-    if point == 0:
-        a, b = min(m[0] for m in pn.monoms()), min(m[0] for m in pd.monoms())
-    else:
-        a, b = pn.degree(), pd.degree()
-        a, b = -a, -b
-    if a > b:
-        return sympy.Integer(0)
-    if a < b:
-        return sympy.oo
-    k_n = -a if point != 0 else a
-    k_d = -b if point != 0 else b
-    return _tidy_ratio(pn.coeff_monomial(var**k_n), pd.coeff_monomial(var**k_d))
-
-
-def _tidy_flint(num, den, symbols: dict) -> sympy.Expr:
-    """num/den of two engine polynomials, cancelled in flint; factored in flint when small."""
-    from symfilt.engine.elimination import cancel_pair, poly_to_sympy
-
-    if num == 0:
-        return sympy.Integer(0)
-    n, d = cancel_pair(num, den)
-    if len(n) + len(d) > 60:
-        return poly_to_sympy(n, symbols) / poly_to_sympy(d, symbols)
-
-    def product(p):
-        const, factors = p.factor()
-        return sympy.Integer(int(const)) * sympy.Mul(*[poly_to_sympy(f, symbols) ** e for f, e in factors])
-
-    return product(n) / product(d)
-
-
-def _tidy_ratio(num: sympy.Expr, den: sympy.Expr) -> sympy.Expr:
-    """num/den cancelled exactly (flint), and factored when small enough to read."""
-    if num == 0:
-        return sympy.Integer(0)
-    if smaller_than(num, 400) and smaller_than(den, 400):
-        return factor_ratio(num, den)
-    n, d = cancel_ratio(num, den)
-    return n / d
 
 
 def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEFAULT_MAX_TERMS,

@@ -74,7 +74,8 @@ def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
         return None
     import flint
 
-    from symfilt.engine.polybridge import PolyContext, integer_scale
+    from symfilt.engine.polybridge import PolyContext
+    from symfilt.engine.rational import cancel_pair
 
     factors = [(sympy.sympify(p), sympy.Rational(e)) for p, e in factors if p != 1]
     bridge = PolyContext([p for p, _e in factors] + list(symbols))
@@ -95,9 +96,7 @@ def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
         if num == 0:
             out[str(x)] = sympy.Integer(0)
             continue
-        g = num.gcd(den)
-        n, d = (num / g, den / g) if not g.is_one() else (num, den)
-        n, d = integer_scale(n, d)
+        n, d = cancel_pair(num, den)
         value = bridge.to_sympy(n) / bridge.to_sympy(d)
         out[str(x)] = sympy.factor(value) if sympy.count_ops(value) < _SMALL else value
     return out

@@ -304,21 +304,9 @@ def _limit(expr: sympy.Expr | None, x: sympy.Symbol, at_zero: bool) -> sympy.Exp
         return expr
     if not _rational_in(expr, x):
         return None
-    num, den = sympy.fraction(sympy.together(expr))
-    try:
-        pn, pd = sympy.Poly(num, x), sympy.Poly(den, x)
-    except sympy.PolynomialError:
-        return None
-    if pn.is_zero:
-        return sympy.Integer(0)
-    if at_zero:
-        (kn, cn), (kd, cd) = [min(((m[0], c) for m, c in p.terms()), key=lambda t: t[0]) for p in (pn, pd)]
-        kn, kd = -kn, -kd  # lowest power dominates: compare like degrees at infinity
-    else:
-        (kn, cn), (kd, cd) = (pn.degree(), pn.LC()), (pd.degree(), pd.LC())
-    if kn == kd:
-        return cn / cd
-    return sympy.zoo if kn > kd else sympy.Integer(0)
+    from symfilt.engine.rational import rational_limit
+
+    return rational_limit(expr, x, 0 if at_zero else "oo")
 
 
 def _show(expr: sympy.Expr | None) -> str:

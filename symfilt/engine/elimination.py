@@ -19,25 +19,21 @@ row is.
 
 Afterwards the reciprocal generators (``G:R`` = 1/R, ``Y:L`` = 1/(sL)) are turned
 back into ordinary symbols by multiplying numerator and denominator by the same
-monomial, and the common factor is cancelled with a polynomial gcd. Conversion to
-sympy happens once, at the very end, straight into sympy's canonical form.
+monomial, and the common factor is cancelled with a polynomial gcd. The result is a
+:class:`~symfilt.engine.rational.Ratio`, converted to sympy only when asked.
 """
 
 from __future__ import annotations
 
-import gc
 import time
 from dataclasses import dataclass, field
-from functools import cmp_to_key
-from itertools import compress
-from operator import itemgetter
 from typing import Callable
 
 import flint
-import sympy
 
 from symfilt.errors import SingularCircuitError, SizeLimitError
 from symfilt.engine.mna import MnaSystem
+from symfilt.engine.rational import Ratio, cancel_pair
 
 #: Default size budget: the most terms any polynomial of a derivation may have.
 #: The transfer function of a ten-section RC ladder with symbolic source and load
@@ -85,251 +81,6 @@ class DelayedProgress:
     def __call__(self, stage: str) -> None:
         if self.clock() - self.start >= self.delay:
             self.write(stage)
-
-
-@dataclass(frozen=True)
-class Ratio:
-    """An exact ratio ``num / den`` of flint polynomials over the plain symbols.
-
-    Attributes
-    ----------
-    num, den : flint.fmpz_mpoly
-        Coprime polynomials in one context.
-    symbols : dict
-        Generator name -> sympy object.
-    """
-
-    num: object
-    den: object
-    symbols: dict
-
-    @property
-    def terms(self) -> int:
-        """Number of terms of numerator and denominator together.
-
-        Examples
-        --------
-        >>> from symfilt import catalogue
-        >>> from symfilt.engine.mna import build_system
-        >>> solve(build_system(catalogue.build("rc-lowpass"), "transfer")).terms
-        6
-        """
-        return len(self.num) + len(self.den)
-
-    def to_sympy(self) -> tuple[sympy.Expr, sympy.Expr]:
-        """Numerator and denominator as expanded sympy expressions.
-
-        Examples
-        --------
-        >>> from symfilt import catalogue
-        >>> from symfilt.engine.mna import build_system
-        >>> num, den = solve(build_system(catalogue.build("rc-lowpass"), "transfer")).to_sympy()
-        >>> sympy.factor(num / den)
-        R_L/(C1*R1*R_L*s + C1*R_L*R_s*s + R1 + R_L + R_s)
-        """
-        return poly_to_sympy(self.num, self.symbols), poly_to_sympy(self.den, self.symbols)
-
-    def degree(self, name: str) -> int:
-        """The larger degree of numerator and denominator in one symbol (0 when absent).
-
-        Examples
-        --------
-        >>> from symfilt import catalogue
-        >>> from symfilt.engine.mna import build_system
-        >>> solve(build_system(catalogue.build("sallen-key-lowpass"), "transfer")).degree("s")
-        2
-        """
-        if name not in self.num.context().names():
-            return 0
-        k = self.num.context().variable_to_index(name)
-        return max(0, self.num.degrees()[k], self.den.degrees()[k])
-
-    def coefficients(self, name: str) -> tuple[list, list]:
-        """Coefficients of numerator and denominator in powers of one symbol, lowest first.
-
-        The coefficients are flint polynomials in the other symbols; convert one with
-        :func:`poly_to_sympy`.
-
-        Examples
-        --------
-        >>> from symfilt import catalogue
-        >>> from symfilt.engine.mna import build_system
-        >>> r = solve(build_system(catalogue.build("rc-lowpass").without_fixtures(), "transfer"))
-        >>> [[poly_to_sympy(c, r.symbols) for c in cs] for cs in r.coefficients("s")]
-        [[1], [1, C1*R1]]
-        """
-        if name not in self.num.context().names():
-            return [self.num], [self.den]
-        return _coefficients(self.num, name), _coefficients(self.den, name)
-
-    def limit(self, name: str, point) -> "Ratio | None":
-        """The ratio as one symbol goes to 0 or to infinity (``point`` 0 or ``"oo"``), cancelled.
-
-        None when the limit is infinite.
-
-        Examples
-        --------
-        >>> from symfilt import catalogue
-        >>> from symfilt.engine.mna import build_system
-        >>> r = solve(build_system(catalogue.build("rc-lowpass"), "transfer"))
-        >>> r.limit("R_L", "oo").limit("R_s", 0).to_sympy()
-        (1, C1*R1*s + 1)
-        >>> r.limit("s", "oo").to_sympy()
-        (0, 1)
-        """
-        if point not in (0, "oo"):
-            raise ValueError("point must be 0 or 'oo'")
-        if name not in self.num.context().names() or self.num == 0:
-            return self
-        n_cs, d_cs = self.coefficients(name)
-        if point == 0:
-            a = next(k for k, c in enumerate(n_cs) if c != 0)
-            b = next(k for k, c in enumerate(d_cs) if c != 0)
-            if a < b:
-                return None
-        else:
-            a, b = -(len(n_cs) - 1), -(len(d_cs) - 1)
-            if a < b:
-                return None
-        if a > b:
-            ctx = self.num.context()
-            return Ratio(ctx.from_dict({}), ctx.from_dict({(0,) * ctx.nvars(): 1}), self.symbols)
-        num, den = cancel_pair(n_cs[abs(a)], d_cs[abs(b)])
-        return Ratio(num, den, self.symbols)
-
-
-def _coefficients(p, name: str) -> list:
-    """Coefficients of p in powers of one generator, lowest first (Taylor's formula at 0)."""
-    k = p.context().variable_to_index(name)
-    top = max(p.degrees()[k], 0)
-    out = []
-    factorial = 1
-    for j in range(top + 1):
-        if j:
-            p = p.derivative(name)
-            factorial *= j
-        c = p.subs({name: 0})
-        out.append(c / factorial if factorial != 1 else c)
-    return out
-
-
-def poly_to_sympy(p, symbols: dict) -> sympy.Expr:
-    """Convert a flint polynomial to a sympy expression, built directly in canonical form.
-
-    The result is the very expression ``sympy.Add(*[coeff * Mul(*powers) ...])``
-    would give (same arguments in the same order, so ``==`` and hashing agree),
-    but it is assembled with ``_from_args`` after sorting the terms with keys that
-    reproduce sympy's canonical order (:func:`sympy.core.basic.Basic.compare`),
-    which skips sympy's general-purpose flattening. This matters for results with
-    tens of thousands of terms.
-
-    Parameters
-    ----------
-    p : flint.fmpz_mpoly
-    symbols : dict
-        Generator name -> sympy object: a Symbol or a number symbol such as pi.
-
-    Examples
-    --------
-    >>> ctx = flint.fmpz_mpoly_ctx.get(("x", "y"), "lex")
-    >>> x, y = ctx.gens()
-    >>> poly_to_sympy(3 * x * y - y**2, {"x": sympy.Symbol("x"), "y": sympy.Symbol("y")})
-    3*x*y - y**2
-    >>> poly_to_sympy(2 * x**2 - 5, {"x": sympy.pi, "y": sympy.Symbol("y")})
-    -5 + 2*pi**2
-    """
-    if p == 0:
-        return sympy.Integer(0)
-    # tens of thousands of new objects, none of them cyclic: the collector would
-    # only rescan them again and again, so it rests while they are made
-    paused = gc.isenabled()
-    gc.disable()
-    try:
-        return _poly_to_sympy_fast(p, symbols)
-    finally:
-        if paused:
-            gc.enable()
-
-
-def _poly_to_sympy_fast(p, symbols: dict) -> sympy.Expr:
-    names = p.context().names()
-    gens = [symbols[nm] for nm in names]
-    pow_class = _class_key(sympy.Pow)
-    if not gens or not all(isinstance(g, (sympy.Symbol, sympy.NumberSymbol)) and _class_key(type(g)) < pow_class
-                           for g in gens):
-        return _poly_to_sympy_slow(p, gens)
-    # generators in sympy's canonical order; a product lists its number, then bare
-    # generators, then powers, each in this order (Pi and Symbol sort before Pow)
-    order = sorted(range(len(gens)), key=cmp_to_key(lambda i, j: gens[i].compare(gens[j])))
-    by_rank = [gens[i] for i in order]
-    reorder = itemgetter(*order) if len(order) > 1 else (lambda exps: (exps[order[0]],))
-    n_gens, top = len(gens), max(p.degrees()) + 1
-    gen_class = [_class_key(type(g))[0] for g in by_rank]
-    mul_class = _class_key(sympy.Mul)[0]
-    powers: dict[int, sympy.Expr] = {}
-    constant = None
-    keyed = []
-    ranks = range(n_gens)
-    for exps, c in p.terms():
-        c = int(c)
-        ex = reorder(exps)
-        codes = list(compress(ranks, ex))
-        if not codes:
-            constant = sympy.Integer(c)
-            continue
-        if max(ex) == 1:
-            factors = [by_rank[r] for r in codes]
-        else:
-            codes = [r for r in codes if ex[r] == 1]
-            factors = [by_rank[r] for r in codes]
-            for r, e in enumerate(ex):
-                if e > 1:
-                    code = n_gens + r * top + e
-                    obj = powers.get(code)
-                    if obj is None:
-                        obj = powers[code] = sympy.Pow(by_rank[r], e)
-                    codes.append(code)
-                    factors.append(obj)
-        if c == 1 and len(factors) == 1:
-            code = codes[0]
-            keyed.append(((gen_class[code] if code < n_gens else pow_class[0], 1, (2, 0), (code,)), factors[0]))
-            continue
-        if c != 1:
-            factors.insert(0, sympy.Integer(c))
-            number = (0, c) if c == -1 else (1, c)  # NegativeOne sorts before Integer
-        else:
-            number = (2, 0)
-        keyed.append(((mul_class, len(factors), number, tuple(codes)), sympy.Mul._from_args(tuple(factors), True)))
-    keyed.sort(key=lambda kt: kt[0])
-    terms = [t for _k, t in keyed]
-    if constant is not None:
-        terms.insert(0, constant)
-    if not terms:
-        return sympy.Integer(0)
-    if len(terms) == 1:
-        return terms[0]
-    return sympy.Add._from_args(tuple(terms), True)
-
-
-def _class_key(cls) -> tuple:
-    """Sort key of a class as :func:`sympy.core.basic._cmp_name` orders classes."""
-    from sympy.core.basic import ordering_of_classes
-
-    name = cls.__name__
-    if name in ordering_of_classes:
-        return (ordering_of_classes.index(name), "")
-    return (len(ordering_of_classes) + 1, name)
-
-
-def _poly_to_sympy_slow(p, gens) -> sympy.Expr:
-    terms = []
-    for exps, c in p.terms():
-        factors = [sympy.Integer(int(c))]
-        for gsym, e in zip(gens, exps):
-            if e:
-                factors.append(gsym**e)
-        terms.append(sympy.Mul(*factors))
-    return sympy.Add(*terms)
 
 
 def _check_size(p, max_terms: int, system: MnaSystem, where: str) -> None:
@@ -544,28 +295,3 @@ def _reverse(p, var: str, top: int, m):
             p_k = p_k / factorial
         out += p_k * m ** (top - k)
     return out
-
-
-def cancel_pair(num, den):
-    """Divide out the gcd and make the denominator's sign canonical.
-
-    The sign is fixed so that the denominator's trailing term (lowest in the
-    ring's order) is positive; with every symbol positive that keeps physically
-    positive denominators positive.
-
-    Examples
-    --------
-    >>> ctx = flint.fmpz_mpoly_ctx.get(("x", "y"), "lex")
-    >>> x, y = ctx.gens()
-    >>> cancel_pair((x + y) * x, -(x + y) * y)
-    (-x, y)
-    """
-    if num == 0:
-        return num, den.context().from_dict({(0,) * den.context().nvars(): 1})
-    g = num.gcd(den)
-    if not g.is_one():
-        num, den = num / g, den / g
-    coeffs = den.coeffs()
-    if coeffs and int(coeffs[-1]) < 0:
-        num, den = -num, -den
-    return num, den

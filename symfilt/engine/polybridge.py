@@ -1,11 +1,17 @@
-"""Exact conversion between sympy polynomial expressions and python-flint ``fmpq_mpoly``.
+"""Exact conversion between sympy polynomial expressions and python-flint polynomials.
 
-Used wherever polynomial arithmetic on sympy results must be fast (cancelling a
-ratio, differentiating coefficient polynomials). The number pi is carried as a
-generator of its own so that single-pole op-amp results stay exact.
+:class:`PolyContext` turns sympy expressions into ``fmpq_mpoly`` and back (the number
+pi is carried as a generator of its own so that single-pole op-amp results stay
+exact); :func:`poly_to_sympy` turns an engine ``fmpz_mpoly`` into sympy's canonical
+form quickly. :mod:`symfilt.engine.rational` builds its ratios through both.
 """
 
 from __future__ import annotations
+
+import gc
+from functools import cmp_to_key
+from itertools import compress
+from operator import itemgetter
 
 import flint
 import sympy
@@ -94,6 +100,17 @@ class PolyContext:
             return self.ctx.from_dict({})
         return p.derivative(self._index[symbol])
 
+    def symbols(self) -> list:
+        """The sympy object each generator stands for, in order (:data:`sympy.pi` for pi).
+
+        Examples
+        --------
+        >>> x, y = sympy.symbols("x y")
+        >>> PolyContext([y * sympy.pi + x]).symbols()
+        [x, y, pi]
+        """
+        return [sympy.pi if g == self._pi else g for g in self.gens]
+
     def gen(self, symbol):
         """The generator standing for ``symbol``.
 
@@ -104,31 +121,6 @@ class PolyContext:
         x0
         """
         return self.ctx.gens()[self._index[symbol]]
-
-
-def integer_scale(fn, fd):
-    """Scale a pair so both have integer coefficients with no common factor and the
-    denominator's trailing coefficient is positive.
-
-    Examples
-    --------
-    >>> x = sympy.Symbol("x")
-    >>> b = PolyContext([x])
-    >>> n, d = integer_scale(b.to_flint(x / 2), b.to_flint(-x / 4 - sympy.Rational(1, 2)))
-    >>> b.to_sympy(n), b.to_sympy(d)
-    (-2*x, x + 2)
-    """
-    coeffs = list(fn.coeffs()) + list(fd.coeffs())
-    lcm = 1
-    for c in coeffs:
-        lcm = sympy.ilcm(lcm, int(c.q))
-    g = 0
-    for c in coeffs:
-        g = sympy.igcd(g, int(c.p) * lcm // int(c.q))
-    scale = flint.fmpq(lcm, g or 1)
-    if fd.coeffs()[-1] < 0:
-        scale = -scale
-    return fn * scale, fd * scale
 
 
 def smaller_than(expr, nodes: int) -> bool:
@@ -147,32 +139,120 @@ def smaller_than(expr, nodes: int) -> bool:
     return sum(1 for _ in islice(sympy.preorder_traversal(expr), nodes)) < nodes
 
 
-def factor_ratio(num, den=1) -> sympy.Expr:
-    """num/den cancelled and factored with python-flint (much faster than sympy.factor).
+def poly_to_sympy(p, symbols: dict) -> sympy.Expr:
+    """Convert a flint polynomial to a sympy expression, built directly in canonical form.
+
+    The result is the very expression ``sympy.Add(*[coeff * Mul(*powers) ...])``
+    would give (same arguments in the same order, so ``==`` and hashing agree),
+    but it is assembled with ``_from_args`` after sorting the terms with keys that
+    reproduce sympy's canonical order (:func:`sympy.core.basic.Basic.compare`),
+    which skips sympy's general-purpose flattening. This matters for results with
+    tens of thousands of terms.
+
+    Parameters
+    ----------
+    p : flint.fmpz_mpoly
+    symbols : dict
+        Generator name -> sympy object: a Symbol or a number symbol such as pi.
 
     Examples
     --------
-    >>> x, y = sympy.symbols("x y")
-    >>> factor_ratio(x**2 - y**2, 2 * x + 2 * y)
-    x/2 - y/2
-    >>> factor_ratio(x**2 * y + x * y**2, x - y)
-    x*y*(x + y)/(x - y)
+    >>> ctx = flint.fmpz_mpoly_ctx.get(("x", "y"), "lex")
+    >>> x, y = ctx.gens()
+    >>> poly_to_sympy(3 * x * y - y**2, {"x": sympy.Symbol("x"), "y": sympy.Symbol("y")})
+    3*x*y - y**2
+    >>> poly_to_sympy(2 * x**2 - 5, {"x": sympy.pi, "y": sympy.Symbol("y")})
+    -5 + 2*pi**2
     """
-    num, den = sympy.expand(num), sympy.expand(den)
-    if num == 0:
+    if p == 0:
         return sympy.Integer(0)
-    bridge = PolyContext([num, den])
-    fn, fd = bridge.to_flint(num), bridge.to_flint(den)
-    g = fn.gcd(fd)
-    if not g.is_one():
-        fn, fd = fn / g, fd / g
+    # tens of thousands of new objects, none of them cyclic: the collector would
+    # only rescan them again and again, so it rests while they are made
+    paused = gc.isenabled()
+    gc.disable()
+    try:
+        return _poly_to_sympy_fast(p, symbols)
+    finally:
+        if paused:
+            gc.enable()
 
-    def product(p):
-        const, factors = p.factor()
-        out = sympy.Rational(int(const.p), int(const.q))
-        parts = [bridge.to_sympy(f) ** e for f, e in factors]
-        return out, sympy.Mul(*parts)
 
-    cn, pn = product(fn)
-    cd, pd = product(fd)
-    return (cn / cd) * pn / pd
+def _poly_to_sympy_fast(p, symbols: dict) -> sympy.Expr:
+    names = p.context().names()
+    gens = [symbols[nm] for nm in names]
+    pow_class = _class_key(sympy.Pow)
+    if not gens or not all(isinstance(g, (sympy.Symbol, sympy.NumberSymbol)) and _class_key(type(g)) < pow_class
+                           for g in gens):
+        return _poly_to_sympy_slow(p, gens)
+    # generators in sympy's canonical order; a product lists its number, then bare
+    # generators, then powers, each in this order (Pi and Symbol sort before Pow)
+    order = sorted(range(len(gens)), key=cmp_to_key(lambda i, j: gens[i].compare(gens[j])))
+    by_rank = [gens[i] for i in order]
+    reorder = itemgetter(*order) if len(order) > 1 else (lambda exps: (exps[order[0]],))
+    n_gens, top = len(gens), max(p.degrees()) + 1
+    gen_class = [_class_key(type(g))[0] for g in by_rank]
+    mul_class = _class_key(sympy.Mul)[0]
+    powers: dict[int, sympy.Expr] = {}
+    constant = None
+    keyed = []
+    ranks = range(n_gens)
+    for exps, c in p.terms():
+        c = int(c)
+        ex = reorder(exps)
+        codes = list(compress(ranks, ex))
+        if not codes:
+            constant = sympy.Integer(c)
+            continue
+        if max(ex) == 1:
+            factors = [by_rank[r] for r in codes]
+        else:
+            codes = [r for r in codes if ex[r] == 1]
+            factors = [by_rank[r] for r in codes]
+            for r, e in enumerate(ex):
+                if e > 1:
+                    code = n_gens + r * top + e
+                    obj = powers.get(code)
+                    if obj is None:
+                        obj = powers[code] = sympy.Pow(by_rank[r], e)
+                    codes.append(code)
+                    factors.append(obj)
+        if c == 1 and len(factors) == 1:
+            code = codes[0]
+            keyed.append(((gen_class[code] if code < n_gens else pow_class[0], 1, (2, 0), (code,)), factors[0]))
+            continue
+        if c != 1:
+            factors.insert(0, sympy.Integer(c))
+            number = (0, c) if c == -1 else (1, c)  # NegativeOne sorts before Integer
+        else:
+            number = (2, 0)
+        keyed.append(((mul_class, len(factors), number, tuple(codes)), sympy.Mul._from_args(tuple(factors), True)))
+    keyed.sort(key=lambda kt: kt[0])
+    terms = [t for _k, t in keyed]
+    if constant is not None:
+        terms.insert(0, constant)
+    if not terms:
+        return sympy.Integer(0)
+    if len(terms) == 1:
+        return terms[0]
+    return sympy.Add._from_args(tuple(terms), True)
+
+
+def _class_key(cls) -> tuple:
+    """Sort key of a class as :func:`sympy.core.basic._cmp_name` orders classes."""
+    from sympy.core.basic import ordering_of_classes
+
+    name = cls.__name__
+    if name in ordering_of_classes:
+        return (ordering_of_classes.index(name), "")
+    return (len(ordering_of_classes) + 1, name)
+
+
+def _poly_to_sympy_slow(p, gens) -> sympy.Expr:
+    terms = []
+    for exps, c in p.terms():
+        factors = [sympy.Integer(int(c))]
+        for gsym, e in zip(gens, exps):
+            if e:
+                factors.append(gsym**e)
+        terms.append(sympy.Mul(*factors))
+    return sympy.Add(*terms)

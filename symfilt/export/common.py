@@ -9,7 +9,8 @@ from itertools import combinations
 
 import sympy
 
-from symfilt.engine.polybridge import factor_ratio, smaller_than
+from symfilt.engine.polybridge import smaller_than
+from symfilt.engine.rational import factor_ratio
 
 GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "kappa", "lambda", "mu",
          "nu", "xi", "rho", "sigma", "tau", "phi", "chi", "psi", "omega"}
