@@ -143,7 +143,8 @@ def bode_data(source, values: Mapping | None = None, fmin: float | None = None, 
     """
     import numpy as np
 
-    from symfilt.analysis.stage import Analysis, numeric_cutoff
+    from symfilt.analysis.numeric import numeric_cutoff
+    from symfilt.analysis.stage import Analysis
 
     if isinstance(source, Analysis):
         loaded, ideal = source.loaded.transfer, source.ideal.transfer

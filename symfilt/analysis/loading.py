@@ -14,7 +14,9 @@ from typing import Callable, Mapping
 
 import sympy
 
-from symfilt.analysis.stage import Analysis, _finite, cutoff, numeric_cutoff, standard_form
+from symfilt.analysis.stage import Analysis
+from symfilt.analysis.forms import cutoff, standard_form
+from symfilt.analysis.numeric import finite_float, numeric_cutoff
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, S
 from symfilt.analysis.network import NetworkFunction
 
@@ -136,7 +138,7 @@ def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
         value = None
         note = ""
         if exact is not None and not (exact.free_symbols - set(values)):
-            value = _finite(exact.xreplace(values))
+            value = finite_float(exact.xreplace(values))
         else:
             others = {k: v for k, v in values.items() if k != x}
             ideal_num = analysis.numeric["ideal"].get("cutoff_hz")

@@ -34,6 +34,7 @@ from typing import Callable, Mapping, Sequence
 import sympy
 from mpmath.libmp.libhyper import NoConvergence
 
+from symfilt.analysis.numeric import batch_cutoff, finite_float, tidy
 from symfilt.analysis.stage import StageResult, analyse, numeric_values
 from symfilt.model.circuit import LOAD_C, Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
@@ -305,21 +306,6 @@ def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, str]:
     return roots, ""
 
 
-def _tidy(e):
-    e = sympy.radsimp(e) if sympy.count_ops(e) < 200 else e
-    return sympy.factor(e) if sympy.count_ops(e) < 120 else e
-
-
-def _float(e) -> float | None:
-    try:
-        v = complex(sympy.N(e, 30))
-    except (TypeError, ValueError, ZeroDivisionError):
-        return None
-    if not math.isfinite(v.real) or abs(v.imag) > 1e-9 * max(1.0, abs(v.real)):
-        return None
-    return v.real
-
-
 def _rational(v: float) -> sympy.Rational:
     return sympy.Rational(repr(float(v)))
 
@@ -357,10 +343,9 @@ def _log_roots(f: Callable[[float], float | None], lo: float, hi: float, per_dec
 
 def _numeric_cutoff_function(stage: StageResult, tie: dict, values: dict, x, goal: float):
     """f(x) = cutoff(x) / goal - 1 in Hz, the cutoff found from the coefficients of H(s) in
-    floating point (:func:`symfilt.design.spread.batch_cutoff`, numpy) - fast enough for a scan."""
+    floating point (:func:`symfilt.analysis.numeric.batch_cutoff`, numpy) - fast enough for a scan."""
     import numpy as np
 
-    from symfilt.design.spread import batch_cutoff
 
     b, d = stage.transfer.coefficients()
     lam = [sympy.lambdify(x, (c.xreplace(tie) if tie else c).xreplace(values), "math") for c in b + d]
@@ -493,7 +478,7 @@ def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str]
         exact_roots, reason = _closed_form(cond, x)
     candidates = []  # (float, exact or None)
     for r in exact_roots:
-        v = _float(r.xreplace(values))
+        v = finite_float(r, values)
         if v is not None and v > 0 and check(v):
             candidates.append((v, r))
     method = "closed form"
@@ -535,7 +520,7 @@ def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str]
     candidates.sort(key=lambda c: abs(math.log(c[0] / centre)) if centre else c[0])
     value, exact = candidates[0]
     if exact is not None:
-        exact = _tidy(exact)
+        exact = tidy(exact, radicals=True)
     neighbours = []
     for xv in series_neighbours(value, series):
         lo_v, id_v = at(a.loaded, xv), at(a.ideal, xv)

@@ -36,6 +36,7 @@ from typing import Callable, Mapping, Sequence
 
 import sympy
 
+from symfilt.analysis.numeric import batch_cutoff, log_difference
 from symfilt.analysis.stage import analyse, numeric_sensitivities
 from symfilt.model.circuit import Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
@@ -173,84 +174,6 @@ class SpreadResult:
     sensitivities: dict = field(default_factory=dict)
     samples: dict = field(default_factory=dict, compare=False, repr=False)
     notes: tuple = ()
-
-
-def _poly_mag2(coeffs):
-    """Coefficients (lowest first, in u = w^2) of |P(jw)|^2 for arrays of coefficients of P(s)."""
-    import numpy as np
-
-    even = [c * (-1) ** (k // 2) for k, c in enumerate(coeffs) if k % 2 == 0]
-    odd = [c * (-1) ** (k // 2) for k, c in enumerate(coeffs) if k % 2 == 1]
-
-    def mul(a, b):
-        out = [0.0] * (len(a) + len(b) - 1)
-        for i, x in enumerate(a):
-            for j, y in enumerate(b):
-                out[i + j] = out[i + j] + x * y
-        return out
-
-    e2 = mul(even, even) if even else [np.zeros_like(coeffs[0])]
-    o2 = [0.0] + mul(odd, odd) if odd else [0.0]
-    n = max(len(e2), len(o2))
-    return [(e2[k] if k < len(e2) else 0.0) + (o2[k] if k < len(o2) else 0.0) for k in range(n)]
-
-
-def batch_cutoff(num_coeffs, den_coeffs):
-    """-3 dB angular frequency per sample from arrays of H(s) coefficients (lowest power first).
-
-    The lowest positive root of 2 |N(jw)|^2 - |H_pass|^2 |D(jw)|^2 in u = w^2, with the
-    pass band at DC (at infinity, and then the highest root, when the DC gain is 0);
-    NaN where there is none. Roots from batched companion matrices (numpy).
-
-    Examples
-    --------
-    >>> import numpy as np
-    >>> w = batch_cutoff([np.array([1.0, 1.0])], [np.array([1.0, 2.0]), np.array([1e-3, 1e-3])])
-    >>> [round(float(v), 3) for v in w]
-    [1000.0, 2000.0]
-    """
-    import numpy as np
-
-    num = [np.atleast_1d(np.asarray(c, dtype=float)) for c in num_coeffs]
-    den = [np.atleast_1d(np.asarray(c, dtype=float)) for c in den_coeffs]
-    size = max(c.shape[0] for c in num + den)
-    num = [np.broadcast_to(c, (size,)).astype(float) for c in num]
-    den = [np.broadcast_to(c, (size,)).astype(float) for c in den]
-    highpass = bool(np.all(num[0] == 0))
-    if highpass:  # pass band at infinity: the HF gain (zero when the numerator's degree is lower)
-        pas = num[-1] / den[-1] if len(num) == len(den) else np.zeros(size)
-    else:
-        pas = num[0] / den[0]
-    n2, d2 = _poly_mag2(num), _poly_mag2(den)
-    m = max(len(n2), len(d2))
-    p = [2 * (n2[k] if k < len(n2) else 0.0) - pas**2 * (d2[k] if k < len(d2) else 0.0) for k in range(m)]
-    p = np.array([np.broadcast_to(c, (size,)) for c in p]).T  # samples x (degree + 1), lowest first
-    out = np.full(size, np.nan)
-    pending = np.ones(size, dtype=bool)
-    for deg in range(p.shape[1] - 1, 0, -1):
-        rows = np.where(pending & (p[:, deg] != 0))[0]
-        if rows.size:
-            q = p[rows, : deg + 1]
-            # scale u = sigma t so that the roots are near 1, then normalise the coefficients
-            low = np.where(q[:, 0] != 0, np.abs(q[:, 0]), 1.0)
-            sigma = (low / np.abs(q[:, deg])) ** (1.0 / deg)
-            q = q * sigma[:, None] ** np.arange(deg + 1)
-            comp = np.zeros((rows.size, deg, deg))
-            if deg > 1:
-                comp[:, 1:, :-1] = np.eye(deg - 1)
-            comp[:, :, -1] = -q[:, :deg] / q[:, deg : deg + 1]
-            roots = np.linalg.eigvals(comp)
-            real = np.abs(roots.imag) <= 1e-9 * np.maximum(1.0, np.abs(roots.real))
-            ok = real & (roots.real > 0)
-            if highpass:
-                pick = np.where(ok, roots.real, -np.inf).max(axis=1)
-            else:
-                pick = np.where(ok, roots.real, np.inf).min(axis=1)
-            out[rows] = np.where(np.isfinite(pick), np.sqrt(np.abs(pick) * sigma), np.nan)
-            pending[rows] = False
-        if not pending.any():
-            break
-    return out
 
 
 @dataclass(frozen=True)
@@ -471,13 +394,13 @@ def _difference_sensitivities(model: VectorModel, key: str, values: Mapping[str,
     for i, n in enumerate(names):
         args[n][2 * i] *= 1 + step
         args[n][2 * i + 1] *= 1 - step
-    y = np.abs(np.asarray(model.evaluate(key, args), dtype=float))
+    y = np.asarray(model.evaluate(key, args), dtype=float)
     out = {}
     for i, n in enumerate(names):
         hi, lo = y[2 * i], y[2 * i + 1]
-        out[n] = float((math.log(hi) - math.log(lo)) / (math.log1p(step) - math.log1p(-step))) if hi > 0 and lo > 0 else None
+        out[n] = log_difference(hi, lo, step)
     return out
 
 
 __all__ = ["DISTRIBUTIONS", "MAX_CORNER_PARTS", "QUANTITY_KEYS", "QuantitySpread", "SpreadResult", "VectorModel",
-           "batch_cutoff", "expand_tolerances", "parse_tolerance", "spread", "vector_model"]
+           "expand_tolerances", "parse_tolerance", "spread", "vector_model"]
