@@ -17,7 +17,8 @@ import sympy
 from scipy.optimize import brentq
 
 from symfilt.model.circuit import Circuit, Part
-from symfilt.design.sizing import SERIES, parse_target, series_neighbours, series_values, size, snap
+from symfilt.design.eseries import SERIES, series_neighbours, series_values, snap
+from symfilt.design.sizing import parse_target, size
 from symfilt.design.drive import drive
 from symfilt.errors import OutputError, UsageError
 from symfilt.export import design_report

@@ -309,10 +309,7 @@ def spread(circuit: Circuit, tolerances: Mapping[str, float], *, distribution: s
     """
     import numpy as np
 
-    if distribution not in DISTRIBUTIONS:
-        raise UsageError("--distribution", f"unknown distribution {distribution!r}", "use uniform or normal")
-    if not isinstance(runs, int) or not 100 <= runs <= MAX_RUNS:
-        raise UsageError("--runs", f"{runs!r} runs", f"give between 100 and {MAX_RUNS}")
+    _check_run(distribution, runs)
     tols = expand_tolerances(circuit, tolerances)
     if not tols:
         raise UsageError("--tol", "no part has a tolerance", "give at least one, e.g. --tol R=1%")
@@ -332,57 +329,89 @@ def spread(circuit: Circuit, tolerances: Mapping[str, float], *, distribution: s
     if unused:
         notes.append("no effect on the transfer function: " + ", ".join(unused))
     sigma = {n: tols[n] / (math.sqrt(3) if distribution == "uniform" else 3) for n in varied}
+    samples = _draw(model, values, {n: tols[n] for n in varied}, distribution, runs, rng, progress)
+    corners = _corners(values, varied, tols, notes)
+    if distribution == "normal":
+        notes.append("normal distribution, tolerance = 3 sigma; corners are at +-tol (samples may pass them)")
+    sens_used = {}
+    quantities = {}
+    for k in model.functions:
+        got = _quantity_spread(model, k, values, samples[k], (tols, sigma, varied), corners)
+        if got is None:
+            notes.append(f"{k}: not defined at these values")
+            continue
+        quantities[k], sens_used[k] = got
+    ordered = {k: quantities[k] for k in QUANTITY_KEYS if k in quantities}
+    return SpreadResult(runs, seed, distribution, tols, ordered, sens_used, samples, tuple(notes))
+
+
+def _check_run(distribution: str, runs) -> None:
+    if distribution not in DISTRIBUTIONS:
+        raise UsageError("--distribution", f"unknown distribution {distribution!r}", "use uniform or normal")
+    if not isinstance(runs, int) or not 100 <= runs <= MAX_RUNS:
+        raise UsageError("--runs", f"{runs!r} runs", f"give between 100 and {MAX_RUNS}")
+
+
+def _draw(model: VectorModel, values: dict, tols: dict, distribution: str, runs: int, rng, progress) -> dict:
+    """Monte Carlo samples of every quantity, in chunks, the toleranced parts drawn in order."""
+    import numpy as np
+
     samples = {k: np.empty(runs) for k in model.functions}
     done = 0
     while done < runs:
         m = min(_CHUNK, runs - done)
         args = dict(values)
-        for n in varied:
-            dev = rng.uniform(-tols[n], tols[n], m) if distribution == "uniform" else rng.normal(0.0, tols[n] / 3, m)
+        for n, tol in tols.items():
+            dev = rng.uniform(-tol, tol, m) if distribution == "uniform" else rng.normal(0.0, tol / 3, m)
             args[n] = values[n] * (1 + dev)
         for k in model.functions:
             samples[k][done : done + m] = np.broadcast_to(model.evaluate(k, args), (m,))
         done += m
         if progress:
             progress(done, runs)
-    corners = None
-    if len(varied) <= MAX_CORNER_PARTS:
-        signs = ((np.arange(2 ** len(varied))[:, None] >> np.arange(len(varied))) & 1) * 2 - 1
-        corners = dict(values)
-        for i, n in enumerate(varied):
-            corners[n] = values[n] * (1 + signs[:, i] * tols[n])
-    else:
+    return samples
+
+
+def _corners(values: dict, varied: list, tols: dict, notes: list) -> dict | None:
+    """Arguments for every corner of the toleranced parts (None, with a note, beyond MAX_CORNER_PARTS)."""
+    import numpy as np
+
+    if len(varied) > MAX_CORNER_PARTS:
         notes.append(f"more than {MAX_CORNER_PARTS} toleranced parts: worst case from the sensitivities only")
-    if distribution == "normal":
-        notes.append("normal distribution, tolerance = 3 sigma; corners are at +-tol (samples may pass them)")
-    sens_used = {}
-    quantities = {}
-    for k in model.functions:
-        nominal = float(model.evaluate(k, values))
-        st = _stats(np, samples[k])
-        if st is None or not math.isfinite(nominal):
-            notes.append(f"{k}: not defined at these values")
-            continue
-        mean, std, p1, p50, p99, undefined = st
-        table = model.sensitivities.get(k)
-        if not table or any(table.get(n) is None for n in varied):
-            table = _difference_sensitivities(model, k, values, varied)
-        s_row = {n: float(table.get(n, 0.0) or 0.0) for n in varied}
-        sens_used[k] = s_row
-        spread_lin = sum(abs(s_row[n]) * tols[n] for n in varied)
-        lin = sorted((nominal * (1 - spread_lin), nominal * (1 + spread_lin)))
-        std_lin = abs(nominal) * math.sqrt(sum((s_row[n] * sigma[n]) ** 2 for n in varied))
-        c_lo = c_hi = None
-        if corners is not None:
-            cv = np.asarray(model.evaluate(k, corners), dtype=float)
-            cv = cv[np.isfinite(cv)]
-            if cv.size:
-                c_lo, c_hi = float(cv.min()), float(cv.max())
-        lo, hi, method = (c_lo, c_hi, "corners") if c_lo is not None else (lin[0], lin[1], "linear")
-        quantities[k] = QuantitySpread(nominal, mean, std, p1, p50, p99, lo, hi, method, lin[0], lin[1],
-                                       c_lo, c_hi, std_lin, undefined)
-    ordered = {k: quantities[k] for k in QUANTITY_KEYS if k in quantities}
-    return SpreadResult(runs, seed, distribution, tols, ordered, sens_used, samples, tuple(notes))
+        return None
+    signs = ((np.arange(2 ** len(varied))[:, None] >> np.arange(len(varied))) & 1) * 2 - 1
+    corners = dict(values)
+    for i, n in enumerate(varied):
+        corners[n] = values[n] * (1 + signs[:, i] * tols[n])
+    return corners
+
+
+def _quantity_spread(model: VectorModel, k: str, values: dict, x, spec: tuple, corners: dict | None):
+    """(QuantitySpread, sensitivities used) of one quantity, or None when it is not defined."""
+    import numpy as np
+
+    tols, sigma, varied = spec
+    nominal = float(model.evaluate(k, values))
+    st = _stats(np, x)
+    if st is None or not math.isfinite(nominal):
+        return None
+    mean, std, p1, p50, p99, undefined = st
+    table = model.sensitivities.get(k)
+    if not table or any(table.get(n) is None for n in varied):
+        table = _difference_sensitivities(model, k, values, varied)
+    s_row = {n: float(table.get(n, 0.0) or 0.0) for n in varied}
+    spread_lin = sum(abs(s_row[n]) * tols[n] for n in varied)
+    lin = sorted((nominal * (1 - spread_lin), nominal * (1 + spread_lin)))
+    std_lin = abs(nominal) * math.sqrt(sum((s_row[n] * sigma[n]) ** 2 for n in varied))
+    c_lo = c_hi = None
+    if corners is not None:
+        cv = np.asarray(model.evaluate(k, corners), dtype=float)
+        cv = cv[np.isfinite(cv)]
+        if cv.size:
+            c_lo, c_hi = float(cv.min()), float(cv.max())
+    lo, hi, method = (c_lo, c_hi, "corners") if c_lo is not None else (lin[0], lin[1], "linear")
+    return QuantitySpread(nominal, mean, std, p1, p50, p99, lo, hi, method, lin[0], lin[1],
+                          c_lo, c_hi, std_lin, undefined), s_row
 
 
 def _difference_sensitivities(model: VectorModel, key: str, values: Mapping[str, float], names: Sequence[str],
