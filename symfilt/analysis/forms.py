@@ -17,6 +17,7 @@ import sympy
 
 from symfilt.model.circuit import S
 from symfilt.analysis.network import NetworkFunction
+from symfilt.analysis.findings import Finding, finding
 from symfilt.analysis.numeric import tidy as _tidy
 
 RESPONSE_KINDS = ("lowpass", "highpass", "bandpass", "notch", "allpass", "general")
@@ -144,19 +145,19 @@ class Cutoff:
         Band-pass: the lower and upper -3 dB edges (closed forms).
     bandwidth : sympy.Expr or None
         Band-pass: upper minus lower edge (w0/Q).
-    reason : str
-        Why there is no closed form (empty when there is one).
+    reason : Finding or None
+        Why there is no closed form (None when there is one).
 
     Examples
     --------
-    >>> Cutoff(None, reason="an all-pass has no cutoff").value is None
+    >>> Cutoff(None, reason=finding("allpass-has-no-cutoff")).value is None
     True
     """
 
     value: sympy.Expr | None
     edges: tuple | None = None
     bandwidth: sympy.Expr | None = None
-    reason: str = ""
+    reason: Finding | None = None
 
 
 def second_order_root(q):
@@ -196,9 +197,9 @@ def cutoff(form: StandardForm) -> Cutoff:
         w0, q = form.w0, form.q
         lo = w0 * (sympy.sqrt(1 + 4 * q**2) - 1) / (2 * q)
         hi = w0 * (sympy.sqrt(1 + 4 * q**2) + 1) / (2 * q)
-        return Cutoff(None, (lo, hi), _tidy(w0 / q), "a band-pass has two edges")
+        return Cutoff(None, (lo, hi), _tidy(w0 / q), finding("bandpass-has-two-edges"))
     if form.kind in ("allpass",):
-        return Cutoff(None, reason="an all-pass has no cutoff")
+        return Cutoff(None, reason=finding("allpass-has-no-cutoff"))
     if form.kind == "notch":
-        return Cutoff(None, reason="a notch is described by w0 and Q")
-    return Cutoff(None, reason=f"no closed form for a {form.kind} response of order {form.order}")
+        return Cutoff(None, reason=finding("notch-has-no-cutoff"))
+    return Cutoff(None, reason=finding("no-closed-form-cutoff", kind=form.kind, order=form.order))

@@ -16,6 +16,7 @@ import sympy
 
 from symfilt.analysis.stage import Analysis
 from symfilt.analysis.forms import cutoff, standard_form
+from symfilt.analysis.findings import Finding, finding
 from symfilt.analysis.numeric import finite_float, numeric_cutoff
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, S
 from symfilt.analysis.network import NetworkFunction
@@ -39,7 +40,8 @@ class LoadLimit:
         The bound at the circuit's values (None when it cannot be computed).
     exact : sympy.Expr or None
         Closed form of the bound, where one exists (first order).
-    note : str
+    note : Finding or None
+        Why there is no value (or what limits it), worded by :mod:`symfilt.export.findings`.
 
     Examples
     --------
@@ -52,7 +54,7 @@ class LoadLimit:
     tolerance: float
     value: float | None
     exact: sympy.Expr | None
-    note: str = ""
+    note: Finding | None = None
 
 
 def _fixture_alone(h: NetworkFunction, keep: str) -> NetworkFunction:
@@ -117,11 +119,11 @@ def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
         x = sympy.Symbol(name, positive=True)
         h = _fixture_alone(analysis.loaded.transfer, name)
         if x not in h.free_symbols():
-            out.append(LoadLimit(name, bound, tolerance, None, None, "does not change the transfer function"))
+            out.append(LoadLimit(name, bound, tolerance, None, None, finding("fixture-has-no-effect")))
             continue
         exact = _exact_bound(h, x, analysis.ideal.cutoff.value, tolerance)
         if exact is not None and not (exact.free_symbols - set(values)):
-            value, note = finite_float(exact.xreplace(values)), ""
+            value, note = finite_float(exact.xreplace(values)), None
         else:
             value, note = _scanned_bound(analysis, h, x, (bound, scan), tolerance, values)
         out.append(LoadLimit(name, bound, tolerance, value, exact, note))
@@ -146,13 +148,13 @@ def _exact_bound(h: NetworkFunction, x: sympy.Symbol, ideal_cut, tolerance: floa
 
 
 def _scanned_bound(analysis: Analysis, h: NetworkFunction, x: sympy.Symbol, where: tuple, tolerance: float,
-                   values: dict) -> tuple[float | None, str]:
+                   values: dict) -> tuple[float | None, Finding | None]:
     """(bound, note) from a quarter-decade scan and bisection in log x at the circuit's values."""
     bound, scan = where
     others = {k: v for k, v in values.items() if k != x}
     ideal_num = analysis.numeric["ideal"].get("cutoff_hz")
     if ideal_num is None or (h.free_symbols() - {S, x} - set(others)):
-        return None, "needs values for every part to compute"
+        return None, finding("needs-every-value")
     w_ideal = ideal_num * 2 * math.pi
     cutoff_of = _cutoff_function(h, x, others)
 
@@ -165,10 +167,10 @@ def _scanned_bound(analysis: Analysis, h: NetworkFunction, x: sympy.Symbol, wher
     for v in grid[::-1] if bound == "min" else grid:
         if dev(v) > 0:
             if prev is None:
-                return None, "outside the range scanned"
-            return _bisect(dev, sorted((prev, v)), bound), ""
+                return None, finding("bound-outside-scan")
+            return _bisect(dev, sorted((prev, v)), bound), None
         prev = v
-    return None, "the cutoff stays within the tolerance over the whole range scanned"
+    return None, finding("within-tolerance-over-scan")
 
 
 def _bisect(dev: Callable[[float], float], bracket: list, bound: str) -> float:

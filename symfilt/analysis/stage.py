@@ -20,6 +20,7 @@ from symfilt.analysis.network import NetworkFunction, derive
 from symfilt.analysis.sensitivity import product_sensitivities, sum_rules
 from symfilt.analysis.forms import RESPONSE_KINDS, Cutoff, StandardForm, cutoff, second_order_root, standard_form
 from symfilt.analysis.numbers import numeric_sensitivities, numeric_values, stability
+from symfilt.analysis.findings import Finding, finding
 from symfilt.analysis.numeric import numeric_cutoff, tidy as _tidy
 
 
@@ -81,7 +82,7 @@ class Analysis:
         ``{"loaded": {...}, "ideal": {...}}`` from :func:`numeric_values`.
     rules : tuple of SumRule
         Sum-rule self-checks on the loaded w0 and Q sensitivities (empty when they do not apply).
-    rules_note : str
+    rules_note : Finding or None
         Why the sum rules do not apply, when they do not.
 
     Examples
@@ -97,7 +98,7 @@ class Analysis:
     ideal: StageResult
     numeric: dict
     rules: tuple = ()
-    rules_note: str = ""
+    rules_note: Finding | None = None
 
     def ratio(self, key: str) -> float | None:
         """Loaded over ideal of a numeric quantity (``cutoff_hz``, ``dc_gain``, ``f0_hz``, ``q``).
@@ -192,15 +193,13 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
         for key, st in (("loaded", loaded), ("ideal", ideal)):
             numeric[key]["sensitivity"] = numeric_sensitivities(st, values)
     rules: tuple = ()
-    note = ""
+    note = None
     if sensitivity:
         blockers = [p.name for p in circuit.parts if p.kind == "inductor" or (p.kind == "opamp" and p.model == "single-pole")]
         if blockers:
-            one = len(blockers) == 1
-            note = (f"sum rules not checked: {', '.join(blockers)} {'has a frequency of its' if one else 'have frequencies of their'}"
-                    " own (an inductor or a single-pole op-amp)")
+            note = finding("sum-rules-own-frequency", parts=tuple(blockers))
         elif loaded.form.w0 is None:
-            note = "sum rules not checked: no w0 (not a first- or second-order standard form)"
+            note = finding("sum-rules-no-w0")
         else:
             res = [p.name for p in circuit.parts if p.kind == "resistor"] + [n for n in (SOURCE_R, LOAD_R) if n in table]
             caps = [p.name for p in circuit.parts if p.kind == "capacitor"] + [n for n in (LOAD_C,) if n in table]

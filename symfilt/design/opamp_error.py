@@ -37,6 +37,7 @@ import sympy
 
 from symfilt.analysis.forms import cutoff as cutoff_of
 from symfilt.analysis.forms import standard_form
+from symfilt.analysis.findings import finding
 from symfilt.analysis.numeric import finite_float, magnitude_squared, numeric_cutoff, tidy
 from symfilt.model.circuit import Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
@@ -71,7 +72,7 @@ class OpampError:
     numeric : dict
         ``{"dc_gain": {...}, "cutoff_hz": {...}}`` with ``ideal``, ``real``, ``error``
         (exact relative) and ``first_order`` (the first-order estimate), where values allow.
-    notes : tuple of str
+    notes : tuple of Finding
     """
 
     model: str
@@ -173,9 +174,9 @@ def opamp_error(circuit: Circuit, model: str = "gain", *, gain=None, gbw=None,
     cut_error = tidy(c_real / c_ideal - 1) if c_real is not None and c_ideal is not None else None
     if cut_error is not None and sympy.count_ops(cut_error) > _SHOWN:
         cut_error = None
-        notes.append("the exact cutoff error is too large to show: first-order terms and numbers only")
+        notes.append(finding("cutoff-error-too-large"))
     if c_real is None:
-        notes.append(f"no closed-form cutoff with {model} op-amps (order {h_real.order()}): numeric only")
+        notes.append(finding("no-closed-form-real-cutoff", model=model, order=h_real.order()))
     values = dict(real.values())
     cut_first = cut_first_num = None
     if dc_ideal not in (0, sympy.oo, sympy.zoo):
@@ -189,7 +190,7 @@ def opamp_error(circuit: Circuit, model: str = "gain", *, gain=None, gbw=None,
         if w_ideal is not None and all(sym in values for sym in eps):
             cut_first_num = _cutoff_first_order_number(f_u, f_eps, u, w_ideal, values)
     else:
-        notes.append("first-order cutoff terms need a pass band at DC")
+        notes.append(finding("first-order-needs-dc-passband"))
     numeric = _numbers((dc_ideal, dc_real, dc_first), (c_ideal, c_real, h_ideal, h_real), cut_first_num,
                        eps, values)
     return OpampError(model, dc_ideal, dc_real, dc_error, dc_first, c_ideal, c_real, cut_error, cut_first, numeric,
@@ -209,7 +210,7 @@ def _eps_symbols(opamps, model: str) -> dict:
 def _dc_terms(dc_ideal, dc_real, polys: tuple, eps: dict, notes: list) -> tuple:
     """(exact relative DC error or None, first-order coefficients by symbol name)."""
     if dc_ideal in (0, sympy.oo, sympy.zoo):
-        notes.append("the ideal DC gain is zero: no relative DC error")
+        notes.append(finding("ideal-dc-gain-zero"))
         return None, {}
     n_e, d_e = polys
     at_zero = {e: 0 for e in eps.values()}
@@ -240,7 +241,7 @@ def _cutoff_first_order(forms: tuple, implicit: tuple, c_ideal, eps: dict, notes
             c = -(f_eps[sym] / f_u).xreplace({u: u0}) / (2 * u0)
             c = tidy(c) if sympy.count_ops(c) < _BIG else c
         if sympy.count_ops(c) > _SHOWN:
-            notes.append("the first-order cutoff coefficients are too large to show: numeric only")
+            notes.append(finding("first-order-cutoff-too-large"))
             return None
         if c != 0:
             cut_first[str(sym)] = c

@@ -30,6 +30,7 @@ from typing import Callable, Mapping, Sequence
 import sympy
 from mpmath.libmp.libhyper import NoConvergence
 
+from symfilt.analysis.findings import Finding, finding
 from symfilt.analysis.numeric import batch_cutoff, finite_float, tidy
 from symfilt.analysis.stage import StageResult, analyse, numeric_values
 from symfilt.model.circuit import LOAD_C, Circuit, S
@@ -104,7 +105,7 @@ class SizeResult:
         As asked (Hz for cutoff and w0).
     exact : sympy.Expr or None
         Closed-form solution for the first varied part, in the other symbols.
-    exact_note : str
+    exact_note : Finding or None
         Why there is no closed form, when there is none.
     value : float
         The solution at the circuit's values (SI base units).
@@ -117,7 +118,7 @@ class SizeResult:
         The series values just below and just above the solution.
     present : float or None
         The loaded quantity with the circuit's present values.
-    notes : tuple of str
+    notes : tuple of Finding
     kinds : dict
         Part name -> kind (``resistor``, ``capacitor``, ``inductor``) of each varied part.
     """
@@ -127,7 +128,7 @@ class SizeResult:
     quantity: str
     target: sympy.Rational
     exact: sympy.Expr | None
-    exact_note: str
+    exact_note: Finding | None
     value: float
     solutions: tuple
     method: str
@@ -171,18 +172,18 @@ def _condition(stage: StageResult, quantity: str, target):
     return None
 
 
-def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, str]:
+def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, Finding | None]:
     """Roots in x of the numerator of ``condition``, when each factor holding x is of
     degree <= max_degree; else no roots and the reason."""
     if sympy.count_ops(condition) > 4000:
-        return [], "the equation is too large for a closed form"
+        return [], finding("equation-too-large")
     num = sympy.numer(sympy.together(condition))
     try:
         poly = sympy.Poly(sympy.expand(num), x)
     except sympy.PolynomialError:
-        return [], "the equation is not polynomial in the varied part"
+        return [], finding("equation-not-polynomial")
     if poly.degree() > 8:
-        return [], f"the equation is of degree {poly.degree()} in the varied part"
+        return [], finding("equation-degree", degree=poly.degree())
     roots = []
     y = sympy.Dummy("y", positive=True)
     for fac, _mult in sympy.factor_list(num, x)[1]:
@@ -192,10 +193,10 @@ def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, str]:
         # a polynomial in x^k only (parts scaled together): solve for y = x^k
         k = math.gcd(*[m[0] for m in p.monoms()])
         if p.degree() // k > max_degree:
-            return [], f"the equation has a factor of degree {p.degree()} in the varied part"
+            return [], finding("equation-factor-degree", degree=p.degree())
         fy = sympy.Add(*[c * y ** (m[0] // k) for m, c in zip(p.monoms(), p.coeffs())])
         roots += [r if k == 1 else sympy.root(r, k) for r in sympy.solve(fy, y)]
-    return roots, ""
+    return roots, None
 
 
 def _rational(v: float) -> sympy.Rational:
@@ -340,8 +341,8 @@ def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str]
         ierr = None if id_v is None else (id_v / float(goal) - 1) * 100
         neighbours.append(Neighbour({n: xv * ratio[n] for n, *_ in varied}, lo_v, id_v, err, ierr))
     if len(varied) > 1 and any(ratio[n] != 1 for n in ratio):
-        notes.append("the other varied parts follow the first in their ratio and may fall between series values")
-    return SizeResult(names, ratio, quantity, tval, exact, "" if exact is not None else reason, value,
+        notes.append(finding("ratio-off-series"))
+    return SizeResult(names, ratio, quantity, tval, exact, None if exact is not None else reason, value,
                       tuple(sorted(c[0] for c in candidates)), method, series.strip().upper(),
                       tuple(neighbours), present, tuple(notes), {n: k for n, _s, _v, k in varied})
 
@@ -401,7 +402,7 @@ def _signed_goal(a, at, quantity: str, tval, present, kind: str, notes: list):
         return tval
     sample = present if present is not None else at(a.loaded, _rational(_SCAN[kind][0] * 1e6))
     if sample is not None and sample * float(tval) < 0:
-        notes.append(f"the DC gain is {'negative' if sample < 0 else 'positive'}; its magnitude is sized to {abs(float(tval)):g}")
+        notes.append(finding("dc-gain-sign", negative=sample < 0, magnitude=abs(float(tval))))
         return -tval
     return tval
 
@@ -417,12 +418,12 @@ def _require_dependence(stage: StageResult, quantity: str, x, tie: dict, first_n
 
 
 def _solutions(a, quantity: str, goal, x, tie: dict, values: dict, start: tuple, check: Callable,
-               notes: list) -> tuple[list, str, str]:
+               notes: list) -> tuple[list, str, Finding | None]:
     """(candidates as (float, exact or None), method, reason there is no closed form)."""
-    exact_roots, reason = [], ""
+    exact_roots, reason = [], None
     cond = _condition(a.loaded, quantity, goal)
     if cond is None:
-        reason = f"no closed form of the loaded {quantity}"
+        reason = finding("no-closed-form-quantity", quantity=quantity)
     else:
         cond = cond.xreplace(tie) if tie else cond
         exact_roots, reason = _closed_form(cond, x)
@@ -434,7 +435,7 @@ def _solutions(a, quantity: str, goal, x, tie: dict, values: dict, start: tuple,
     if candidates:
         return candidates, "closed form", reason
     if cond is not None and not reason:
-        reason = "the closed-form roots do not meet the target at these values"
+        reason = finding("closed-form-roots-miss")
     g = _target_function(a, quantity, goal, x, tie, values)
     return _numeric_candidates(g, start, check, notes), "numeric root", reason
 
@@ -474,7 +475,7 @@ def _numeric_candidates(g: Callable, start: tuple, check: Callable, notes: list)
     candidates = [(v, None) for v in roots if check(v)]
     if roots and not candidates:
         candidates = [(v, None) for v in roots]
-        notes.append("the numeric root could not be confirmed with the exact transfer function")
+        notes.append(finding("numeric-root-unconfirmed"))
     return candidates
 
 

@@ -36,6 +36,7 @@ from typing import Callable, Mapping, Sequence
 
 import sympy
 
+from symfilt.analysis.findings import finding
 from symfilt.analysis.numeric import batch_cutoff, log_difference
 from symfilt.analysis.stage import analyse, numeric_sensitivities
 from symfilt.model.circuit import Circuit, S
@@ -163,7 +164,7 @@ class SpreadResult:
         Key -> symbol name -> S used for the linear estimates.
     samples : dict
         Key -> numpy array of the Monte Carlo values (for histograms).
-    notes : tuple of str
+    notes : tuple of Finding
     """
 
     runs: int
@@ -327,18 +328,18 @@ def spread(circuit: Circuit, tolerances: Mapping[str, float], *, distribution: s
     notes = []
     unused = sorted(set(tols) - set(varied))
     if unused:
-        notes.append("no effect on the transfer function: " + ", ".join(unused))
+        notes.append(finding("tolerance-no-effect", names=tuple(unused)))
     sigma = {n: tols[n] / (math.sqrt(3) if distribution == "uniform" else 3) for n in varied}
     samples = _draw(model, values, {n: tols[n] for n in varied}, distribution, runs, rng, progress)
     corners = _corners(values, varied, tols, notes)
     if distribution == "normal":
-        notes.append("normal distribution, tolerance = 3 sigma; corners are at +-tol (samples may pass them)")
+        notes.append(finding("normal-corners"))
     sens_used = {}
     quantities = {}
     for k in model.functions:
         got = _quantity_spread(model, k, values, samples[k], (tols, sigma, varied), corners)
         if got is None:
-            notes.append(f"{k}: not defined at these values")
+            notes.append(finding("quantity-undefined", quantity=k))
             continue
         quantities[k], sens_used[k] = got
     ordered = {k: quantities[k] for k in QUANTITY_KEYS if k in quantities}
@@ -377,7 +378,7 @@ def _corners(values: dict, varied: list, tols: dict, notes: list) -> dict | None
     import numpy as np
 
     if len(varied) > MAX_CORNER_PARTS:
-        notes.append(f"more than {MAX_CORNER_PARTS} toleranced parts: worst case from the sensitivities only")
+        notes.append(finding("too-many-corners", limit=MAX_CORNER_PARTS))
         return None
     signs = ((np.arange(2 ** len(varied))[:, None] >> np.arange(len(varied))) & 1) * 2 - 1
     corners = dict(values)
