@@ -9,7 +9,8 @@ Examples
 """
 
 from symfilt.model import catalogue
-from symfilt.analysis.stage import Analysis, StandardForm, analyse, standard_form, substitute
+from symfilt.analysis.forms import StandardForm, standard_form
+from symfilt.analysis.stage import Analysis, analyse, substitute
 from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.model.circuit import Circuit, Fixture, Part
 from symfilt.claims.judge import Equivalence, assert_equivalent, equivalent, parse_claim

@@ -150,12 +150,13 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     shown = put_values(a) if substitute else a
     if fmt == "json":
         from symfilt.export import json as jx
+        from symfilt.export.findings import describe
 
         extra = {}
         if limits is not None:
             extra["load_limit"] = [{"fixture": x.fixture, "bound": x.bound, "tolerance": x.tolerance,
                                     "value": x.value, "exact": None if x.exact is None else str(x.exact),
-                                    "note": x.note or None} for x in limits]
+                                    "note": describe(x.note) or None} for x in limits]
         if opamp_section is not None:
             extra["opamp_error"] = opamp_section
         data = jx.analysis_dict(shown, extra)

@@ -25,7 +25,8 @@ from scipy import signal
 from scipy.optimize import brentq
 
 from symfilt import catalogue
-from symfilt.analysis.stage import StandardForm, analyse, cutoff, second_order_root, standard_form
+from symfilt.analysis.forms import StandardForm, cutoff, second_order_root, standard_form
+from symfilt.analysis.stage import analyse
 from symfilt.analysis.loading import load_limits
 from symfilt.model.circuit import Circuit, Part
 from symfilt.cli import cli

@@ -17,12 +17,14 @@ import sympy
 from scipy.optimize import brentq
 
 from symfilt.model.circuit import Circuit, Part
-from symfilt.design.sizing import SERIES, parse_target, series_neighbours, series_values, size, snap
+from symfilt.design.eseries import SERIES, series_neighbours, series_values, snap
+from symfilt.design.sizing import parse_target, size
 from symfilt.design.drive import drive
 from symfilt.errors import OutputError, UsageError
 from symfilt.export import design_report
 from symfilt.design.opamp_error import opamp_error
-from symfilt.design.spread import batch_cutoff, parse_tolerance, spread, vector_model
+from symfilt.analysis.numeric import batch_cutoff
+from symfilt.design.spread import parse_tolerance, spread, vector_model
 
 R1, R2, C1, C2, R_s, R_L = sympy.symbols("R1 R2 C1 C2 R_s R_L", positive=True)
 A_U1 = sympy.Symbol("A_U1", positive=True)

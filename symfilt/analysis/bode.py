@@ -143,26 +143,39 @@ def bode_data(source, values: Mapping | None = None, fmin: float | None = None, 
     """
     import numpy as np
 
-    from symfilt.analysis.stage import Analysis, numeric_cutoff
-
-    if isinstance(source, Analysis):
-        loaded, ideal = source.loaded.transfer, source.ideal.transfer
-        vals = dict(source.circuit.values()) if values is None else dict(values)
-        marks = {"loaded": _marks_of(source.numeric.get("loaded", {})),
-                 "ideal": _marks_of(source.numeric.get("ideal", {}))}
-        title = source.circuit.title
-    else:
-        loaded, ideal = source, source.ideal()
-        vals = dict(values or {})
-        marks = {}
-        for key, h in (("loaded", loaded), ("ideal", ideal)):
-            w = numeric_cutoff(h, vals) if not missing_values(h, vals) else None
-            marks[key] = {} if w is None else {"cutoff": w / (2 * math.pi)}
-        title = ""
+    loaded, ideal, vals, marks, title = _sweep_inputs(source, values)
     missing = missing_values(loaded, vals)
     if missing:
         raise UsageError("bode", "no value for " + ", ".join(missing),
                          "give every part, source and load a value to plot the response")
+    n = _point_count(points)
+    lo, hi = _sweep_range(marks, fmin, fmax)
+    f = np.geomspace(lo, hi, n)
+    l_db, l_ph = _response(loaded, vals, f)
+    i_db, i_ph = _response(ideal, vals, f)
+    return BodeData(f, l_db, l_ph, i_db, i_ph, marks, title)
+
+
+def _sweep_inputs(source, values: Mapping | None) -> tuple:
+    """(loaded, ideal, values, marks, title) of an analysis or of a loaded transfer function."""
+    from symfilt.analysis.numeric import numeric_cutoff
+    from symfilt.analysis.stage import Analysis
+
+    if isinstance(source, Analysis):
+        vals = dict(source.circuit.values()) if values is None else dict(values)
+        marks = {"loaded": _marks_of(source.numeric.get("loaded", {})),
+                 "ideal": _marks_of(source.numeric.get("ideal", {}))}
+        return source.loaded.transfer, source.ideal.transfer, vals, marks, source.circuit.title
+    loaded, ideal = source, source.ideal()
+    vals = dict(values or {})
+    marks = {}
+    for key, h in (("loaded", loaded), ("ideal", ideal)):
+        w = numeric_cutoff(h, vals) if not missing_values(h, vals) else None
+        marks[key] = {} if w is None else {"cutoff": w / (2 * math.pi)}
+    return loaded, ideal, vals, marks, ""
+
+
+def _point_count(points) -> int:
     try:
         n = int(points)
     except (TypeError, ValueError):
@@ -170,16 +183,18 @@ def bode_data(source, values: Mapping | None = None, fmin: float | None = None, 
                          f"give {MIN_POINTS} to {MAX_POINTS} points") from None
     if not MIN_POINTS <= n <= MAX_POINTS:
         raise UsageError("bode points", f"{n} points", f"give {MIN_POINTS} to {MAX_POINTS} points")
+    return n
+
+
+def _sweep_range(marks: dict, fmin, fmax) -> tuple[float, float]:
+    """The sweep range in Hz: as given, else around the marks (kept below fmax / above fmin)."""
     lo, hi = default_range(marks)
     lo = float(fmin) if fmin is not None else (lo if fmax is None or lo < float(fmax) else float(fmax) / 1e4)
     hi = float(fmax) if fmax is not None else (hi if hi > lo else lo * 1e4)
     if not (math.isfinite(lo) and math.isfinite(hi) and 0 < lo < hi):
         raise UsageError("bode range", f"fmin {lo:g} Hz and fmax {hi:g} Hz",
                          "give 0 < fmin < fmax in Hz")
-    f = np.geomspace(lo, hi, n)
-    l_db, l_ph = _response(loaded, vals, f)
-    i_db, i_ph = _response(ideal, vals, f)
-    return BodeData(f, l_db, l_ph, i_db, i_ph, marks, title)
+    return lo, hi
 
 
 def csv_text(data: BodeData) -> str:

@@ -14,7 +14,10 @@ from typing import Callable, Mapping
 
 import sympy
 
-from symfilt.analysis.stage import Analysis, _finite, cutoff, numeric_cutoff, standard_form
+from symfilt.analysis.stage import Analysis
+from symfilt.analysis.forms import cutoff, standard_form
+from symfilt.analysis.findings import Finding, finding
+from symfilt.analysis.numeric import finite_float, numeric_cutoff
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, S
 from symfilt.analysis.network import NetworkFunction
 
@@ -37,7 +40,8 @@ class LoadLimit:
         The bound at the circuit's values (None when it cannot be computed).
     exact : sympy.Expr or None
         Closed form of the bound, where one exists (first order).
-    note : str
+    note : Finding or None
+        Why there is no value (or what limits it), worded by :mod:`symfilt.export.findings`.
 
     Examples
     --------
@@ -50,7 +54,7 @@ class LoadLimit:
     tolerance: float
     value: float | None
     exact: sympy.Expr | None
-    note: str = ""
+    note: Finding | None = None
 
 
 def _fixture_alone(h: NetworkFunction, keep: str) -> NetworkFunction:
@@ -107,69 +111,76 @@ def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
     c = analysis.circuit
     values = dict(c.values())
     out = []
-    h_loaded = analysis.loaded.transfer
-    ideal_cut = analysis.ideal.cutoff.value
     for name, bound, present, scan in ((SOURCE_R, "max", c.source.present, (-3, 9)),
                                        (LOAD_R, "min", c.load_resistance.present, (-3, 12)),
                                        (LOAD_C, "max", c.load_capacitance.present, (-18, -1))):
         if not present:
             continue
         x = sympy.Symbol(name, positive=True)
-        h = _fixture_alone(h_loaded, name)
+        h = _fixture_alone(analysis.loaded.transfer, name)
         if x not in h.free_symbols():
-            out.append(LoadLimit(name, bound, tolerance, None, None, "does not change the transfer function"))
+            out.append(LoadLimit(name, bound, tolerance, None, None, finding("fixture-has-no-effect")))
             continue
-        exact = None
-        form = standard_form(h)
-        if form.order == 1 and form.w0 is not None and ideal_cut is not None:
-            ratio = sympy.cancel(form.w0 / ideal_cut)
-            tol = sympy.nsimplify(tolerance)
-            sols = []
-            for target in (1 + tol, 1 - tol):
-                try:
-                    sols += [r for r in sympy.solve(sympy.Eq(ratio, target), x) if r.is_positive is not False]
-                except NotImplementedError:
-                    sols = []
-            sols = [sympy.factor(r) for r in sols if not r.has(sympy.I)]
-            if len(sols) == 1:
-                exact = sols[0]
-        value = None
-        note = ""
+        exact = _exact_bound(h, x, analysis.ideal.cutoff.value, tolerance)
         if exact is not None and not (exact.free_symbols - set(values)):
-            value = _finite(exact.xreplace(values))
+            value, note = finite_float(exact.xreplace(values)), None
         else:
-            others = {k: v for k, v in values.items() if k != x}
-            ideal_num = analysis.numeric["ideal"].get("cutoff_hz")
-            if ideal_num is None or (h.free_symbols() - {S, x} - set(others)):
-                note = "needs values for every part to compute"
-            else:
-                w_ideal = ideal_num * 2 * math.pi
-                cutoff_of = _cutoff_function(h, x, others)
-
-                def dev(v: float) -> float:
-                    w = cutoff_of(v)
-                    return math.inf if w is None else abs(w / w_ideal - 1) - tolerance
-
-                grid = [10.0 ** (k / 4) for k in range(scan[0] * 4, scan[1] * 4 + 1)]
-                order = grid[::-1] if bound == "min" else grid
-                prev = None
-                for v in order:
-                    if dev(v) > 0:
-                        if prev is None:
-                            note = "outside the range scanned"
-                        else:
-                            lo, hi = sorted((prev, v))
-                            for _ in range(60):
-                                mid = math.sqrt(lo * hi)
-                                inside = dev(mid) <= 0
-                                if (bound == "min") == inside:
-                                    hi = mid
-                                else:
-                                    lo = mid
-                            value = math.sqrt(lo * hi)
-                        break
-                    prev = v
-                else:
-                    note = "the cutoff stays within the tolerance over the whole range scanned"
+            value, note = _scanned_bound(analysis, h, x, (bound, scan), tolerance, values)
         out.append(LoadLimit(name, bound, tolerance, value, exact, note))
     return out
+
+
+def _exact_bound(h: NetworkFunction, x: sympy.Symbol, ideal_cut, tolerance: float):
+    """The closed-form bound of a first-order stage (the one positive solution of ratio = 1 +- tol), or None."""
+    form = standard_form(h)
+    if not (form.order == 1 and form.w0 is not None and ideal_cut is not None):
+        return None
+    ratio = sympy.cancel(form.w0 / ideal_cut)
+    tol = sympy.nsimplify(tolerance)
+    sols = []
+    for target in (1 + tol, 1 - tol):
+        try:
+            sols += [r for r in sympy.solve(sympy.Eq(ratio, target), x) if r.is_positive is not False]
+        except NotImplementedError:
+            sols = []
+    sols = [sympy.factor(r) for r in sols if not r.has(sympy.I)]
+    return sols[0] if len(sols) == 1 else None
+
+
+def _scanned_bound(analysis: Analysis, h: NetworkFunction, x: sympy.Symbol, where: tuple, tolerance: float,
+                   values: dict) -> tuple[float | None, Finding | None]:
+    """(bound, note) from a quarter-decade scan and bisection in log x at the circuit's values."""
+    bound, scan = where
+    others = {k: v for k, v in values.items() if k != x}
+    ideal_num = analysis.numeric["ideal"].get("cutoff_hz")
+    if ideal_num is None or (h.free_symbols() - {S, x} - set(others)):
+        return None, finding("needs-every-value")
+    w_ideal = ideal_num * 2 * math.pi
+    cutoff_of = _cutoff_function(h, x, others)
+
+    def dev(v: float) -> float:
+        w = cutoff_of(v)
+        return math.inf if w is None else abs(w / w_ideal - 1) - tolerance
+
+    grid = [10.0 ** (k / 4) for k in range(scan[0] * 4, scan[1] * 4 + 1)]
+    prev = None
+    for v in grid[::-1] if bound == "min" else grid:
+        if dev(v) > 0:
+            if prev is None:
+                return None, finding("bound-outside-scan")
+            return _bisect(dev, sorted((prev, v)), bound), None
+        prev = v
+    return None, finding("within-tolerance-over-scan")
+
+
+def _bisect(dev: Callable[[float], float], bracket: list, bound: str) -> float:
+    """The edge of dev <= 0 within the bracket, by 60 bisections in log x."""
+    lo, hi = bracket
+    for _ in range(60):
+        mid = math.sqrt(lo * hi)
+        inside = dev(mid) <= 0
+        if (bound == "min") == inside:
+            hi = mid
+        else:
+            lo = mid
+    return math.sqrt(lo * hi)

@@ -171,22 +171,3 @@ def sum_rules(sens: Mapping[str, Mapping[str, sympy.Expr] | None], resistors, ca
             holds = sympy.cancel(total - expected) == 0
             out.append(SumRule(quantity, group, expected, total, bool(holds)))
     return tuple(out)
-
-
-def numeric_sensitivity(f, x0: float, rel_step: float = 1e-6) -> float | None:
-    """Normalized sensitivity of a numeric function at x0 by a central difference in log x.
-
-    Used where a quantity has no closed form (cutoff beyond second order).
-
-    Examples
-    --------
-    >>> round(numeric_sensitivity(lambda x: 1 / x**2, 3.0), 6)
-    -2.0
-    """
-    import math
-
-    lo, hi = f(x0 * (1 - rel_step)), f(x0 * (1 + rel_step))
-    mid = f(x0)
-    if lo is None or hi is None or mid in (None, 0):
-        return None
-    return (math.log(abs(hi)) - math.log(abs(lo))) / (math.log1p(rel_step) - math.log1p(-rel_step))

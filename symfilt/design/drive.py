@@ -179,77 +179,97 @@ def drive(circuit: Circuit, amplitude, frequency, *, max_terms: int = DEFAULT_MA
     >>> round(d.vout_peak_v, 6), round(d.iout_peak_a * 1e3, 6), d.iout_exceeded
     (2.2, 1.2, True)
     """
+    amp, freq = _read_signal(amplitude, frequency)
+    opamps = [p for p in circuit.parts if p.kind == "opamp"]
+    if not opamps:
+        raise UsageError("drive", "the circuit has no op-amp", "add one, or use derive to see the passive stage")
+    probe = _Probe(circuit, circuit.values(), 2j * math.pi * freq, max_terms)
+    return DriveResult(amp, freq, tuple(_opamp_drive(probe, op, amp, freq) for op in opamps))
+
+
+def _read_signal(amplitude, frequency) -> tuple[float, float]:
     amp = float(parse_value(amplitude, where="--amplitude"))
     freq = float(parse_value(frequency, where="--frequency"))
     if amp <= 0:
         raise UsageError("--amplitude", f"{amp:g} V is not a positive peak amplitude", "give the peak volts, e.g. 1")
     if freq < 0:
         raise UsageError("--frequency", f"{freq:g} Hz is negative", "give a frequency of 0 Hz or more")
-    opamps = [p for p in circuit.parts if p.kind == "opamp"]
-    if not opamps:
-        raise UsageError("drive", "the circuit has no op-amp", "add one, or use derive to see the passive stage")
-    values = circuit.values()
-    s_value = 2j * math.pi * freq
-    transfers: dict[str, NetworkFunction] = {}
+    return amp, freq
 
-    def transfer(unknown: str) -> NetworkFunction:
-        if unknown not in transfers:
-            h = node_transfer(circuit, unknown, max_terms=max_terms)
-            missing = sorted(str(x) for x in h.free_symbols() - {S} if x not in values)
+
+class _Probe:
+    """Node voltages and admittances of a circuit at one complex frequency (transfers derived once each)."""
+
+    def __init__(self, circuit: Circuit, values: Mapping, s_value: complex, max_terms: int):
+        self.circuit, self.values, self.s_value, self.max_terms = circuit, values, s_value, max_terms
+        self.transfers: dict[str, NetworkFunction] = {}
+
+    def transfer(self, unknown: str) -> NetworkFunction:
+        if unknown not in self.transfers:
+            h = node_transfer(self.circuit, unknown, max_terms=self.max_terms)
+            missing = sorted(str(x) for x in h.free_symbols() - {S} if x not in self.values)
             if missing:
                 raise UsageError("drive", "no value for " + ", ".join(missing), "give every part a value")
-            transfers[unknown] = h
-        return transfers[unknown]
+            self.transfers[unknown] = h
+        return self.transfers[unknown]
 
-    def voltage(node: str) -> complex:
-        return 0j if node == GROUND else _at(transfer(node), values, s_value)
+    def at(self, unknown: str) -> complex:
+        return _at(self.transfer(unknown), self.values, self.s_value)
 
-    def admittance(kind: str, value, name: str) -> complex:
+    def voltage(self, node: str) -> complex:
+        return 0j if node == GROUND else self.at(node)
+
+    def admittance(self, kind: str, value, name: str) -> complex:
         v = float(value)
         if kind == "resistor":
             return 1 / v
         if kind == "capacitor":
-            return s_value * v
-        if s_value == 0:
+            return self.s_value * v
+        if self.s_value == 0:
             raise UsageError("--frequency", f"at 0 Hz the inductor {name} at an op-amp output is a short",
                              "give a frequency above 0 Hz")
-        return 1 / (s_value * v)
+        return 1 / (self.s_value * v)
 
-    out = []
-    for op in opamps:
-        node = op.nodes[2]
-        v_out = voltage(node)
-        items = [(p.name, p.kind, values.get(p.symbol), p.nodes[1] if p.nodes[0] == node else p.nodes[0])
-                 for p in circuit.parts if p.kind in ("resistor", "capacitor", "inductor") and node in p.nodes]
-        if node == circuit.output:
-            if circuit.load_resistance.present:
-                items.append((LOAD_R, "resistor", circuit.load_resistance.value, GROUND))
-            if circuit.load_capacitance.present:
-                items.append((LOAD_C, "capacitor", circuit.load_capacitance.value, GROUND))
-        if node == circuit.input and circuit.source.present:
-            items.append((SOURCE_R, "resistor", circuit.source.value, "source"))
-        branches = []
-        total_parts = 0j
-        for name, kind, value, other in items:
-            if value is None:
-                raise UsageError("drive", f"no value for {name}", f"give {name} a value")
-            v_other = 1.0 if other == "source" else voltage(other)
-            i = (v_out - v_other) * admittance(kind, value, name)
-            total_parts += i
-            branches.append(BranchCurrent(name, other, abs(i) * amp))
-        # the op-amp's branch current flows from the node into its output: the current it delivers is minus that
-        i_total = -_at(transfer(f"I({op.name})"), values, s_value)
-        other_peak = abs(i_total - total_parts) * amp
-        if other_peak <= 1e-9 * abs(i_total) * amp:
-            other_peak = 0.0
-        ipk, vpk = abs(i_total) * amp, abs(v_out) * amp
-        slew = 2 * math.pi * freq * vpk / 1e6
-        imax = None if op.iout_max is None else float(op.iout_max)
-        smax = None if op.slew is None else float(op.slew)
-        out.append(OpampDrive(op.name, node, vpk, ipk, slew, tuple(branches), other_peak, imax, smax,
-                              None if imax is None else ipk > imax, None if smax is None else slew > smax,
-                              transfer(node) if node != GROUND else None))
-    return DriveResult(amp, freq, tuple(out))
+
+def _output_items(circuit: Circuit, node: str, values: Mapping) -> list[tuple]:
+    """(name, kind, value, other node) of every part and fixture at an op-amp's output node."""
+    items = [(p.name, p.kind, values.get(p.symbol), p.nodes[1] if p.nodes[0] == node else p.nodes[0])
+             for p in circuit.parts if p.kind in ("resistor", "capacitor", "inductor") and node in p.nodes]
+    if node == circuit.output:
+        if circuit.load_resistance.present:
+            items.append((LOAD_R, "resistor", circuit.load_resistance.value, GROUND))
+        if circuit.load_capacitance.present:
+            items.append((LOAD_C, "capacitor", circuit.load_capacitance.value, GROUND))
+    if node == circuit.input and circuit.source.present:
+        items.append((SOURCE_R, "resistor", circuit.source.value, "source"))
+    return items
+
+
+def _opamp_drive(probe: _Probe, op, amp: float, freq: float) -> OpampDrive:
+    """The drive of one op-amp: branch currents, their total against the MNA current, slew rate."""
+    node = op.nodes[2]
+    v_out = probe.voltage(node)
+    branches = []
+    total_parts = 0j
+    for name, kind, value, other in _output_items(probe.circuit, node, probe.values):
+        if value is None:
+            raise UsageError("drive", f"no value for {name}", f"give {name} a value")
+        v_other = 1.0 if other == "source" else probe.voltage(other)
+        i = (v_out - v_other) * probe.admittance(kind, value, name)
+        total_parts += i
+        branches.append(BranchCurrent(name, other, abs(i) * amp))
+    # the op-amp's branch current flows from the node into its output: the current it delivers is minus that
+    i_total = -probe.at(f"I({op.name})")
+    other_peak = abs(i_total - total_parts) * amp
+    if other_peak <= 1e-9 * abs(i_total) * amp:
+        other_peak = 0.0
+    ipk, vpk = abs(i_total) * amp, abs(v_out) * amp
+    slew = 2 * math.pi * freq * vpk / 1e6
+    imax = None if op.iout_max is None else float(op.iout_max)
+    smax = None if op.slew is None else float(op.slew)
+    return OpampDrive(op.name, node, vpk, ipk, slew, tuple(branches), other_peak, imax, smax,
+                      None if imax is None else ipk > imax, None if smax is None else slew > smax,
+                      probe.transfer(node) if node != GROUND else None)
 
 
 __all__ = ["BranchCurrent", "DriveResult", "OpampDrive", "drive", "node_transfer"]

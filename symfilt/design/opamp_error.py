@@ -35,8 +35,10 @@ from dataclasses import dataclass, field
 
 import sympy
 
-from symfilt.analysis.stage import cutoff as cutoff_of
-from symfilt.analysis.stage import numeric_cutoff, standard_form
+from symfilt.analysis.forms import cutoff as cutoff_of
+from symfilt.analysis.forms import standard_form
+from symfilt.analysis.findings import finding
+from symfilt.analysis.numeric import finite_float, magnitude_squared, numeric_cutoff, tidy
 from symfilt.model.circuit import Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.errors import UsageError
@@ -70,7 +72,7 @@ class OpampError:
     numeric : dict
         ``{"dc_gain": {...}, "cutoff_hz": {...}}`` with ``ideal``, ``real``, ``error``
         (exact relative) and ``first_order`` (the first-order estimate), where values allow.
-    notes : tuple of str
+    notes : tuple of Finding
     """
 
     model: str
@@ -86,28 +88,6 @@ class OpampError:
     notes: tuple = ()
 
 
-def _tidy(e):
-    if e is None:
-        return None
-    if sympy.count_ops(e) > _BIG:
-        return e
-    e = sympy.cancel(sympy.together(e))
-    return sympy.factor(e) if sympy.count_ops(e) < 120 else e
-
-
-def _num(e, values) -> float | None:
-    if e is None:
-        return None
-    e = sympy.sympify(e).xreplace(values)
-    if e.free_symbols:
-        return None
-    try:
-        v = complex(sympy.N(e, 30))
-    except (TypeError, ValueError, ZeroDivisionError):
-        return None
-    return v.real if math.isfinite(v.real) and abs(v.imag) <= 1e-12 * max(1.0, abs(v.real)) else None
-
-
 def _eps_polys(h: NetworkFunction, eps: dict):
     """Numerator and denominator of h with each symbol X of ``eps`` replaced by 1/e_X,
     both multiplied by e_X^k so that they stay polynomials in e_X."""
@@ -121,10 +101,9 @@ def _eps_polys(h: NetworkFunction, eps: dict):
 
 def _mag2(p, w2):
     """|p(jw)|^2 as a polynomial in w2 = w^2, for p a polynomial in s."""
-    poly = sympy.Poly(p, S)
-    even = sum((c * (-1) ** (k // 2) * w2 ** (k // 2) for (k,), c in poly.terms() if k % 2 == 0), sympy.Integer(0))
-    odd = sum((c * (-1) ** (k // 2) * w2 ** (k // 2) for (k,), c in poly.terms() if k % 2 == 1), sympy.Integer(0))
-    return sympy.expand(even**2 + w2 * odd**2)
+    coeffs = sympy.Poly(p, S).all_coeffs()[::-1]
+    mag = magnitude_squared(coeffs, zero=sympy.Integer(0))
+    return sympy.expand(sum((c * w2**k for k, c in enumerate(mag)), sympy.Integer(0)))
 
 
 def _second_order_coefficient(f_real, f_ideal, sym, e):
@@ -141,7 +120,7 @@ def _second_order_coefficient(f_real, f_ideal, sym, e):
     x = 1 - 1 / (2 * q2)
     g = 1 / (2 * q2 * sympy.sqrt(sympy.factor(sympy.cancel(x**2 + 1))))
     sign = 1 if f_ideal.kind == "lowpass" else -1
-    return _tidy(a) + sign * _tidy(b) * g if b != 0 else _tidy(a)
+    return tidy(a) + sign * tidy(b) * g if b != 0 else tidy(a)
 
 
 def opamp_error(circuit: Circuit, model: str = "gain", *, gain=None, gbw=None,
@@ -181,97 +160,126 @@ def opamp_error(circuit: Circuit, model: str = "gain", *, gain=None, gbw=None,
     h_real = derive(real, max_terms=max_terms)
     h_ideal = derive(ideal, max_terms=max_terms)
     notes: list[str] = []
-    eps = {}
-    for p in opamps:
-        eps[sympy.Symbol(f"A_{p.name}", positive=True)] = sympy.Symbol(f"eps_A_{p.name}", positive=True)
-        if model == "single-pole":
-            eps[sympy.Symbol(f"GBW_{p.name}", positive=True)] = sympy.Symbol(f"eps_GBW_{p.name}", positive=True)
+    eps = _eps_symbols(opamps, model)
     at_zero = {e: 0 for e in eps.values()}
     n_e, d_e = _eps_polys(h_real, eps)
     n0, d0 = n_e.xreplace(at_zero), d_e.xreplace(at_zero)
     if d0 == 0 or sympy.expand(n0 * h_ideal.den - d0 * h_ideal.num) != 0:
         raise UsageError("opamp error", "the circuit does not tend to its ideal-op-amp form as A grows",
                          "check every op-amp has negative feedback")
-
     dc_ideal, dc_real = h_ideal.dc_gain(), h_real.dc_gain()
-    dc_error = None
-    dc_first: dict = {}
-    if dc_ideal not in (0, sympy.oo, sympy.zoo):
-        dc_error = _tidy(dc_real / dc_ideal - 1)
-        ndc, ddc = n_e.xreplace({S: 0}), d_e.xreplace({S: 0})
-        for sym, e in eps.items():
-            # d/de (n/d) at e = 0 = (n' d - n d') / d^2
-            dn, dd = sympy.diff(ndc, e).xreplace(at_zero), sympy.diff(ddc, e).xreplace(at_zero)
-            n00, d00 = ndc.xreplace(at_zero), ddc.xreplace(at_zero)
-            c = _tidy((dn * d00 - n00 * dd) / d00**2 / dc_ideal)
-            if c != 0:
-                dc_first[str(sym)] = c
-    else:
-        notes.append("the ideal DC gain is zero: no relative DC error")
-
+    dc_error, dc_first = _dc_terms(dc_ideal, dc_real, (n_e, d_e), eps, notes)
     f_real, f_ideal = standard_form(h_real), standard_form(h_ideal)
     c_real, c_ideal = cutoff_of(f_real).value, cutoff_of(f_ideal).value
-    cut_error = _tidy(c_real / c_ideal - 1) if c_real is not None and c_ideal is not None else None
+    cut_error = tidy(c_real / c_ideal - 1) if c_real is not None and c_ideal is not None else None
     if cut_error is not None and sympy.count_ops(cut_error) > _SHOWN:
         cut_error = None
-        notes.append("the exact cutoff error is too large to show: first-order terms and numbers only")
+        notes.append(finding("cutoff-error-too-large"))
     if c_real is None:
-        notes.append(f"no closed-form cutoff with {model} op-amps (order {h_real.order()}): numeric only")
-
+        notes.append(finding("no-closed-form-real-cutoff", model=model, order=h_real.order()))
     values = dict(real.values())
-    cut_first = None
-    u = sympy.Symbol("u", positive=True)
+    cut_first = cut_first_num = None
     if dc_ideal not in (0, sympy.oo, sympy.zoo):
+        u = sympy.Symbol("u", positive=True)
         big_f = 2 * _mag2(n_e, u) * d_e.xreplace({S: 0}) ** 2 - n_e.xreplace({S: 0}) ** 2 * _mag2(d_e, u)
         f_u = sympy.diff(big_f, u).xreplace(at_zero)
         f_eps = {sym: sympy.diff(big_f, e).xreplace(at_zero) for sym, e in eps.items()}
         if c_ideal is not None:
-            u0 = c_ideal**2
-            cut_first = {}
-            second = f_real.order == f_ideal.order == 2 and f_real.kind == f_ideal.kind in ("lowpass", "highpass")
-            for sym, e in eps.items():
-                if second:
-                    c = _second_order_coefficient(f_real, f_ideal, sym, e)
-                else:
-                    c = -(f_eps[sym] / f_u).xreplace({u: u0}) / (2 * u0)
-                    c = _tidy(c) if sympy.count_ops(c) < _BIG else c
-                if sympy.count_ops(c) > _SHOWN:
-                    cut_first = None
-                    notes.append("the first-order cutoff coefficients are too large to show: numeric only")
-                    break
-                if c != 0:
-                    cut_first[str(sym)] = c
-        cut_first_num = None
-        w_ideal = _num(c_ideal, values) if c_ideal is not None else numeric_cutoff(h_ideal, values)
+            cut_first = _cutoff_first_order((f_real, f_ideal), (f_u, f_eps, u), c_ideal, eps, notes)
+        w_ideal = finite_float(c_ideal, values) if c_ideal is not None else numeric_cutoff(h_ideal, values)
         if w_ideal is not None and all(sym in values for sym in eps):
-            u0n = w_ideal**2
-            fu = _num(f_u.xreplace({u: sympy.Float(u0n, 30)}), values)
-            if fu not in (None, 0):
-                cut_first_num = 0.0
-                for sym, fe in f_eps.items():
-                    fen = _num(fe.xreplace({u: sympy.Float(u0n, 30)}), values)
-                    if fen is None:
-                        cut_first_num = None
-                        break
-                    cut_first_num += -fen / fu / (2 * u0n) / float(values[sym])
+            cut_first_num = _cutoff_first_order_number(f_u, f_eps, u, w_ideal, values)
     else:
-        cut_first_num = None
-        notes.append("first-order cutoff terms need a pass band at DC")
+        notes.append(finding("first-order-needs-dc-passband"))
+    numeric = _numbers((dc_ideal, dc_real, dc_first), (c_ideal, c_real, h_ideal, h_real), cut_first_num,
+                       eps, values)
+    return OpampError(model, dc_ideal, dc_real, dc_error, dc_first, c_ideal, c_real, cut_error, cut_first, numeric,
+                      tuple(notes))
 
+
+def _eps_symbols(opamps, model: str) -> dict:
+    """Each op-amp symbol (A_U, and GBW_U for single-pole) -> the small parameter e = 1/symbol."""
+    eps = {}
+    for p in opamps:
+        eps[sympy.Symbol(f"A_{p.name}", positive=True)] = sympy.Symbol(f"eps_A_{p.name}", positive=True)
+        if model == "single-pole":
+            eps[sympy.Symbol(f"GBW_{p.name}", positive=True)] = sympy.Symbol(f"eps_GBW_{p.name}", positive=True)
+    return eps
+
+
+def _dc_terms(dc_ideal, dc_real, polys: tuple, eps: dict, notes: list) -> tuple:
+    """(exact relative DC error or None, first-order coefficients by symbol name)."""
+    if dc_ideal in (0, sympy.oo, sympy.zoo):
+        notes.append(finding("ideal-dc-gain-zero"))
+        return None, {}
+    n_e, d_e = polys
+    at_zero = {e: 0 for e in eps.values()}
+    dc_error = tidy(dc_real / dc_ideal - 1)
+    dc_first = {}
+    ndc, ddc = n_e.xreplace({S: 0}), d_e.xreplace({S: 0})
+    for sym, e in eps.items():
+        # d/de (n/d) at e = 0 = (n' d - n d') / d^2
+        dn, dd = sympy.diff(ndc, e).xreplace(at_zero), sympy.diff(ddc, e).xreplace(at_zero)
+        n00, d00 = ndc.xreplace(at_zero), ddc.xreplace(at_zero)
+        c = tidy((dn * d00 - n00 * dd) / d00**2 / dc_ideal)
+        if c != 0:
+            dc_first[str(sym)] = c
+    return dc_error, dc_first
+
+
+def _cutoff_first_order(forms: tuple, implicit: tuple, c_ideal, eps: dict, notes: list) -> dict | None:
+    """d(ln w_c)/d(1/X) per symbol X: through w0 and Q at second order, else by implicit differentiation."""
+    f_real, f_ideal = forms
+    f_u, f_eps, u = implicit
+    u0 = c_ideal**2
+    cut_first = {}
+    second = f_real.order == f_ideal.order == 2 and f_real.kind == f_ideal.kind in ("lowpass", "highpass")
+    for sym, e in eps.items():
+        if second:
+            c = _second_order_coefficient(f_real, f_ideal, sym, e)
+        else:
+            c = -(f_eps[sym] / f_u).xreplace({u: u0}) / (2 * u0)
+            c = tidy(c) if sympy.count_ops(c) < _BIG else c
+        if sympy.count_ops(c) > _SHOWN:
+            notes.append(finding("first-order-cutoff-too-large"))
+            return None
+        if c != 0:
+            cut_first[str(sym)] = c
+    return cut_first
+
+
+def _cutoff_first_order_number(f_u, f_eps: dict, u, w_ideal: float, values: dict) -> float | None:
+    """The first-order relative cutoff error at the values: sum of -F_e / (2 u0 F_u) / X."""
+    u0n = w_ideal**2
+    fu = finite_float(f_u.xreplace({u: sympy.Float(u0n, 30)}), values)
+    if fu in (None, 0):
+        return None
+    total = 0.0
+    for sym, fe in f_eps.items():
+        fen = finite_float(fe.xreplace({u: sympy.Float(u0n, 30)}), values)
+        if fen is None:
+            return None
+        total += -fen / fu / (2 * u0n) / float(values[sym])
+    return total
+
+
+def _numbers(dc: tuple, cut: tuple, cut_first_num, eps: dict, values: dict) -> dict:
+    """``{"dc_gain": {...}, "cutoff_hz": {...}}``: ideal, real, exact and first-order error, where values allow."""
+    dc_ideal, dc_real, dc_first = dc
+    c_ideal, c_real, h_ideal, h_real = cut
     numeric: dict = {}
-    dci, dcr = _num(dc_ideal, values), _num(dc_real, values)
+    dci, dcr = finite_float(dc_ideal, values), finite_float(dc_real, values)
     if dci is not None and dcr is not None and dci != 0:
         fo = None
         if all(sym in values for sym in eps):
-            fo = sum(_num(c, values) / float(values[sympy.Symbol(k, positive=True)]) for k, c in dc_first.items())
+            fo = sum(finite_float(c, values) / float(values[sympy.Symbol(k, positive=True)]) for k, c in dc_first.items())
         numeric["dc_gain"] = {"ideal": dci, "real": dcr, "error": dcr / dci - 1, "first_order": fo}
-    wi = _num(c_ideal, values) if c_ideal is not None else numeric_cutoff(h_ideal, values)
-    wr = _num(c_real, values) if c_real is not None else numeric_cutoff(h_real, values)
+    wi = finite_float(c_ideal, values) if c_ideal is not None else numeric_cutoff(h_ideal, values)
+    wr = finite_float(c_real, values) if c_real is not None else numeric_cutoff(h_real, values)
     if wi is not None and wr is not None:
         numeric["cutoff_hz"] = {"ideal": wi / (2 * math.pi), "real": wr / (2 * math.pi), "error": wr / wi - 1,
                                 "first_order": cut_first_num}
-    return OpampError(model, dc_ideal, dc_real, dc_error, dc_first, c_ideal, c_real, cut_error, cut_first, numeric,
-                      tuple(notes))
+    return numeric
 
 
 __all__ = ["OpampError", "opamp_error"]

@@ -1,4 +1,4 @@
-"""Sizing to a target, with the loading included, and the IEC 60063 preferred numbers.
+"""Sizing to a target, with the loading included, snapped to IEC 60063 preferred numbers.
 
 :func:`size` solves the *loaded* equation of a circuit for one part (or several
 parts held in a ratio) so that a quantity hits a target: cutoff or w0 in Hz, Q,
@@ -8,10 +8,7 @@ squared away), else a bracketed numeric root on a logarithmic scale, and then
 the two neighbouring values of a preferred-number series with the loaded and
 ideal result of each.
 
-Preferred numbers (IEC 60063): E6, E12 and E24 are the standard's own lists,
-which are *not* 10^(i/N) rounded (2.7, 3.0, 3.3, 3.6, 3.9, 4.3, 4.7 and 8.2
-differ); E48, E96 and E192 are 10^(i/N) rounded to three significant figures,
-except that E192 has 9.20 where the rounding gives 9.19.
+The preferred-number series are in :mod:`symfilt.design.eseries`.
 
 Examples
 --------
@@ -27,124 +24,21 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
-from fractions import Fraction
 from types import MappingProxyType
 from typing import Callable, Mapping, Sequence
 
 import sympy
 from mpmath.libmp.libhyper import NoConvergence
 
+from symfilt.analysis.findings import Finding, finding
+from symfilt.analysis.numeric import batch_cutoff, finite_float, tidy
 from symfilt.analysis.stage import StageResult, analyse, numeric_values
 from symfilt.model.circuit import LOAD_C, Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.errors import UsageError
 from symfilt.model.values import parse_value
 
-# --- IEC 60063 preferred numbers ------------------------------------------------
-
-_E6 = (10, 15, 22, 33, 47, 68)
-_E12 = (10, 12, 15, 18, 22, 27, 33, 39, 47, 56, 68, 82)
-_E24 = (10, 11, 12, 13, 15, 16, 18, 20, 22, 24, 27, 30, 33, 36, 39, 43, 47, 51, 56, 62, 68, 75, 82, 91)
-
-
-def _generated(n: int) -> tuple[int, ...]:
-    """10^(i/n) rounded to three significant figures, in hundredths (100 ... 999).
-
-    No value of i/n for n = 48, 96, 192 lies within 0.01 of a rounding boundary,
-    so float arithmetic rounds exactly as decimal arithmetic would.
-    """
-    out = [int(math.floor(100 * 10 ** (i / n) + 0.5)) for i in range(n)]
-    if n == 192:
-        out[out.index(919)] = 920  # the standard's exception
-    return tuple(out)
-
-
-#: Series name -> mantissas in [1, 10) as exact rationals (read-only).
-SERIES: Mapping[str, tuple[sympy.Rational, ...]] = MappingProxyType({
-    **{name: tuple(sympy.Rational(v, 10) for v in table) for name, table in (("E6", _E6), ("E12", _E12), ("E24", _E24))},
-    **{f"E{n}": tuple(sympy.Rational(v, 100) for v in _generated(n)) for n in (48, 96, 192)},
-})
-
-
-def series_values(name: str) -> tuple[sympy.Rational, ...]:
-    """The mantissas of a preferred-number series, 1 <= m < 10, ascending.
-
-    Parameters
-    ----------
-    name : str
-        ``E6``, ``E12``, ``E24``, ``E48``, ``E96`` or ``E192`` (any case).
-
-    Examples
-    --------
-    >>> [str(v) for v in series_values("E6")]
-    ['1', '3/2', '11/5', '33/10', '47/10', '34/5']
-    >>> len(series_values("e192")), float(series_values("E192")[185])
-    (192, 9.2)
-    """
-    key = name.strip().upper()
-    if key not in SERIES:
-        raise UsageError("series", f"unknown series {name!r}", "use one of " + ", ".join(SERIES))
-    return SERIES[key]
-
-
-def _exact(value) -> Fraction:
-    if isinstance(value, sympy.Rational):
-        return Fraction(int(value.p), int(value.q))
-    if isinstance(value, float):
-        return Fraction(value)
-    return Fraction(value)
-
-
-def series_neighbours(value, series: str = "E24") -> tuple[sympy.Rational, sympy.Rational]:
-    """The series values just below (or equal to) and just above ``value``.
-
-    Parameters
-    ----------
-    value : float or sympy.Rational
-        A positive value in SI base units.
-    series : str
-
-    Returns
-    -------
-    (lower, upper) : tuple of sympy.Rational
-        ``lower <= value < upper``.
-
-    Examples
-    --------
-    >>> series_neighbours(3003.4, "E24")
-    (3000, 3300)
-    >>> series_neighbours(sympy.Rational(47, 10**9), "E12")
-    (47/1000000000, 7/125000000)
-    """
-    table = series_values(series)
-    x = _exact(value)
-    if x <= 0:
-        raise UsageError("series", f"value {float(x):g} is not positive", "snap only positive values")
-    k = math.floor(math.log10(float(x)))
-    while Fraction(10) ** k > x:
-        k -= 1
-    while Fraction(10) ** (k + 1) <= x:
-        k += 1
-    decade = sympy.Rational(10) ** k
-    mantissa = x / Fraction(10) ** k
-    lower = max(m for m in table if _exact(m) <= mantissa)
-    above = [m for m in table if _exact(m) > mantissa]
-    upper = above[0] * decade if above else table[0] * decade * 10
-    return lower * decade, upper
-
-
-def snap(value, series: str = "E24") -> sympy.Rational:
-    """The series value nearest to ``value`` on a logarithmic scale.
-
-    Examples
-    --------
-    >>> snap(4600, "E12"), snap(5150, "E24")
-    (4700, 5100)
-    """
-    lo, hi = series_neighbours(value, series)
-    x = float(value)
-    return lo if math.log(x / float(lo)) <= math.log(float(hi) / x) else hi
-
+from symfilt.design.eseries import series_neighbours, series_values
 
 # --- targets --------------------------------------------------------------------
 
@@ -211,7 +105,7 @@ class SizeResult:
         As asked (Hz for cutoff and w0).
     exact : sympy.Expr or None
         Closed-form solution for the first varied part, in the other symbols.
-    exact_note : str
+    exact_note : Finding or None
         Why there is no closed form, when there is none.
     value : float
         The solution at the circuit's values (SI base units).
@@ -224,7 +118,7 @@ class SizeResult:
         The series values just below and just above the solution.
     present : float or None
         The loaded quantity with the circuit's present values.
-    notes : tuple of str
+    notes : tuple of Finding
     kinds : dict
         Part name -> kind (``resistor``, ``capacitor``, ``inductor``) of each varied part.
     """
@@ -234,7 +128,7 @@ class SizeResult:
     quantity: str
     target: sympy.Rational
     exact: sympy.Expr | None
-    exact_note: str
+    exact_note: Finding | None
     value: float
     solutions: tuple
     method: str
@@ -278,18 +172,18 @@ def _condition(stage: StageResult, quantity: str, target):
     return None
 
 
-def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, str]:
+def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, Finding | None]:
     """Roots in x of the numerator of ``condition``, when each factor holding x is of
     degree <= max_degree; else no roots and the reason."""
     if sympy.count_ops(condition) > 4000:
-        return [], "the equation is too large for a closed form"
+        return [], finding("equation-too-large")
     num = sympy.numer(sympy.together(condition))
     try:
         poly = sympy.Poly(sympy.expand(num), x)
     except sympy.PolynomialError:
-        return [], "the equation is not polynomial in the varied part"
+        return [], finding("equation-not-polynomial")
     if poly.degree() > 8:
-        return [], f"the equation is of degree {poly.degree()} in the varied part"
+        return [], finding("equation-degree", degree=poly.degree())
     roots = []
     y = sympy.Dummy("y", positive=True)
     for fac, _mult in sympy.factor_list(num, x)[1]:
@@ -299,25 +193,10 @@ def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, str]:
         # a polynomial in x^k only (parts scaled together): solve for y = x^k
         k = math.gcd(*[m[0] for m in p.monoms()])
         if p.degree() // k > max_degree:
-            return [], f"the equation has a factor of degree {p.degree()} in the varied part"
+            return [], finding("equation-factor-degree", degree=p.degree())
         fy = sympy.Add(*[c * y ** (m[0] // k) for m, c in zip(p.monoms(), p.coeffs())])
         roots += [r if k == 1 else sympy.root(r, k) for r in sympy.solve(fy, y)]
-    return roots, ""
-
-
-def _tidy(e):
-    e = sympy.radsimp(e) if sympy.count_ops(e) < 200 else e
-    return sympy.factor(e) if sympy.count_ops(e) < 120 else e
-
-
-def _float(e) -> float | None:
-    try:
-        v = complex(sympy.N(e, 30))
-    except (TypeError, ValueError, ZeroDivisionError):
-        return None
-    if not math.isfinite(v.real) or abs(v.imag) > 1e-9 * max(1.0, abs(v.real)):
-        return None
-    return v.real
+    return roots, None
 
 
 def _rational(v: float) -> sympy.Rational:
@@ -357,10 +236,9 @@ def _log_roots(f: Callable[[float], float | None], lo: float, hi: float, per_dec
 
 def _numeric_cutoff_function(stage: StageResult, tie: dict, values: dict, x, goal: float):
     """f(x) = cutoff(x) / goal - 1 in Hz, the cutoff found from the coefficients of H(s) in
-    floating point (:func:`symfilt.design.spread.batch_cutoff`, numpy) - fast enough for a scan."""
+    floating point (:func:`symfilt.analysis.numeric.batch_cutoff`, numpy) - fast enough for a scan."""
     import numpy as np
 
-    from symfilt.design.spread import batch_cutoff
 
     b, d = stage.transfer.coefficients()
     lam = [sympy.lambdify(x, (c.xreplace(tie) if tie else c).xreplace(values), "math") for c in b + d]
@@ -429,6 +307,48 @@ def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str]
     >>> sorted(r.neighbours[0].values)
     ['C1', 'C2']
     """
+    quantity, tval = _read_target(target)
+    series_values(series)
+    names, varied = _read_vary(circuit, vary)
+    first_name, x, first_value, kind = varied[0]
+    ratio = {n: (sympy.Integer(1) if i == 0 else v / first_value) for i, (n, _s, v, _k) in enumerate(varied)}
+    a = analyse(circuit, sensitivity=False, max_terms=max_terms)
+    values = _fixed_values(circuit, a, varied)
+    tie = {s: x * ratio[n] for n, s, _v, _k in varied[1:]}
+    notes: list[str] = []
+    at = _evaluator(values, varied, ratio, TARGETS[quantity])
+    present = at(a.loaded, first_value) if first_value is not None else None
+    goal = _signed_goal(a, at, quantity, tval, present, kind, notes)
+
+    def check(xv: float) -> bool:
+        got = at(a.loaded, _rational(xv))
+        return got is not None and abs(got / float(goal) - 1) < 1e-7
+
+    _require_dependence(a.loaded, quantity, x, tie, first_name)
+    candidates, method, reason = _solutions(a, quantity, goal, x, tie, values, (first_value, kind), check, notes)
+    if not candidates:
+        raise UsageError("size", f"no positive value of {first_name} gives {quantity} = {float(tval):g}",
+                         "check the target is reachable with the other parts, or vary another part")
+    centre = float(first_value) if first_value is not None else None
+    candidates.sort(key=lambda c: abs(math.log(c[0] / centre)) if centre else c[0])
+    value, exact = candidates[0]
+    if exact is not None:
+        exact = tidy(exact, radicals=True)
+    neighbours = []
+    for xv in series_neighbours(value, series):
+        lo_v, id_v = at(a.loaded, xv), at(a.ideal, xv)
+        err = None if lo_v is None else (lo_v / float(goal) - 1) * 100
+        ierr = None if id_v is None else (id_v / float(goal) - 1) * 100
+        neighbours.append(Neighbour({n: xv * ratio[n] for n, *_ in varied}, lo_v, id_v, err, ierr))
+    if len(varied) > 1 and any(ratio[n] != 1 for n in ratio):
+        notes.append(finding("ratio-off-series"))
+    return SizeResult(names, ratio, quantity, tval, exact, None if exact is not None else reason, value,
+                      tuple(sorted(c[0] for c in candidates)), method, series.strip().upper(),
+                      tuple(neighbours), present, tuple(notes), {n: k for n, _s, _v, k in varied})
+
+
+def _read_target(target) -> tuple[str, sympy.Rational]:
+    """The target quantity (canonical name) and its value, checked."""
     quantity, raw = target
     quantity = _ALIASES.get(str(quantity).lower(), str(quantity).lower())
     if quantity not in TARGETS:
@@ -438,7 +358,11 @@ def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str]
         raise UsageError("--target", f"a {quantity} of {tval} is not positive", "give a positive target")
     if tval == 0:
         raise UsageError("--target", "a DC gain of 0 cannot be sized for", "give a non-zero gain")
-    series_values(series)
+    return quantity, tval
+
+
+def _read_vary(circuit: Circuit, vary) -> tuple[tuple, list]:
+    """The varied part names and their (name, symbol, value, kind), checked."""
     names = (vary,) if isinstance(vary, str) else tuple(vary)
     if not names or len(set(names)) != len(names):
         raise UsageError("--vary", "name each varied part once", "e.g. --vary R1 or --vary C1,C2")
@@ -446,18 +370,22 @@ def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str]
     if len(varied) > 1 and any(v is None for _n, _s, v, _k in varied):
         raise UsageError("--vary", "parts held in a ratio need values (the ratio is taken from them)",
                          "give " + ", ".join(n for n, _s, v, _k in varied if v is None) + " a value")
-    first_name, x, first_value, kind = varied[0]
-    ratio = {n: (sympy.Integer(1) if i == 0 else v / first_value) for i, (n, _s, v, _k) in enumerate(varied)}
-    a = analyse(circuit, sensitivity=False, max_terms=max_terms)
-    values = {k: v for k, v in circuit.values().items() if k not in {s for _n, s, _v, _k in varied}}
-    needed = (a.loaded.transfer.free_symbols() | a.ideal.transfer.free_symbols()) - {S} - {s for _n, s, _v, _k in varied}
+    return names, varied
+
+
+def _fixed_values(circuit: Circuit, a, varied) -> dict:
+    """The values of every symbol but the varied ones; every symbol of H needs one."""
+    syms = {s for _n, s, _v, _k in varied}
+    values = {k: v for k, v in circuit.values().items() if k not in syms}
+    needed = (a.loaded.transfer.free_symbols() | a.ideal.transfer.free_symbols()) - {S} - syms
     missing = sorted(str(m) for m in needed if m not in values)
     if missing:
         raise UsageError("size", "no value for " + ", ".join(missing), "give every part but the varied one a value")
-    tie = {s: x * ratio[n] for n, s, _v, _k in varied[1:]}
-    key = TARGETS[quantity]
-    notes: list[str] = []
+    return values
 
+
+def _evaluator(values: dict, varied, ratio: dict, key: str) -> Callable:
+    """at(stage, x): the measured quantity with the first varied part at x (the others in ratio)."""
     def at(stage: StageResult, xv: sympy.Rational) -> float | None:
         vals = {**values, **{s: xv * ratio[n] for n, s, _v, _k in varied}}
         try:
@@ -465,89 +393,90 @@ def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str]
         except NoConvergence:
             return None
 
-    present = at(a.loaded, first_value) if first_value is not None else None
-    goal = tval
-    if quantity == "dc-gain":
-        sample = present if present is not None else at(a.loaded, _rational(_SCAN[kind][0] * 1e6))
-        if sample is not None and sample * float(tval) < 0:
-            goal = -tval
-            notes.append(f"the DC gain is {'negative' if sample < 0 else 'positive'}; its magnitude is sized to {abs(float(tval)):g}")
-    scale = 2 * math.pi if quantity in ("cutoff", "w0") else 1.0
+    return at
 
-    def check(xv: float) -> bool:
-        got = at(a.loaded, _rational(xv))
-        return got is not None and abs(got / float(goal) - 1) < 1e-7
 
-    expr0 = _quantity_expr(a.loaded, quantity)
+def _signed_goal(a, at, quantity: str, tval, present, kind: str, notes: list):
+    """The target with the sign of the circuit's DC gain (its magnitude is sized)."""
+    if quantity != "dc-gain":
+        return tval
+    sample = present if present is not None else at(a.loaded, _rational(_SCAN[kind][0] * 1e6))
+    if sample is not None and sample * float(tval) < 0:
+        notes.append(finding("dc-gain-sign", negative=sample < 0, magnitude=abs(float(tval))))
+        return -tval
+    return tval
+
+
+def _require_dependence(stage: StageResult, quantity: str, x, tie: dict, first_name: str) -> None:
+    """UsageError when the varied part does not appear in the loaded quantity."""
+    expr0 = _quantity_expr(stage, quantity)
     if expr0 is not None and x not in sympy.sympify(expr0).free_symbols and not (
             tie and set(tie) & sympy.sympify(expr0).free_symbols):
         used = sorted(str(v) for v in sympy.sympify(expr0).free_symbols)
         raise UsageError("--vary", f"{first_name} does not change the loaded {quantity}",
                          "vary a part that appears in it: " + (", ".join(used) if used else "none does"))
-    exact_roots, reason = [], ""
+
+
+def _solutions(a, quantity: str, goal, x, tie: dict, values: dict, start: tuple, check: Callable,
+               notes: list) -> tuple[list, str, Finding | None]:
+    """(candidates as (float, exact or None), method, reason there is no closed form)."""
+    exact_roots, reason = [], None
     cond = _condition(a.loaded, quantity, goal)
     if cond is None:
-        reason = f"no closed form of the loaded {quantity}"
+        reason = finding("no-closed-form-quantity", quantity=quantity)
     else:
         cond = cond.xreplace(tie) if tie else cond
         exact_roots, reason = _closed_form(cond, x)
     candidates = []  # (float, exact or None)
     for r in exact_roots:
-        v = _float(r.xreplace(values))
+        v = finite_float(r, values)
         if v is not None and v > 0 and check(v):
             candidates.append((v, r))
-    method = "closed form"
-    if not candidates:
-        method = "numeric root"
-        if cond is not None and not reason:
-            reason = "the closed-form roots do not meet the target at these values"
-        expr = _quantity_expr(a.loaded, quantity)
-        if expr is not None:
-            e = (expr.xreplace(tie) if tie else expr).xreplace(values)
-            fn = sympy.lambdify(x, e, "mpmath")
-
-            def g(xv: float) -> float | None:
-                try:
-                    v = complex(fn(xv))
-                except (ZeroDivisionError, ValueError, TypeError, OverflowError):
-                    return None
-                if abs(v.imag) > 1e-9 * max(1.0, abs(v.real)):
-                    return None
-                return v.real / scale / float(goal) - 1
-        elif quantity == "cutoff" and a.loaded.cutoff.edges is None:
-            g = _numeric_cutoff_function(a.loaded, tie, values, x, float(goal))
-        else:
-            raise UsageError("--target", f"the loaded stage has no {quantity} (order {a.loaded.form.order}, "
-                             f"{a.loaded.form.kind})", "target the cutoff, or the w0 and Q of a first- or second-order stage")
-        centre = float(first_value) if first_value is not None else math.sqrt(_SCAN[kind][0] * _SCAN[kind][1])
-        lo, hi = (centre * 1e-6, centre * 1e6) if first_value is not None else _SCAN[kind]
-        roots = _log_roots(g, lo, hi)
-        if not roots and first_value is not None:
-            roots = _log_roots(g, *_SCAN[kind], per_decade=2)
-        candidates = [(v, None) for v in roots if check(v)]
-        if roots and not candidates:
-            candidates = [(v, None) for v in roots]
-            notes.append("the numeric root could not be confirmed with the exact transfer function")
-    if not candidates:
-        raise UsageError("size", f"no positive value of {first_name} gives {quantity} = {float(tval):g}",
-                         "check the target is reachable with the other parts, or vary another part")
-    centre = float(first_value) if first_value is not None else None
-    candidates.sort(key=lambda c: abs(math.log(c[0] / centre)) if centre else c[0])
-    value, exact = candidates[0]
-    if exact is not None:
-        exact = _tidy(exact)
-    neighbours = []
-    for xv in series_neighbours(value, series):
-        lo_v, id_v = at(a.loaded, xv), at(a.ideal, xv)
-        err = None if lo_v is None else (lo_v / float(goal) - 1) * 100
-        ierr = None if id_v is None else (id_v / float(goal) - 1) * 100
-        neighbours.append(Neighbour({n: xv * ratio[n] for n, *_ in varied}, lo_v, id_v, err, ierr))
-    if len(varied) > 1 and any(ratio[n] != 1 for n in ratio):
-        notes.append("the other varied parts follow the first in their ratio and may fall between series values")
-    return SizeResult(names, ratio, quantity, tval, exact, "" if exact is not None else reason, value,
-                      tuple(sorted(c[0] for c in candidates)), method, series.strip().upper(),
-                      tuple(neighbours), present, tuple(notes), {n: k for n, _s, _v, k in varied})
+    if candidates:
+        return candidates, "closed form", reason
+    if cond is not None and not reason:
+        reason = finding("closed-form-roots-miss")
+    g = _target_function(a, quantity, goal, x, tie, values)
+    return _numeric_candidates(g, start, check, notes), "numeric root", reason
 
 
-__all__ = ["SERIES", "TARGETS", "Neighbour", "SizeResult", "parse_target", "series_neighbours",
-           "series_values", "size", "snap"]
+def _target_function(a, quantity: str, goal, x, tie: dict, values: dict) -> Callable[[float], float | None]:
+    """g(x) = quantity(x) / goal - 1 (Hz for cutoff and w0), from the closed form or the numeric cutoff."""
+    scale = 2 * math.pi if quantity in ("cutoff", "w0") else 1.0
+    expr = _quantity_expr(a.loaded, quantity)
+    if expr is not None:
+        e = (expr.xreplace(tie) if tie else expr).xreplace(values)
+        fn = sympy.lambdify(x, e, "mpmath")
+
+        def g(xv: float) -> float | None:
+            try:
+                v = complex(fn(xv))
+            except (ZeroDivisionError, ValueError, TypeError, OverflowError):
+                return None
+            if abs(v.imag) > 1e-9 * max(1.0, abs(v.real)):
+                return None
+            return v.real / scale / float(goal) - 1
+
+        return g
+    if quantity == "cutoff" and a.loaded.cutoff.edges is None:
+        return _numeric_cutoff_function(a.loaded, tie, values, x, float(goal))
+    raise UsageError("--target", f"the loaded stage has no {quantity} (order {a.loaded.form.order}, "
+                     f"{a.loaded.form.kind})", "target the cutoff, or the w0 and Q of a first- or second-order stage")
+
+
+def _numeric_candidates(g: Callable, start: tuple, check: Callable, notes: list) -> list:
+    """Roots of g on a log scan around the present value (or over the kind's whole range)."""
+    first_value, kind = start
+    centre = float(first_value) if first_value is not None else math.sqrt(_SCAN[kind][0] * _SCAN[kind][1])
+    lo, hi = (centre * 1e-6, centre * 1e6) if first_value is not None else _SCAN[kind]
+    roots = _log_roots(g, lo, hi)
+    if not roots and first_value is not None:
+        roots = _log_roots(g, *_SCAN[kind], per_decade=2)
+    candidates = [(v, None) for v in roots if check(v)]
+    if roots and not candidates:
+        candidates = [(v, None) for v in roots]
+        notes.append(finding("numeric-root-unconfirmed"))
+    return candidates
+
+
+__all__ = ["TARGETS", "Neighbour", "SizeResult", "parse_target", "size"]

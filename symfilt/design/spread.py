@@ -36,6 +36,8 @@ from typing import Callable, Mapping, Sequence
 
 import sympy
 
+from symfilt.analysis.findings import finding
+from symfilt.analysis.numeric import batch_cutoff, log_difference
 from symfilt.analysis.stage import analyse, numeric_sensitivities
 from symfilt.model.circuit import Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
@@ -162,7 +164,7 @@ class SpreadResult:
         Key -> symbol name -> S used for the linear estimates.
     samples : dict
         Key -> numpy array of the Monte Carlo values (for histograms).
-    notes : tuple of str
+    notes : tuple of Finding
     """
 
     runs: int
@@ -173,84 +175,6 @@ class SpreadResult:
     sensitivities: dict = field(default_factory=dict)
     samples: dict = field(default_factory=dict, compare=False, repr=False)
     notes: tuple = ()
-
-
-def _poly_mag2(coeffs):
-    """Coefficients (lowest first, in u = w^2) of |P(jw)|^2 for arrays of coefficients of P(s)."""
-    import numpy as np
-
-    even = [c * (-1) ** (k // 2) for k, c in enumerate(coeffs) if k % 2 == 0]
-    odd = [c * (-1) ** (k // 2) for k, c in enumerate(coeffs) if k % 2 == 1]
-
-    def mul(a, b):
-        out = [0.0] * (len(a) + len(b) - 1)
-        for i, x in enumerate(a):
-            for j, y in enumerate(b):
-                out[i + j] = out[i + j] + x * y
-        return out
-
-    e2 = mul(even, even) if even else [np.zeros_like(coeffs[0])]
-    o2 = [0.0] + mul(odd, odd) if odd else [0.0]
-    n = max(len(e2), len(o2))
-    return [(e2[k] if k < len(e2) else 0.0) + (o2[k] if k < len(o2) else 0.0) for k in range(n)]
-
-
-def batch_cutoff(num_coeffs, den_coeffs):
-    """-3 dB angular frequency per sample from arrays of H(s) coefficients (lowest power first).
-
-    The lowest positive root of 2 |N(jw)|^2 - |H_pass|^2 |D(jw)|^2 in u = w^2, with the
-    pass band at DC (at infinity, and then the highest root, when the DC gain is 0);
-    NaN where there is none. Roots from batched companion matrices (numpy).
-
-    Examples
-    --------
-    >>> import numpy as np
-    >>> w = batch_cutoff([np.array([1.0, 1.0])], [np.array([1.0, 2.0]), np.array([1e-3, 1e-3])])
-    >>> [round(float(v), 3) for v in w]
-    [1000.0, 2000.0]
-    """
-    import numpy as np
-
-    num = [np.atleast_1d(np.asarray(c, dtype=float)) for c in num_coeffs]
-    den = [np.atleast_1d(np.asarray(c, dtype=float)) for c in den_coeffs]
-    size = max(c.shape[0] for c in num + den)
-    num = [np.broadcast_to(c, (size,)).astype(float) for c in num]
-    den = [np.broadcast_to(c, (size,)).astype(float) for c in den]
-    highpass = bool(np.all(num[0] == 0))
-    if highpass:  # pass band at infinity: the HF gain (zero when the numerator's degree is lower)
-        pas = num[-1] / den[-1] if len(num) == len(den) else np.zeros(size)
-    else:
-        pas = num[0] / den[0]
-    n2, d2 = _poly_mag2(num), _poly_mag2(den)
-    m = max(len(n2), len(d2))
-    p = [2 * (n2[k] if k < len(n2) else 0.0) - pas**2 * (d2[k] if k < len(d2) else 0.0) for k in range(m)]
-    p = np.array([np.broadcast_to(c, (size,)) for c in p]).T  # samples x (degree + 1), lowest first
-    out = np.full(size, np.nan)
-    pending = np.ones(size, dtype=bool)
-    for deg in range(p.shape[1] - 1, 0, -1):
-        rows = np.where(pending & (p[:, deg] != 0))[0]
-        if rows.size:
-            q = p[rows, : deg + 1]
-            # scale u = sigma t so that the roots are near 1, then normalise the coefficients
-            low = np.where(q[:, 0] != 0, np.abs(q[:, 0]), 1.0)
-            sigma = (low / np.abs(q[:, deg])) ** (1.0 / deg)
-            q = q * sigma[:, None] ** np.arange(deg + 1)
-            comp = np.zeros((rows.size, deg, deg))
-            if deg > 1:
-                comp[:, 1:, :-1] = np.eye(deg - 1)
-            comp[:, :, -1] = -q[:, :deg] / q[:, deg : deg + 1]
-            roots = np.linalg.eigvals(comp)
-            real = np.abs(roots.imag) <= 1e-9 * np.maximum(1.0, np.abs(roots.real))
-            ok = real & (roots.real > 0)
-            if highpass:
-                pick = np.where(ok, roots.real, -np.inf).max(axis=1)
-            else:
-                pick = np.where(ok, roots.real, np.inf).min(axis=1)
-            out[rows] = np.where(np.isfinite(pick), np.sqrt(np.abs(pick) * sigma), np.nan)
-            pending[rows] = False
-        if not pending.any():
-            break
-    return out
 
 
 @dataclass(frozen=True)
@@ -386,10 +310,7 @@ def spread(circuit: Circuit, tolerances: Mapping[str, float], *, distribution: s
     """
     import numpy as np
 
-    if distribution not in DISTRIBUTIONS:
-        raise UsageError("--distribution", f"unknown distribution {distribution!r}", "use uniform or normal")
-    if not isinstance(runs, int) or not 100 <= runs <= MAX_RUNS:
-        raise UsageError("--runs", f"{runs!r} runs", f"give between 100 and {MAX_RUNS}")
+    _check_run(distribution, runs)
     tols = expand_tolerances(circuit, tolerances)
     if not tols:
         raise UsageError("--tol", "no part has a tolerance", "give at least one, e.g. --tol R=1%")
@@ -407,59 +328,91 @@ def spread(circuit: Circuit, tolerances: Mapping[str, float], *, distribution: s
     notes = []
     unused = sorted(set(tols) - set(varied))
     if unused:
-        notes.append("no effect on the transfer function: " + ", ".join(unused))
+        notes.append(finding("tolerance-no-effect", names=tuple(unused)))
     sigma = {n: tols[n] / (math.sqrt(3) if distribution == "uniform" else 3) for n in varied}
+    samples = _draw(model, values, {n: tols[n] for n in varied}, distribution, runs, rng, progress)
+    corners = _corners(values, varied, tols, notes)
+    if distribution == "normal":
+        notes.append(finding("normal-corners"))
+    sens_used = {}
+    quantities = {}
+    for k in model.functions:
+        got = _quantity_spread(model, k, values, samples[k], (tols, sigma, varied), corners)
+        if got is None:
+            notes.append(finding("quantity-undefined", quantity=k))
+            continue
+        quantities[k], sens_used[k] = got
+    ordered = {k: quantities[k] for k in QUANTITY_KEYS if k in quantities}
+    return SpreadResult(runs, seed, distribution, tols, ordered, sens_used, samples, tuple(notes))
+
+
+def _check_run(distribution: str, runs) -> None:
+    if distribution not in DISTRIBUTIONS:
+        raise UsageError("--distribution", f"unknown distribution {distribution!r}", "use uniform or normal")
+    if not isinstance(runs, int) or not 100 <= runs <= MAX_RUNS:
+        raise UsageError("--runs", f"{runs!r} runs", f"give between 100 and {MAX_RUNS}")
+
+
+def _draw(model: VectorModel, values: dict, tols: dict, distribution: str, runs: int, rng, progress) -> dict:
+    """Monte Carlo samples of every quantity, in chunks, the toleranced parts drawn in order."""
+    import numpy as np
+
     samples = {k: np.empty(runs) for k in model.functions}
     done = 0
     while done < runs:
         m = min(_CHUNK, runs - done)
         args = dict(values)
-        for n in varied:
-            dev = rng.uniform(-tols[n], tols[n], m) if distribution == "uniform" else rng.normal(0.0, tols[n] / 3, m)
+        for n, tol in tols.items():
+            dev = rng.uniform(-tol, tol, m) if distribution == "uniform" else rng.normal(0.0, tol / 3, m)
             args[n] = values[n] * (1 + dev)
         for k in model.functions:
             samples[k][done : done + m] = np.broadcast_to(model.evaluate(k, args), (m,))
         done += m
         if progress:
             progress(done, runs)
-    corners = None
-    if len(varied) <= MAX_CORNER_PARTS:
-        signs = ((np.arange(2 ** len(varied))[:, None] >> np.arange(len(varied))) & 1) * 2 - 1
-        corners = dict(values)
-        for i, n in enumerate(varied):
-            corners[n] = values[n] * (1 + signs[:, i] * tols[n])
-    else:
-        notes.append(f"more than {MAX_CORNER_PARTS} toleranced parts: worst case from the sensitivities only")
-    if distribution == "normal":
-        notes.append("normal distribution, tolerance = 3 sigma; corners are at +-tol (samples may pass them)")
-    sens_used = {}
-    quantities = {}
-    for k in model.functions:
-        nominal = float(model.evaluate(k, values))
-        st = _stats(np, samples[k])
-        if st is None or not math.isfinite(nominal):
-            notes.append(f"{k}: not defined at these values")
-            continue
-        mean, std, p1, p50, p99, undefined = st
-        table = model.sensitivities.get(k)
-        if not table or any(table.get(n) is None for n in varied):
-            table = _difference_sensitivities(model, k, values, varied)
-        s_row = {n: float(table.get(n, 0.0) or 0.0) for n in varied}
-        sens_used[k] = s_row
-        spread_lin = sum(abs(s_row[n]) * tols[n] for n in varied)
-        lin = sorted((nominal * (1 - spread_lin), nominal * (1 + spread_lin)))
-        std_lin = abs(nominal) * math.sqrt(sum((s_row[n] * sigma[n]) ** 2 for n in varied))
-        c_lo = c_hi = None
-        if corners is not None:
-            cv = np.asarray(model.evaluate(k, corners), dtype=float)
-            cv = cv[np.isfinite(cv)]
-            if cv.size:
-                c_lo, c_hi = float(cv.min()), float(cv.max())
-        lo, hi, method = (c_lo, c_hi, "corners") if c_lo is not None else (lin[0], lin[1], "linear")
-        quantities[k] = QuantitySpread(nominal, mean, std, p1, p50, p99, lo, hi, method, lin[0], lin[1],
-                                       c_lo, c_hi, std_lin, undefined)
-    ordered = {k: quantities[k] for k in QUANTITY_KEYS if k in quantities}
-    return SpreadResult(runs, seed, distribution, tols, ordered, sens_used, samples, tuple(notes))
+    return samples
+
+
+def _corners(values: dict, varied: list, tols: dict, notes: list) -> dict | None:
+    """Arguments for every corner of the toleranced parts (None, with a note, beyond MAX_CORNER_PARTS)."""
+    import numpy as np
+
+    if len(varied) > MAX_CORNER_PARTS:
+        notes.append(finding("too-many-corners", limit=MAX_CORNER_PARTS))
+        return None
+    signs = ((np.arange(2 ** len(varied))[:, None] >> np.arange(len(varied))) & 1) * 2 - 1
+    corners = dict(values)
+    for i, n in enumerate(varied):
+        corners[n] = values[n] * (1 + signs[:, i] * tols[n])
+    return corners
+
+
+def _quantity_spread(model: VectorModel, k: str, values: dict, x, spec: tuple, corners: dict | None):
+    """(QuantitySpread, sensitivities used) of one quantity, or None when it is not defined."""
+    import numpy as np
+
+    tols, sigma, varied = spec
+    nominal = float(model.evaluate(k, values))
+    st = _stats(np, x)
+    if st is None or not math.isfinite(nominal):
+        return None
+    mean, std, p1, p50, p99, undefined = st
+    table = model.sensitivities.get(k)
+    if not table or any(table.get(n) is None for n in varied):
+        table = _difference_sensitivities(model, k, values, varied)
+    s_row = {n: float(table.get(n, 0.0) or 0.0) for n in varied}
+    spread_lin = sum(abs(s_row[n]) * tols[n] for n in varied)
+    lin = sorted((nominal * (1 - spread_lin), nominal * (1 + spread_lin)))
+    std_lin = abs(nominal) * math.sqrt(sum((s_row[n] * sigma[n]) ** 2 for n in varied))
+    c_lo = c_hi = None
+    if corners is not None:
+        cv = np.asarray(model.evaluate(k, corners), dtype=float)
+        cv = cv[np.isfinite(cv)]
+        if cv.size:
+            c_lo, c_hi = float(cv.min()), float(cv.max())
+    lo, hi, method = (c_lo, c_hi, "corners") if c_lo is not None else (lin[0], lin[1], "linear")
+    return QuantitySpread(nominal, mean, std, p1, p50, p99, lo, hi, method, lin[0], lin[1],
+                          c_lo, c_hi, std_lin, undefined), s_row
 
 
 def _difference_sensitivities(model: VectorModel, key: str, values: Mapping[str, float], names: Sequence[str],
@@ -471,13 +424,13 @@ def _difference_sensitivities(model: VectorModel, key: str, values: Mapping[str,
     for i, n in enumerate(names):
         args[n][2 * i] *= 1 + step
         args[n][2 * i + 1] *= 1 - step
-    y = np.abs(np.asarray(model.evaluate(key, args), dtype=float))
+    y = np.asarray(model.evaluate(key, args), dtype=float)
     out = {}
     for i, n in enumerate(names):
         hi, lo = y[2 * i], y[2 * i + 1]
-        out[n] = float((math.log(hi) - math.log(lo)) / (math.log1p(step) - math.log1p(-step))) if hi > 0 and lo > 0 else None
+        out[n] = log_difference(hi, lo, step)
     return out
 
 
 __all__ = ["DISTRIBUTIONS", "MAX_CORNER_PARTS", "QUANTITY_KEYS", "QuantitySpread", "SpreadResult", "VectorModel",
-           "batch_cutoff", "expand_tolerances", "parse_tolerance", "spread", "vector_model"]
+           "expand_tolerances", "parse_tolerance", "spread", "vector_model"]

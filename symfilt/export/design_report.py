@@ -14,6 +14,7 @@ from pathlib import Path
 from symfilt.errors import OutputError
 from symfilt.model.values import format_value
 from symfilt.export.text import one_line
+from symfilt.export.findings import describe, describe_all
 
 _PART_UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
 _QUANTITY_UNITS = {"cutoff": "Hz", "w0": "Hz", "q": "", "dc-gain": ""}
@@ -61,7 +62,7 @@ def size_dict(r) -> dict:
         "vary": first,
         "target": {"quantity": r.quantity, "value": float(r.target), "unit": _QUANTITY_UNITS[r.quantity] or None},
         "exact": _s(r.exact),
-        "exact_note": r.exact_note or None,
+        "exact_note": describe(r.exact_note) or None,
         "value": _num(r.value),
         "method": r.method,
         "solutions": [_num(v) for v in r.solutions],
@@ -71,7 +72,7 @@ def size_dict(r) -> dict:
                         "values": {k: _num(v) for k, v in n.values.items()}} for n in r.neighbours],
         "held_in_ratio": {k: str(v) for k, v in r.ratio.items()} if len(r.vary) > 1 else None,
         "present": _num(r.present),
-        "notes": list(r.notes),
+        "notes": describe_all(r.notes),
     }
 
 
@@ -98,7 +99,7 @@ def size_text(r) -> str:
     if r.exact is not None:
         lines.append(f"  exact      {first} = {one_line(r.exact)}")
     else:
-        lines.append(f"  exact      none: {r.exact_note}")
+        lines.append(f"  exact      none: {describe(r.exact_note)}")
     lines.append(f"  value      {first} = {_fmt(r.value, unit)}  ({r.method})")
     if len(r.solutions) > 1:
         lines.append("  also       " + ", ".join(_fmt(v, unit) for v in r.solutions if v != r.value))
@@ -112,7 +113,7 @@ def size_text(r) -> str:
                      f"{_fmt(n.ideal, qunit):>12}{_pct(n.ideal_error_pct):>11}")
         for other in r.vary[1:]:
             lines.append(f"    {other} = {_fmt(n.values[other], _PART_UNITS.get(r.kinds.get(other), ''))}")
-    for note in r.notes:
+    for note in describe_all(r.notes):
         lines.append(f"note: {note}")
     return "\n".join(lines) + "\n"
 
@@ -143,7 +144,7 @@ def spread_dict(r) -> dict:
     return {"runs": r.runs, "seed": r.seed, "distribution": r.distribution,
             "tolerances": {k: _num(v) for k, v in r.tolerances.items()}, "quantities": quantities,
             "sensitivities": {k: {n: _num(v) for n, v in row.items()} for k, row in r.sensitivities.items()},
-            "notes": list(r.notes)}
+            "notes": describe_all(r.notes)}
 
 
 def spread_text(r) -> str:
@@ -176,7 +177,7 @@ def spread_text(r) -> str:
         lines.append(f"  {label:<14} {corner:<27} {lin:<29} {_fmt(q.std_linear, unit)}")
         if q.undefined:
             lines.append(f"  {'':<14} {q.undefined} samples without a {label}")
-    for note in r.notes:
+    for note in describe_all(r.notes):
         lines.append(f"note: {note}")
     return "\n".join(lines) + "\n"
 
@@ -350,7 +351,7 @@ def opamp_error_dict(e) -> dict:
                    "first_order": None if e.cutoff_first_order is None else
                    {k: _s(v) for k, v in e.cutoff_first_order.items()}},
         "numeric": {k: block(v) for k, v in e.numeric.items()},
-        "notes": list(e.notes),
+        "notes": describe_all(e.notes),
     }
 
 
@@ -392,7 +393,7 @@ def opamp_error_text(e) -> str:
     if n:
         lines.append(f"  at the values  ideal {_fmt(n['ideal'], 'Hz')}, real {_fmt(n['real'], 'Hz')}, "
                      f"error {ppm(n['error'])}, first-order estimate {ppm(n['first_order'])}")
-    for note in e.notes:
+    for note in describe_all(e.notes):
         lines.append(f"note: {note}")
     return "\n".join(lines) + "\n"
 

@@ -12,6 +12,7 @@ import math
 import sympy
 
 from symfilt.analysis.stage import Analysis, StageResult
+from symfilt.export.findings import describe
 
 
 def _s(e):
@@ -109,7 +110,7 @@ def stage_dict(st: StageResult) -> dict:
         "q": _s(st.form.q),
         "tau": _s(st.form.tau),
         "cutoff": _s(st.cutoff.value),
-        "cutoff_note": st.cutoff.reason or None,
+        "cutoff_note": describe(st.cutoff.reason) or None,
         "band_edges": None if st.cutoff.edges is None else [_s(e) for e in st.cutoff.edges],
         "bandwidth": _s(st.cutoff.bandwidth),
         "input_impedance": _impedance_text(st.zin),
@@ -152,7 +153,7 @@ def analysis_dict(a: Analysis, extra: dict | None = None) -> dict:
                    if a.ratio(key) is not None},
         "sum_rules": {"checked": [{"quantity": r.quantity, "group": r.group, "expected": r.expected,
                                    "sum": _s(r.total), "holds": r.holds} for r in a.rules],
-                      "note": a.rules_note or None},
+                      "note": describe(a.rules_note) or None},
     }
     if extra:
         out.update(extra)

@@ -13,6 +13,7 @@ import re
 from html import escape
 
 from symfilt.analysis.stage import Analysis
+from symfilt.export.findings import describe
 from symfilt.export.latex import sensitivity_rows
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, has_fixtures, kind_words, node_name, number_rows,
                    part_rows, plain_number, sensitivity_table, stability_row, standard_form_tex, sweep, views)
@@ -191,7 +192,8 @@ def _html_sensitivity(a: Analysis) -> list[str]:
             out.append(f"<tr><td>{_html_prose(what)}</td>{cell}<td>{'holds' if r.holds else 'does not hold'}</td></tr>")
         out.append("</tbody></table>")
     elif a.rules_note:
-        out.append(f"<p>{escape(a.rules_note[0].upper() + a.rules_note[1:])}.</p>")
+        note = describe(a.rules_note)
+        out.append(f"<p>{escape(note[0].upper() + note[1:])}.</p>")
     return out
 
 

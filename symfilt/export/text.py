@@ -8,6 +8,7 @@ from symfilt.analysis.stage import Analysis, StageResult
 from symfilt.model.values import format_value
 from symfilt.engine.polybridge import smaller_than
 from symfilt.export.common import impedance_display, parallel_display, transfer_parts
+from symfilt.export.findings import describe
 
 LONG = 400  # one-line expressions longer than this are not printed in the text report
 _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
@@ -213,7 +214,7 @@ def _stage_formulas(st: StageResult) -> list[str]:
         rows.append(f"  {'band edges':<10} = {one_line(st.cutoff.edges[0])}  …  {one_line(st.cutoff.edges[1])}")
         rows.append(f"  {'bandwidth':<10} = {one_line(st.cutoff.bandwidth)}")
     if st.cutoff.value is None and st.cutoff.reason:
-        rows.append(f"  cutoff: no closed form ({st.cutoff.reason})")
+        rows.append(f"  cutoff: no closed form ({describe(st.cutoff.reason)})")
     return rows
 
 
@@ -279,7 +280,7 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
             out.append(f"  Σ over {r.group} of S^{r.quantity} = {one_line(r.total)} (expected {r.expected}): "
                        + ("holds" if r.holds else "DOES NOT HOLD"))
     elif a.rules_note:
-        out += ["", a.rules_note]
+        out += ["", describe(a.rules_note)]
     if load_limits:
         out += ["", "Load limits"] + [render_limit(x) for x in load_limits]
     return "\n".join(out) + "\n"
@@ -295,14 +296,14 @@ def render_limit(lim) -> str:
     '  R_L ≥ 235 kΩ keeps the cutoff within 2% of ideal  (R_L ≥ 50·R1)'
     """
     if lim.value is None:
-        return f"  {lim.fixture}: {lim.note}"
+        return f"  {lim.fixture}: {describe(lim.note)}"
     unit = "F" if lim.fixture == "C_L" else "Ω"
     op = "≥" if lim.bound == "min" else "≤"
     text = f"  {lim.fixture} {op} {format_value(lim.value, unit)} keeps the cutoff within {lim.tolerance * 100:g}% of ideal"
     if lim.exact is not None:
         text += f"  ({lim.fixture} {op} {one_line(lim.exact)})"
     if lim.note:
-        text += f"; {lim.note}"
+        text += f"; {describe(lim.note)}"
     return text
 
 
@@ -323,7 +324,7 @@ def _render_quantity(a: Analysis, quantity: str) -> str:
             lines.append(f"bandwidth, {k:<6}  = {one_line(st.cutoff.bandwidth)}")
             continue
         if key == "cutoff" and e is None:
-            lines.append(f"{label}, {k:<6} = no closed form ({st.cutoff.reason})")
+            lines.append(f"{label}, {k:<6} = no closed form ({describe(st.cutoff.reason)})")
             continue
         if key == "transfer":
             lines.append(f"{label}, {k:<6} = {transfer_line(st.transfer)}")

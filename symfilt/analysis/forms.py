@@ -1,0 +1,205 @@
+"""Standard forms (kind, K, w0, Q) and the closed-form -3 dB cutoff.
+
+Standard forms used (common practice; e.g. Schaumann & Van Valkenburg, *Design of
+Analog Filters*, ch. on second-order sections):
+
+* first order: ``K / (1 + s tau)`` (low-pass), ``K s tau / (1 + s tau)`` (high-pass), w0 = 1/tau;
+* second order: denominator ``1 + s/(w0 Q) + s^2/w0^2``; low-pass ``K``, high-pass
+  ``K s^2/w0^2``, band-pass ``K s/(w0 Q)``, notch ``K (1 + s^2/w0^2)``, all-pass
+  ``K (1 - s/(w0 Q) + s^2/w0^2)``.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import sympy
+
+from symfilt.model.circuit import S
+from symfilt.analysis.network import NetworkFunction
+from symfilt.analysis.findings import Finding, finding
+from symfilt.analysis.numeric import tidy as _tidy
+
+RESPONSE_KINDS = ("lowpass", "highpass", "bandpass", "notch", "allpass", "general")
+
+
+def _zero(e) -> bool:
+    return e == 0 or sympy.cancel(e) == 0
+
+
+@dataclass(frozen=True)
+class StandardForm:
+    """A transfer function in the trade's standard form (order 1 or 2).
+
+    Attributes
+    ----------
+    order : int
+    kind : str
+        One of :data:`RESPONSE_KINDS`.
+    gain : sympy.Expr or None
+        K: the pass-band gain of the standard form (DC gain of a low-pass, HF gain of a
+        high-pass, the gain at w0 of a band-pass).
+    w0 : sympy.Expr or None
+        Natural (pole) angular frequency, rad/s.
+    q : sympy.Expr or None
+        Quality factor (second order only).
+    tau : sympy.Expr or None
+        Time constant (first order only).
+
+    Examples
+    --------
+    >>> StandardForm(1, "lowpass", 1, sympy.Integer(1000)).w0
+    1000
+    """
+
+    order: int
+    kind: str
+    gain: sympy.Expr | None = None
+    w0: sympy.Expr | None = None
+    q: sympy.Expr | None = None
+    tau: sympy.Expr | None = None
+    factors: dict = field(default_factory=dict, compare=False, repr=False)
+
+    @property
+    def zeta(self):
+        """Damping ratio 1/(2Q), or None.
+
+        Examples
+        --------
+        >>> StandardForm(2, "lowpass", 1, 1, sympy.Rational(1, 2)).zeta
+        1
+        """
+        return None if self.q is None else _tidy(1 / (2 * self.q))
+
+
+def standard_form(h: NetworkFunction) -> StandardForm:
+    """Classify a transfer function of order <= 2 and read off K, w0, Q.
+
+    Parameters
+    ----------
+    h : NetworkFunction
+
+    Returns
+    -------
+    StandardForm
+        kind ``general`` (and no K, w0, Q) when it fits none of the forms.
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> f = standard_form(NetworkFunction.from_expr(1 / (1 + S * R * C)))
+    >>> f.kind, f.gain, f.w0, f.tau
+    ('lowpass', 1, 1/(C*R), C*R)
+    """
+    order = h.order()
+    b, a = h.coefficients()
+    b = b + [sympy.Integer(0)] * (3 - len(b))
+    a = a + [sympy.Integer(0)] * (3 - len(a))
+    half = sympy.Rational(1, 2)
+
+    def make(kind, gain_f, w0_f, q_f=None, tau_f=None):
+        factors = {"w0": w0_f}
+        if q_f is not None:
+            factors["q"] = q_f
+        if gain_f is not None:
+            factors["gain"] = gain_f
+        ev = lambda fs: None if fs is None else _tidy(sympy.Mul(*[p**e for p, e in fs]))
+        return StandardForm(order, kind, ev(gain_f), ev(w0_f), ev(q_f), ev(tau_f), factors)
+
+    if order == 1 and a[0] != 0 and a[1] != 0 and a[2] == 0 and b[2] == 0:
+        w0_f, tau_f = [(a[0], 1), (a[1], -1)], [(a[1], 1), (a[0], -1)]
+        if b[1] == 0:
+            return make("lowpass", [(b[0], 1), (a[0], -1)], w0_f, None, tau_f)
+        if b[0] == 0:
+            return make("highpass", [(b[1], 1), (a[1], -1)], w0_f, None, tau_f)
+        if _zero(b[0] * a[1] + b[1] * a[0]):
+            return make("allpass", [(b[0], 1), (a[0], -1)], w0_f, None, tau_f)
+        return make("general", None, w0_f, None, tau_f)
+    if order == 2 and a[0] != 0 and a[1] != 0 and a[2] != 0:
+        w0_f = [(a[0], half), (a[2], -half)]
+        q_f = [(a[0], half), (a[2], half), (a[1], -1)]
+        nz = [k for k in range(3) if b[k] != 0]
+        if nz == [0]:
+            return make("lowpass", [(b[0], 1), (a[0], -1)], w0_f, q_f)
+        if nz == [2]:
+            return make("highpass", [(b[2], 1), (a[2], -1)], w0_f, q_f)
+        if nz == [1]:
+            return make("bandpass", [(b[1], 1), (a[1], -1)], w0_f, q_f)
+        if nz == [0, 2] and _zero(b[0] * a[2] - b[2] * a[0]):
+            return make("notch", [(b[0], 1), (a[0], -1)], w0_f, q_f)
+        if nz == [0, 1, 2] and _zero(b[0] * a[2] - b[2] * a[0]) and _zero(b[1] * a[0] + b[0] * a[1]):
+            return make("allpass", [(b[0], 1), (a[0], -1)], w0_f, q_f)
+        return make("general", None, w0_f, q_f)
+    return StandardForm(order, "general")
+
+
+@dataclass(frozen=True)
+class Cutoff:
+    """The -3 dB angular frequency (rad/s) relative to the pass-band gain.
+
+    Attributes
+    ----------
+    value : sympy.Expr or None
+        Closed form, when one exists.
+    edges : tuple or None
+        Band-pass: the lower and upper -3 dB edges (closed forms).
+    bandwidth : sympy.Expr or None
+        Band-pass: upper minus lower edge (w0/Q).
+    reason : Finding or None
+        Why there is no closed form (None when there is one).
+
+    Examples
+    --------
+    >>> Cutoff(None, reason=finding("allpass-has-no-cutoff")).value is None
+    True
+    """
+
+    value: sympy.Expr | None
+    edges: tuple | None = None
+    bandwidth: sympy.Expr | None = None
+    reason: Finding | None = None
+
+
+def second_order_root(q):
+    """sqrt(x + sqrt(x^2 + 1)) with x = 1 - 1/(2 Q^2): the -3 dB point of a second-order low-pass over w0.
+
+    From |H(jw)|^2 = 1/2 (common practice). For Q = 1/sqrt(2) it is 1.
+
+    Examples
+    --------
+    >>> sympy.simplify(second_order_root(1 / sympy.sqrt(2)))
+    1
+    """
+    x = 1 - 1 / (2 * q**2)
+    return sympy.sqrt(x + sympy.sqrt(x**2 + 1))
+
+
+def cutoff(form: StandardForm) -> Cutoff:
+    """Closed-form -3 dB cutoff from a standard form.
+
+    First order: w0. Second-order low-pass: w0 * sqrt(x + sqrt(x^2 + 1)) with
+    x = 1 - 1/(2 Q^2), valid for every Q (peaking included); high-pass: w0 divided
+    by the same root; band-pass: edges w0 (sqrt(1 + 4Q^2) -+ 1)/(2Q).
+
+    Examples
+    --------
+    >>> w, q = sympy.symbols("w0 Q", positive=True)
+    >>> cutoff(StandardForm(2, "bandpass", 1, w, q)).bandwidth
+    w0/Q
+    """
+    if form.order == 1 and form.kind in ("lowpass", "highpass"):
+        return Cutoff(form.w0)
+    if form.order == 2 and form.kind in ("lowpass", "highpass"):
+        root = second_order_root(form.q)
+        value = form.w0 * root if form.kind == "lowpass" else form.w0 / root
+        return Cutoff(value)
+    if form.order == 2 and form.kind == "bandpass":
+        w0, q = form.w0, form.q
+        lo = w0 * (sympy.sqrt(1 + 4 * q**2) - 1) / (2 * q)
+        hi = w0 * (sympy.sqrt(1 + 4 * q**2) + 1) / (2 * q)
+        return Cutoff(None, (lo, hi), _tidy(w0 / q), finding("bandpass-has-two-edges"))
+    if form.kind in ("allpass",):
+        return Cutoff(None, reason=finding("allpass-has-no-cutoff"))
+    if form.kind == "notch":
+        return Cutoff(None, reason=finding("notch-has-no-cutoff"))
+    return Cutoff(None, reason=finding("no-closed-form-cutoff", kind=form.kind, order=form.order))

@@ -1,0 +1,145 @@
+"""Numbers of a stage at the circuit's values: cutoff, f0, Q, gains, stability, sensitivities."""
+
+from __future__ import annotations
+
+import math
+from typing import TYPE_CHECKING, Mapping
+
+import sympy
+
+from symfilt.model.circuit import S
+from symfilt.analysis.network import NetworkFunction
+from symfilt.analysis.numeric import finite_float, numeric_cutoff, numeric_sensitivity
+
+if TYPE_CHECKING:
+    from symfilt.analysis.stage import StageResult
+
+
+def numeric_values(stage: StageResult, values: Mapping) -> dict:
+    """Numbers for a stage at the circuit's values: cutoff_hz, f0_hz, q, dc_gain, dc_gain_db.
+
+    A quantity whose symbols do not all have values is left out; one that is
+    undefined at these values (division by zero) is None.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> c = catalogue.build("rc-lowpass")
+    >>> a = analyse(c, sensitivity=False)
+    >>> round(numeric_values(a.ideal, c.values())["cutoff_hz"], 2)
+    1539.22
+    """
+    out: dict[str, float | None] = {}
+
+    def known(e) -> bool:
+        return e is not None and not (sympy.sympify(e).free_symbols - set(values))
+
+    def num(e):
+        return finite_float(sympy.sympify(e).xreplace(dict(values)))
+
+    if stage.cutoff.value is not None and known(stage.cutoff.value):
+        w = num(stage.cutoff.value)
+        out["cutoff_hz"] = None if w is None else w / (2 * math.pi)
+    elif stage.form.order >= 2 and stage.cutoff.edges is None and stage.form.kind == "general" or stage.form.order >= 3:
+        if not (stage.transfer.free_symbols() - {S} - set(values)):
+            w = numeric_cutoff(stage.transfer, values)
+            out["cutoff_hz"] = None if w is None else w / (2 * math.pi)
+    if stage.cutoff.edges is not None and all(known(e) for e in stage.cutoff.edges):
+        lo, hi = (num(e) for e in stage.cutoff.edges)
+        out["low_edge_hz"] = None if lo is None else lo / (2 * math.pi)
+        out["high_edge_hz"] = None if hi is None else hi / (2 * math.pi)
+    if known(stage.form.w0):
+        w0 = num(stage.form.w0)
+        out["f0_hz"] = None if w0 is None else w0 / (2 * math.pi)
+    if known(stage.form.q):
+        out["q"] = num(stage.form.q)
+    dc = stage.transfer.dc_gain()
+    if known(dc):
+        g = num(dc)
+        out["dc_gain"] = g
+        out["dc_gain_db"] = 20 * math.log10(abs(g)) if g not in (None, 0) else None
+    stab = stability(stage.transfer, values)
+    if stab is not None:
+        out["stability"] = stab
+    return out
+
+
+def stability(h: NetworkFunction, values: Mapping) -> str | None:
+    """``stable``, ``marginal`` (poles on the jw axis) or ``unstable`` (poles in the right
+    half-plane) at the given values; None when a symbol has no value.
+
+    Poles are the roots of the denominator at the values (sympy nroots, 30 digits).
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> stability(NetworkFunction.from_expr(1 / (1 + S * R * C)), {R: 1, C: 1})
+    'stable'
+    >>> stability(NetworkFunction.from_expr(1 / (1 + S**2)), {})
+    'marginal'
+    """
+    if h.infinite:
+        return None
+    den = sympy.expand(h.den.xreplace(dict(values)))
+    if den.free_symbols - {S}:
+        return None
+    poly = sympy.Poly(den, S)
+    if poly.degree() < 1:
+        return "stable"
+    roots = [complex(r) for r in poly.nroots(n=30, maxsteps=200)]
+    scale = max(1.0, max(abs(r) for r in roots))
+    worst = max(r.real for r in roots)
+    if worst > 1e-12 * scale:
+        return "unstable"
+    if worst > -1e-12 * scale:
+        return "marginal"
+    return "stable"
+
+
+def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
+    """Sensitivities of a stage as numbers at the given values.
+
+    Returns quantity -> symbol name -> float, only for tables whose every symbol has a value.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> c = catalogue.build("rc-lowpass")
+    >>> numeric_sensitivities(analyse(c).ideal, c.values())["w0"]
+    {'R1': -1.0, 'C1': -1.0}
+    """
+    out = {}
+    for quantity, table in stage.sensitivity.items():
+        if not table:
+            continue
+        row = {}
+        for name, e in table.items():
+            e = sympy.sympify(e)
+            if e.free_symbols - set(values):
+                row = None
+                break
+            row[name] = finite_float(e.xreplace(dict(values)))
+        if row is not None:
+            out[quantity] = row
+    if "cutoff" not in out and stage.sensitivity and stage.cutoff.value is None and stage.cutoff.edges is None:
+        row = _numeric_cutoff_sensitivity(stage.transfer, values)
+        if row is not None:
+            out["cutoff"] = row
+    return out
+
+
+def _numeric_cutoff_sensitivity(h: NetworkFunction, values: Mapping) -> dict | None:
+    """S_x^cutoff by a central difference in log x of the numeric cutoff (no closed form)."""
+    if h.free_symbols() - {S} - set(values) or numeric_cutoff(h, values) is None:
+        return None
+    row = {}
+    for x in sorted(h.free_symbols() - {S}, key=str):
+        x0 = values[x]
+
+        def f(v, x=x):
+            return numeric_cutoff(h, {**values, x: sympy.Rational(repr(v))})
+
+        row[str(x)] = numeric_sensitivity(f, float(x0))
+    return row
