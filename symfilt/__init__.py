@@ -12,7 +12,8 @@ from symfilt.model import catalogue
 from symfilt.analysis.stage import Analysis, StandardForm, analyse, standard_form, substitute
 from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.model.circuit import Circuit, Fixture, Part
-from symfilt.claims.judge import Equivalence, assert_equivalent, equivalent, parse_claim
+from symfilt.claims.judge import Equivalence, equivalent, parse_claim
+from symfilt.export.check_report import assert_equivalent
 from symfilt.model.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
 from symfilt.errors import (
     CircuitError,
