@@ -13,7 +13,8 @@ from symfilt.analysis.forms import StandardForm, standard_form
 from symfilt.analysis.stage import Analysis, analyse, substitute
 from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.model.circuit import Circuit, Fixture, Part
-from symfilt.claims.judge import Equivalence, assert_equivalent, equivalent, parse_claim
+from symfilt.claims.judge import Equivalence, equivalent, parse_claim
+from symfilt.export.check_report import assert_equivalent
 from symfilt.model.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
 from symfilt.errors import (
     CircuitError,

@@ -1,0 +1,247 @@
+"""Names and limits shared by the plain-text and LaTeX readers of a claim.
+
+The limits (length, nesting depth, exponent, number size, expanded size) each end
+in a :class:`~symfilt.errors.ClaimError` naming them.
+
+Examples
+--------
+>>> import sympy
+>>> lookup_name("R_1", {"R1": sympy.Symbol("R1")})
+R1
+"""
+
+from __future__ import annotations
+
+import re
+from typing import Mapping
+
+import sympy
+
+from symfilt.errors import ClaimError
+
+MAX_LENGTH = 5000  # characters in a claim
+MAX_DEPTH = 100  # nesting of brackets and operators
+MAX_EXPONENT = 64  # largest |exponent|, whole or half-integer
+MAX_DIGITS = 20000  # digits a numeric power may produce
+MAX_TERMS = 10**6  # estimated terms once brought over a common denominator
+MAX_LATEX_TOKENS = 400  # sympy's LaTeX parser (Earley) needs about 10-25 ms per token
+
+S = sympy.Symbol("s")
+GREEK = frozenset(
+    "alpha beta gamma delta epsilon zeta eta theta kappa lambda mu nu xi rho sigma "
+    "tau upsilon phi chi psi omega pi".split()
+)
+PLAIN_HELP = "use the circuit's symbols, s, j or I, w or omega, pi, sqrt(), + - * / ^ || and parentheses"
+
+
+def lookup_name(name: str, table: Mapping[str, sympy.Symbol]) -> sympy.Expr | None:
+    """Meaning of a name: a known symbol first, then the constants, then R_1 -> R1.
+
+    Parameters
+    ----------
+    name : str
+        The name as written in the claim.
+    table : Mapping[str, sympy.Symbol]
+        The names the claim may use.
+
+    Returns
+    -------
+    sympy.Expr or None
+        The symbol or constant (``w`` is s/j), or None when unknown.
+
+    Examples
+    --------
+    >>> lookup_name("w", {})
+    -I*s
+    """
+    if name in table:
+        return table[name]
+    if name in ("j", "I"):
+        return sympy.I
+    if name in ("pi", "π"):
+        return sympy.pi
+    if name in ("w", "omega", "ω"):
+        return table.get("s", S) / sympy.I  # s = j w
+    if name == "s":
+        return S
+    match = re.fullmatch(r"([A-Za-z]+)_([A-Za-z0-9]+)", name)
+    if match:
+        for candidate in (match[1] + match[2], f"{match[1]}_{match[2]}"):
+            if candidate in table:
+                return table[candidate]
+    return None
+
+
+def unknown_name(name: str, table: Mapping[str, sympy.Symbol], where: str) -> ClaimError:
+    """The error for a name the claim may not use, listing the known ones.
+
+    Parameters
+    ----------
+    name : str
+        The unknown name.
+    table : Mapping[str, sympy.Symbol]
+        The names the claim may use.
+    where : str
+        Where the claim came from.
+
+    Returns
+    -------
+    ClaimError
+        The error to raise.
+
+    Examples
+    --------
+    >>> str(unknown_name("X", {}, "claim")).split(",")[0]
+    "claim: unknown name 'X' (known symbols: none)"
+    """
+    known = ", ".join(sorted(table)) or "none"
+    return ClaimError(where, f"unknown name '{name}' (known symbols: {known})", PLAIN_HELP)
+
+
+def _digits(number: sympy.Rational) -> int:
+    return len(str(abs(number.p))) + len(str(number.q))
+
+
+def checked_power(base: sympy.Expr, exp: sympy.Expr, where: str) -> sympy.Expr:
+    """base**exp with the exponent and number-size limits.
+
+    Parameters
+    ----------
+    base, exp : sympy.Expr
+        The base and the (whole or half-integer) exponent.
+    where : str
+        Where the claim came from, for error messages.
+
+    Returns
+    -------
+    sympy.Expr
+        The power.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> checked_power(sympy.Integer(2), sympy.Integer(3), "claim")
+    8
+    """
+    if not exp.is_Rational:
+        raise ClaimError(where, f"the exponent '{exp}' is not a number", "use exponents such as 2, -1 or 1/2")
+    if (2 * exp).q != 1:
+        raise ClaimError(where, f"the exponent {exp} is not a whole or half-integer number",
+                         "use exponents such as 2, -1 or 1/2")
+    if abs(exp) > MAX_EXPONENT:
+        raise ClaimError(where, f"the exponent {exp} is over the limit of {MAX_EXPONENT}",
+                         "write the claim with smaller powers")
+    if base == 0 and exp < 0:
+        raise ClaimError(where, "the claim divides by zero", "check the denominators")
+    coeff = base.as_coeff_Mul()[0]
+    if coeff.is_Rational and _digits(coeff) * abs(exp) > MAX_DIGITS:
+        raise ClaimError(where, f"a number in the claim would have more than {MAX_DIGITS} digits",
+                         "write the claim with smaller numbers")
+    return base**exp
+
+
+def parallel(a: sympy.Expr, b: sympy.Expr) -> sympy.Expr:
+    """The parallel combination a || b = a*b/(a + b).
+
+    Parameters
+    ----------
+    a, b : sympy.Expr
+        The two impedances.
+
+    Returns
+    -------
+    sympy.Expr
+        Their parallel combination.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> parallel(sympy.Integer(2), sympy.Integer(2))
+    1
+    """
+    return a * b / (a + b)
+
+
+def _estimate(expr: sympy.Expr, cap: int) -> tuple[int, int]:
+    """Upper estimate of (numerator, denominator) terms over a common denominator."""
+    if expr.is_Atom or not expr.args:
+        return 1, 1
+    if expr.is_Add or expr.is_Mul:
+        num, den = (0, 1) if expr.is_Add else (1, 1)
+        for arg in expr.args:
+            n, d = _estimate(arg, cap)
+            num = num * d + n * den if expr.is_Add else num * n
+            num, den = min(num, cap + 1), min(den * d, cap + 1)
+        return num, den
+    if expr.is_Pow and expr.exp.is_Rational:
+        n, d = _estimate(expr.base, cap)
+        k = int(abs(expr.exp))
+        grown = tuple(_multiset(t, k, cap) for t in (n, d))
+        return grown[::-1] if expr.exp < 0 else grown
+    return 1, 1
+
+
+def _multiset(terms: int, k: int, cap: int) -> int:
+    """Number of monomials of (t terms)**k, binomial(t + k - 1, k), stopped past cap."""
+    count = 1
+    for i in range(1, k + 1):
+        count = count * (terms - 1 + i) // i
+        if count > cap:
+            return cap + 1
+    return count
+
+
+def check_size(expr: sympy.Expr, where: str) -> sympy.Expr:
+    """The claim itself, once checked finite and within ``MAX_TERMS`` when expanded.
+
+    Parameters
+    ----------
+    expr : sympy.Expr
+        The claim read.
+    where : str
+        Where the claim came from, for error messages.
+
+    Returns
+    -------
+    sympy.Expr
+        ``expr`` unchanged.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> check_size(sympy.Symbol("R1"), "claim")
+    R1
+    """
+    if expr.has(sympy.zoo, sympy.nan, sympy.oo, -sympy.oo):
+        raise ClaimError(where, "the claim divides by zero", "check the denominators")
+    num, den = _estimate(expr, MAX_TERMS)
+    if max(num, den) > MAX_TERMS:
+        raise ClaimError(where, f"the claim would expand to more than {MAX_TERMS} terms",
+                         "write it with fewer or smaller powers")
+    return expr
+
+
+def strip_lhs(text: str, where: str) -> str:
+    """The text after a single ``=`` (the left-hand side dropped), or all of it.
+
+    Parameters
+    ----------
+    text : str
+        The claim.
+    where : str
+        Where the claim came from, for error messages.
+
+    Returns
+    -------
+    str
+        The right-hand side.
+
+    Examples
+    --------
+    >>> strip_lhs("H(s) = 1/R1", "claim")
+    ' 1/R1'
+    """
+    equals = [m.start() for m in re.finditer(r"(?<![=<>!])=(?!=)", text)]
+    if len(equals) > 1:
+        raise ClaimError(where, "the claim has more than one '='", "give one formula, optionally after 'H(s) ='")
+    return text[equals[0] + 1:] if equals else text
