@@ -1,7 +1,7 @@
 """The analysis layer (standard forms, cutoff, loaded vs ideal, sensitivities, load
 limits, the JSON contract) against published formulas, worked numbers and scipy.
 
-Every check names its source beside it (see /work/shared/REFERENCES.md): a book,
+Every check names its source beside it (see tests/REFERENCES.md): a book,
 an application note, "common practice" for a fact of the trade, "from memory" for
 a recalled formula. Circuits are built here part by part with their connections
 written out. Expressions are compared exactly by ``sympy.cancel(a - b) == 0`` or,
@@ -15,7 +15,6 @@ from __future__ import annotations
 
 import json
 import math
-import random
 
 import numpy as np
 import pytest
@@ -23,6 +22,9 @@ import sympy
 from click.testing import CliRunner
 from scipy import signal
 from scipy.optimize import brentq
+
+from helpers import (close_to, equal, mfb_lowpass, parallel, rc_highpass, rc_lowpass, same, sallen_key_highpass,
+                     sallen_key_lowpass, sallen_key_lowpass_gain, w0_q_squared)
 
 from symfilt import catalogue
 from symfilt.analysis.forms import StandardForm, cutoff, second_order_root, standard_form
@@ -41,43 +43,6 @@ V = sympy.Rational
 
 
 # --- comparison helpers ---------------------------------------------------------------
-
-def same(a, b) -> bool:
-    """Exact equality of two rational expressions."""
-    return sympy.cancel(sympy.together(sympy.sympify(a) - sympy.sympify(b))) == 0
-
-
-def equal(a, b, points: int = 6, seed: int = 3) -> bool:
-    """Equality of two expressions: exactly by cancel, else at random positive points
-    (30 significant digits; every free symbol of these expressions is a positive quantity)."""
-    a, b = sympy.sympify(a), sympy.sympify(b)
-    if same(a, b):
-        return True
-    rng = random.Random(seed)
-    syms = sorted(a.free_symbols | b.free_symbols, key=str)
-    for _ in range(points):
-        pt = {x: V(rng.randint(1, 10**6), rng.randint(1, 10**6)) for x in syms}
-        va, vb = sympy.N(a.xreplace(pt), 30), sympy.N(b.xreplace(pt), 30)
-        if abs(complex(va) - complex(vb)) > 1e-20 * max(1.0, abs(complex(va))):
-            return False
-    return True
-
-
-def parallel(*zs):
-    return 1 / sum(1 / z for z in zs)
-
-
-def close_to(x: float, text: str) -> bool:
-    """x equals the published number ``text`` to the digits it is given with."""
-    decimals = len(text.split(".")[1]) if "." in text else 0
-    return abs(x - float(text)) <= 0.5 * 10.0 ** (-decimals) * 1.001
-
-
-def w0_q_squared(h: NetworkFunction):
-    """w0^2 and Q^2 read off a second-order denominator d0 + d1 s + d2 s^2 (common practice)."""
-    d0, d1, d2 = (sympy.Poly(h.den, s).coeff_monomial(s**k) for k in range(3))
-    return sympy.cancel(d0 / d2), sympy.cancel(d0 * d2 / d1**2)
-
 
 def coefficient_arrays(h: NetworkFunction, values):
     """Numerator and denominator coefficients (highest power first) as floats."""
@@ -112,50 +77,10 @@ def brentq_cutoff(h: NetworkFunction, values, passband: str = "low") -> float:
 
 # --- circuits, with their connections -------------------------------------------------
 
-def rc_lowpass(r1=None, c1=None, **fixtures) -> Circuit:
-    # R1 from in to out, C1 from out to ground.
-    return Circuit.build([Part.resistor("R1", "in", "out", r1), Part.capacitor("C1", "out", "0", c1)], **fixtures)
-
-
-def rc_highpass(c1=None, r1=None, **fixtures) -> Circuit:
-    # C1 from in to out, R1 from out to ground.
-    return Circuit.build([Part.capacitor("C1", "in", "out", c1), Part.resistor("R1", "out", "0", r1)], **fixtures)
-
-
 def rc_ladder(r1=None, c1=None, r2=None, c2=None, **fixtures) -> Circuit:
     # Passive second order: R1 in->a, C1 a->ground, R2 a->out, C2 out->ground.
     return Circuit.build([Part.resistor("R1", "in", "a", r1), Part.capacitor("C1", "a", "0", c1),
                           Part.resistor("R2", "a", "out", r2), Part.capacitor("C2", "out", "0", c2)], **fixtures)
-
-
-def sallen_key_lowpass(r1=None, r2=None, c1=None, c2=None, **fixtures) -> Circuit:
-    # R1 in->a, R2 a->b, C1 a->out (feedback), C2 b->ground, unity follower: + at b, - and out at out.
-    return Circuit.build([Part.resistor("R1", "in", "a", r1), Part.resistor("R2", "a", "b", r2),
-                          Part.capacitor("C1", "a", "out", c1), Part.capacitor("C2", "b", "0", c2),
-                          Part.opamp("U1", "b", "out", "out")], **fixtures)
-
-
-def sallen_key_lowpass_gain(r1=None, r2=None, c1=None, c2=None, rf=None, rg=None, **fixtures) -> Circuit:
-    # R1 in->a, R2 a->b, C1 a->out, C2 b->ground; op-amp + at b, - at f, output at out;
-    # Rf out->f, Rg f->ground: non-inverting gain K = 1 + Rf/Rg.
-    return Circuit.build([Part.resistor("R1", "in", "a", r1), Part.resistor("R2", "a", "b", r2),
-                          Part.capacitor("C1", "a", "out", c1), Part.capacitor("C2", "b", "0", c2),
-                          Part.opamp("U1", "b", "f", "out"), Part.resistor("Rf", "out", "f", rf),
-                          Part.resistor("Rg", "f", "0", rg)], **fixtures)
-
-
-def sallen_key_highpass(c1=None, c2=None, r1=None, r2=None, **fixtures) -> Circuit:
-    # C1 in->a, C2 a->b, R1 a->out (feedback), R2 b->ground, unity follower: + at b, - and out at out.
-    return Circuit.build([Part.capacitor("C1", "in", "a", c1), Part.capacitor("C2", "a", "b", c2),
-                          Part.resistor("R1", "a", "out", r1), Part.resistor("R2", "b", "0", r2),
-                          Part.opamp("U1", "b", "out", "out")], **fixtures)
-
-
-def mfb_lowpass(r1=None, r2=None, r3=None, c1=None, c2=None, **fixtures) -> Circuit:
-    # R1 in->x, C1 x->ground, R2 x->out, R3 x->y, C2 y->out, op-amp + at ground, - at y, output at out.
-    return Circuit.build([Part.resistor("R1", "in", "x", r1), Part.capacitor("C1", "x", "0", c1),
-                          Part.resistor("R2", "x", "out", r2), Part.resistor("R3", "x", "y", r3),
-                          Part.capacitor("C2", "y", "out", c2), Part.opamp("U1", "0", "y", "out")], **fixtures)
 
 
 def rc_into_sallen_key(**fixtures) -> Circuit:
@@ -204,7 +129,7 @@ def test_rc_highpass_loaded_cutoff_closed_form():
     assert same(a.ideal.cutoff.value, 1 / (R1 * C1))
 
 
-# REFERENCES.md worked numbers (closed form and a numeric root, computed two ways there):
+# REFERENCES.md worked numbers, computed regression values (closed form and a numeric root, computed two ways there):
 # RC low-pass, R1 = 4.7k, C1 = 22n.
 @pytest.mark.parametrize("fixtures, expected", [
     ({}, "1539.22"),
@@ -223,7 +148,8 @@ def test_rc_lowpass_worked_numbers(fixtures, expected):
 
 
 def test_rc_lowpass_worked_dc_gain_and_ratios():
-    # REFERENCES.md worked numbers: R_s = 600, R_L = 10k gives DC gain 0.653595 and 2088.40 Hz
+    # REFERENCES.md worked numbers (computed regression values):
+    # R_s = 600, R_L = 10k gives DC gain 0.653595 and 2088.40 Hz
     # against 1539.22 Hz alone; the ratios follow from Thevenin's theorem (common practice).
     a = analyse(rc_lowpass("4k7", "22n", source="600", load="10k"), sensitivity=False)
     assert close_to(a.numeric["loaded"]["dc_gain"], "0.653595")
@@ -235,7 +161,7 @@ def test_rc_lowpass_worked_dc_gain_and_ratios():
 
 
 def test_rc_highpass_worked_numbers():
-    # REFERENCES.md worked numbers: C1 = 68n, R1 = 3.9k, R_s = 600, R_L = 10k:
+    # REFERENCES.md worked numbers, computed regression values: C1 = 68n, R1 = 3.9k, R_s = 600, R_L = 10k:
     # cutoff 687.223 Hz relative to the HF gain 0.823828.
     a = analyse(rc_highpass("68n", "3k9", source="600", load="10k"), sensitivity=False)
     assert close_to(a.numeric["loaded"]["cutoff_hz"], "687.223")
@@ -275,7 +201,8 @@ def test_unity_sallen_key_lowpass_w0_q():
 
 
 def test_unity_sallen_key_lowpass_worked_numbers():
-    # REFERENCES.md worked numbers: R1 = 6.8k, R2 = 15k, C1 = 10n, C2 = 3.3n, R_s = 50, no load:
+    # REFERENCES.md worked numbers (computed regression values):
+    # R1 = 6.8k, R2 = 15k, C1 = 10n, C2 = 3.3n, R_s = 50, no load:
     # f0 = 2733.21 Hz, Q = 0.807574, cutoff 3068.26 Hz.
     a = analyse(sallen_key_lowpass("6k8", "15k", "10n", "3n3", source="50"), sensitivity=False)
     n = a.numeric["loaded"]
@@ -305,7 +232,7 @@ def test_equal_component_sallen_key_gain():
 
 
 def test_equal_component_sallen_key_worked_numbers():
-    # REFERENCES.md worked numbers: R = 8.2k, C = 6.8n, K = 1.56 (Rf = 5.6k, Rg = 10k):
+    # REFERENCES.md worked numbers, computed regression values: R = 8.2k, C = 6.8n, K = 1.56 (Rf = 5.6k, Rg = 10k):
     # f0 = 2854.29 Hz, Q = 0.694444, cutoff 2802.26 Hz; Horowitz & Hill ch. 6 (from memory): K = 3 - 1/Q.
     a = analyse(sallen_key_lowpass_gain("8k2", "8k2", "6n8", "6n8", "5k6", "10k"), sensitivity=False)
     n = a.numeric["ideal"]
@@ -344,7 +271,8 @@ def test_mfb_lowpass_w0_q_dc_gain():
 
 
 def test_mfb_lowpass_worked_numbers():
-    # REFERENCES.md worked numbers: R1 = 5.6k, R2 = 12k, R3 = 8.2k, C1 = 47n, C2 = 2.2n, R_s = 600:
+    # REFERENCES.md worked numbers (computed regression values):
+    # R1 = 5.6k, R2 = 12k, R3 = 8.2k, C1 = 47n, C2 = 2.2n, R_s = 600:
     # f0 = 1577.84 Hz, Q = 1.27109, DC gain -1.93548, cutoff 2178.21 Hz.
     a = analyse(mfb_lowpass("5k6", "12k", "8k2", "47n", "2n2", source="600"), sensitivity=False)
     n = a.numeric["loaded"]
@@ -390,7 +318,8 @@ def test_sallen_key_highpass_hand_nodal_and_formulas():
 
 
 def test_sallen_key_highpass_worked_numbers():
-    # REFERENCES.md worked numbers: C1 = C2 = 15n, R1 = 5.1k (feedback), R2 = 10k, ideal source:
+    # REFERENCES.md worked numbers (computed regression values):
+    # C1 = C2 = 15n, R1 = 5.1k (feedback), R2 = 10k, ideal source:
     # f0 = 1485.74 Hz, Q = 0.700140, cutoff 1500.67 Hz.
     a = analyse(sallen_key_highpass("15n", "15n", "5k1", "10k"), sensitivity=False)
     n = a.numeric["ideal"]
@@ -855,8 +784,8 @@ def test_json_expressions_read_back(sk_json):
     for name, info in d["symbols"].items():
         if info["value"] is not None:
             assert sympy.Rational(info["value"]) == values[name], name
-    # The worked numbers again, through the whole command (REFERENCES.md: R_s = 50; the ideal
-    # follower makes the catalogue's 2k load irrelevant).
+    # The worked numbers again (computed regression values), through the whole command
+    # (REFERENCES.md: R_s = 50; the ideal follower makes the catalogue's 2k load irrelevant).
     assert close_to(d["numeric"]["loaded"]["cutoff_hz"], "3068.26")
     assert close_to(d["numeric"]["loaded"]["q"], "0.807574")
 

@@ -3,7 +3,7 @@
 Every formula used is first checked against an independent nodal derivation
 written out in this file (KCL at each node, solved by sympy), then symfilt's
 derivation of the catalogue circuit is compared with both. Sources are named
-beside each check; see /work/shared/REFERENCES.md.
+beside each check; see tests/REFERENCES.md.
 """
 
 from __future__ import annotations
@@ -14,6 +14,8 @@ import numpy as np
 import pytest
 import sympy
 from scipy.optimize import brentq
+
+from helpers import same, solve_nodes
 
 from symfilt import catalogue
 from symfilt.analysis.stage import analyse, standard_form
@@ -36,17 +38,6 @@ EXPECTED_KIND = {
     "sallen-key-lowpass-gain": (2, "lowpass"), "mfb-bandpass": (2, "bandpass"),
     "twin-t-notch": (3, "general"), "rc-ladder": (3, "general"), "state-variable": (2, "lowpass"),
 }
-
-
-def same(a, b) -> bool:
-    return sympy.cancel(sympy.together(a - b)) == 0
-
-
-def nodal(equations, unknowns, out):
-    """Solve hand-written KCL equations (each == 0) and return the output node voltage."""
-    sol = sympy.solve(equations, unknowns, dict=True)
-    assert len(sol) == 1
-    return sympy.cancel(sol[0][out])
 
 
 def ideal(name, **values):
@@ -99,7 +90,7 @@ def sallen_key_highpass_by_hand():
     vi, va, vb = sympy.symbols("vi va vb")
     eqs = [(vi - va) * s * C1 - (va - vb) * s * C2 - (va - vb) / R1,   # KCL at a (out = b)
            (va - vb) * s * C2 - vb / R2]                                 # KCL at b
-    return nodal(eqs, [va, vb], vb).subs(vi, 1)
+    return solve_nodes(eqs, [va, vb], vb).subs(vi, 1)
 
 
 def test_sallen_key_highpass_w0_and_q():
@@ -120,7 +111,7 @@ def test_sallen_key_highpass_w0_and_q():
 
 def test_sallen_key_highpass_worked_numbers():
     # C1 = C2 = 15n, R1 = 5.1k, R2 = 10k: f0 = 1485.74 Hz, Q = 0.700140, cutoff 1500.67 Hz
-    # (REFERENCES.md worked numbers, closed form and numeric root).
+    # (REFERENCES.md worked numbers, computed regression values, closed form and numeric root).
     a = analyse(catalogue.build("sallen-key-highpass"), sensitivity=False)
     n = a.numeric["ideal"]
     assert n["f0_hz"] == pytest.approx(1485.74, abs=0.01)
@@ -148,7 +139,7 @@ def test_equal_component_sallen_key_q_is_one_over_three_minus_k():
     eqs = [(vi - va) / R - (va - vb) / R - (va - vo) * s * C,
            (va - vb) / R - vb * s * C,
            vo - K * vb]
-    by_hand = nodal(eqs, [va, vb, vo], vo).subs(vi, 1)
+    by_hand = solve_nodes(eqs, [va, vb, vo], vo).subs(vi, 1)
     w0, q = 1 / (R * C), 1 / (3 - K)
     assert same(by_hand, K / (1 + s / (w0 * q) + (s / w0) ** 2))
     h = ideal("sallen-key-lowpass-gain", R=None, C=None, Rf=None, Rg=None)
@@ -159,7 +150,8 @@ def test_equal_component_sallen_key_q_is_one_over_three_minus_k():
 
 
 def test_equal_component_sallen_key_worked_numbers():
-    # R = 8.2k, C = 6.8n, K = 1.56: f0 = 2854.29 Hz, Q = 0.694444, cutoff 2802.26 Hz (REFERENCES.md).
+    # R = 8.2k, C = 6.8n, K = 1.56: f0 = 2854.29 Hz, Q = 0.694444, cutoff 2802.26 Hz (REFERENCES.md worked numbers,
+    # computed regression values).
     a = analyse(catalogue.build("sallen-key-lowpass-gain"), sensitivity=False)
     n = a.numeric["ideal"]
     assert n["f0_hz"] == pytest.approx(2854.29, abs=0.01)
@@ -175,7 +167,7 @@ def mfb_bandpass_by_hand():
     vi, vx, vo = sympy.symbols("vi vx vo")
     eqs = [(vi - vx) / R1 - vx / R2 - (vx - vo) * s * C1 - vx * s * C2,   # KCL at x
            vx * s * C2 + vo / R3]                                           # KCL at n (V = 0)
-    return nodal(eqs, [vx, vo], vo).subs(vi, 1)
+    return solve_nodes(eqs, [vx, vo], vo).subs(vi, 1)
 
 
 def test_mfb_bandpass_centre_frequency_gain_and_q():
@@ -235,7 +227,7 @@ def test_twin_t_balanced_transfer_function():
     eqs = [(vi - va) / R - (va - vo) / R - va * s * 2 * C,
            (vi - vm) * s * C - (vm - vo) * s * C - vm * 2 / R,
            (va - vo) / R + (vm - vo) * s * C]
-    by_hand = nodal(eqs, [va, vm, vo], vo).subs(vi, 1)
+    by_hand = solve_nodes(eqs, [va, vm, vo], vo).subs(vi, 1)
     x = s * R * C
     assert same(by_hand, (1 + x**2) / (1 + 4 * x + x**2))
     h = ideal("twin-t-notch", R=None, C=None)

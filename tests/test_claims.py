@@ -3,7 +3,7 @@
 The "derived" side of every comparison is built here by nodal analysis, node by
 node with the connections written out, and solved with ``sympy.solve``; the
 claims are published formulas typed by hand, each with its source beside it
-(see /work/shared/REFERENCES.md), and deliberately wrong variants of them: the
+(see tests/REFERENCES.md), and deliberately wrong variants of them: the
 slips an engineer makes (load left out, source resistance left out, two parts
 exchanged, a lost sign, a forgotten 2*pi). No check compares printed strings of
 expressions; the diagnosis is checked for the finding it must contain.
@@ -24,6 +24,8 @@ import sympy
 from hypothesis import given, settings
 from hypothesis import strategies as st
 
+from helpers import solve_nodes
+
 from symfilt.claims.parse import MAX_DEPTH, MAX_EXPONENT, MAX_LATEX_TOKENS, MAX_LENGTH, parse_claim
 from symfilt.claims.judge import Equivalence, equivalent
 from symfilt.errors import ClaimError
@@ -33,13 +35,6 @@ s = sympy.Symbol("s")
 R1, R2, C1, C2 = sympy.symbols("R1 R2 C1 C2", positive=True)
 R_s, R_L, C_L, A_U1 = sympy.symbols("R_s R_L C_L A_U1", positive=True)
 ALL = {x.name: x for x in (R1, R2, C1, C2, R_s, R_L, C_L, A_U1, s)}
-
-
-def solve_nodes(equations, unknowns, output):
-    """Solve linear nodal equations (source voltage 1) for the output node voltage."""
-    solution = sympy.solve(equations, unknowns, dict=True)
-    assert len(solution) == 1
-    return sympy.cancel(solution[0][output])
 
 
 def rc_lowpass(source=True, load=True, load_cap=False):
@@ -91,7 +86,7 @@ def has(result, words):
 
 
 def test_rc_lowpass_derivation_matches_worked_numbers():
-    # REFERENCES.md worked numbers (two independent computations): RC low-pass R = 4.7k,
+    # REFERENCES.md worked numbers, computed regression values (two independent computations): RC low-pass R = 4.7k,
     # C = 22n, R_s = 600, R_L = 10k: cutoff 2088.40 Hz, DC gain 0.653595.
     h = rc_lowpass()
     values = {R1: 4700, C1: sympy.Rational(22, 10**9), R_s: 600, R_L: 10000}
@@ -100,7 +95,7 @@ def test_rc_lowpass_derivation_matches_worked_numbers():
 
 
 def test_sallen_key_derivation_matches_worked_numbers():
-    # REFERENCES.md worked numbers: unity Sallen-Key LP R1 = 6.8k, R2 = 15k, C1 = 10n,
+    # REFERENCES.md worked numbers, computed regression values: unity Sallen-Key LP R1 = 6.8k, R2 = 15k, C1 = 10n,
     # C2 = 3.3n, R_s = 50: f0 = 2733.21 Hz, Q = 0.807574.
     w0, q = second_order(sallen_key(source=True))
     values = {R1: 6800, R2: 15000, C1: sympy.Rational(1, 10**8), C2: sympy.Rational(33, 10**10), R_s: 50}
@@ -156,7 +151,7 @@ def test_rc_claim_without_the_load_capacitance():
 
 def test_rc_counterexample_uses_given_values_and_reports_db():
     # open-load claim against the loaded stage: at DC the load divides by 0.653595 (-3.69 dB),
-    # REFERENCES.md worked numbers
+    # REFERENCES.md worked numbers, computed regression values
     values = {"R1": 4700, "C1": 22e-9, "R_s": 600, "R_L": 10000}
     result = equivalent("1/(1 + s*C1*(R_s + R1))", rc_lowpass(), values=values)
     assert {k: result.counterexample[k] for k in values} == values

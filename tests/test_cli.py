@@ -52,7 +52,8 @@ def test_json_transfer_reads_back_and_keeps_fixtures_symbolic(run_cli):
 def test_substitute_puts_numbers_in(run_cli):
     code, out, _ = run_cli("derive", "@rc-lowpass", "--format", "json", "--substitute", "--quantity", "cutoff")
     data = json.loads(out)
-    # 1/(R1 C1) with R1 = 4k7, C1 = 22n: 1/(4700 * 22e-9) rad/s, exactly 5000000/517
+    # 1/(R1 C1) (Horowitz & Hill, 3rd ed., ch. 1, from memory) with R1 = 4k7, C1 = 22n:
+    # 1/(4700 * 22e-9) rad/s, exactly 5000000/517
     assert sympy.sympify(data["ideal"]) == sympy.Rational(5000000, 517)
 
 

@@ -1,6 +1,6 @@
 """Design assist (issue 7) against published formulas, standards and hand calculations.
 
-Each check names its source beside it (see /work/shared/REFERENCES.md). Circuits are
+Each check names its source beside it (see tests/REFERENCES.md). Circuits are
 built here part by part with their connections written out. Reference values are
 computed in the test from the published formula or by an independent nodal solve
 with numpy and a root with scipy, never with a symfilt function.
@@ -16,6 +16,8 @@ import pytest
 import sympy
 from scipy.optimize import brentq
 
+from helpers import rc_lowpass as shared_rc_lowpass, same
+
 from symfilt.model.circuit import Circuit, Part
 from symfilt.design.eseries import SERIES, series_neighbours, series_values, snap
 from symfilt.design.sizing import parse_target, size
@@ -29,10 +31,6 @@ from symfilt.design.spread import parse_tolerance, spread, vector_model
 R1, R2, C1, C2, R_s, R_L = sympy.symbols("R1 R2 C1 C2 R_s R_L", positive=True)
 A_U1 = sympy.Symbol("A_U1", positive=True)
 R, C, U = Part.resistor, Part.capacitor, Part.opamp
-
-
-def same(a, b) -> bool:
-    return sympy.cancel(sympy.together(a - b)) == 0
 
 
 def rel(a: float, b: float) -> float:
@@ -117,8 +115,8 @@ def test_unknown_series_is_a_usage_error():
 # --- size --------------------------------------------------------------------------------
 
 def rc_lowpass(r="4k7", c="22n", source="600", load="10k") -> Circuit:
-    # R1 from in to out, C1 from out to ground.
-    return Circuit.build([R("R1", "in", "out", r), C("C1", "out", "0", c)], source=source, load=load)
+    # The shared RC low-pass (R1 from in to out, C1 from out to ground) with this file's default values.
+    return shared_rc_lowpass(r, c, source=source, load=load)
 
 
 def test_size_loaded_rc_matches_thevenin_solution():
@@ -141,6 +139,7 @@ def test_size_loaded_rc_matches_thevenin_solution():
         assert rel(n.loaded, 1 / (2 * math.pi * 22e-9 * thev)) < 1e-12
         assert rel(n.ideal, 1 / (2 * math.pi * rv * 22e-9)) < 1e-12
         assert abs(n.error_pct - (n.loaded / f - 1) * 100) < 1e-9
+    # the E24 values either side of the exact R1 (IEC 60063, from memory)
     assert [float(n.values["R1"]) for n in r.neighbours] == [4700.0, 5100.0]
 
 

@@ -309,7 +309,7 @@ def test_latex_fragment_is_balanced_and_its_numbers_are_derive_numbers(analyses,
 
 def test_latex_fragment_shows_the_worked_cutoffs(analyses):
     # RC low-pass 4.7k/22n with R_s = 600 and R_L = 10k: 2088.40 Hz loaded, 1539.22 Hz alone
-    # (REFERENCES.md, worked numbers, computed two independent ways).
+    # (REFERENCES.md worked numbers: computed regression values, computed two independent ways).
     tex = note_latex(analyses["rc-lowpass"])
     assert "f_{c} &\\approx 2.088\\,\\mathrm{kHz}" in tex and "f_{c} &\\approx 1.539\\,\\mathrm{kHz}" in tex
 

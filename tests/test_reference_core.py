@@ -1,6 +1,6 @@
 """The derivation engine against published formulas and worked numbers.
 
-Every check names its source beside it (see /work/shared/REFERENCES.md). The
+Every check names its source beside it (see tests/REFERENCES.md). The
 circuits are built here, part by part, with their node connections written out, so
 that the tests do not lean on the catalogue; one test then checks that the
 catalogue's circuits are the same circuits.
@@ -19,6 +19,9 @@ import pytest
 import sympy
 from scipy.optimize import brentq
 
+from helpers import (close_to, mfb_lowpass, parallel, rc_highpass, rc_lowpass, same, sallen_key_highpass,
+                     sallen_key_lowpass, sallen_key_lowpass_gain, w0_q_squared)
+
 from symfilt import catalogue
 from symfilt.model.circuit import Circuit, Part
 from symfilt.analysis.network import derive
@@ -29,26 +32,7 @@ R_s, R_L, C_L = sympy.symbols("R_s R_L C_L", positive=True)
 A_U1 = sympy.Symbol("A_U1", positive=True)
 
 
-def same(a, b) -> bool:
-    """Exact equality of two rational expressions."""
-    return sympy.cancel(sympy.together(a - b)) == 0
-
-
-def parallel(*zs):
-    return 1 / sum(1 / z for z in zs)
-
-
 # --- circuits, with their connections -------------------------------------------
-
-def rc_lowpass(**fixtures) -> Circuit:
-    # R1 from in to out, C1 from out to ground.
-    return Circuit.build([Part.resistor("R1", "in", "out"), Part.capacitor("C1", "out", "0")], **fixtures)
-
-
-def rc_highpass(**fixtures) -> Circuit:
-    # C1 from in to out, R1 from out to ground.
-    return Circuit.build([Part.capacitor("C1", "in", "out"), Part.resistor("R1", "out", "0")], **fixtures)
-
 
 def inverting_lowpass(model="ideal", **fixtures) -> Circuit:
     # R1 from in to n, R2 and C1 both from n to out, op-amp + at ground, - at n, output at out.
@@ -61,36 +45,6 @@ def inverting_amplifier(model="gain", **fixtures) -> Circuit:
     # R1 from in to n, R2 from n to out, op-amp + at ground, - at n, output at out.
     return Circuit.build([Part.resistor("R1", "in", "n"), Part.resistor("R2", "n", "out"),
                           Part.opamp("U1", "0", "n", "out", model=model)], **fixtures)
-
-
-def sallen_key_lowpass(**fixtures) -> Circuit:
-    # R1 in->a, R2 a->b, C1 a->out (feedback), C2 b->ground, unity follower b->out.
-    return Circuit.build([Part.resistor("R1", "in", "a"), Part.resistor("R2", "a", "b"),
-                          Part.capacitor("C1", "a", "out"), Part.capacitor("C2", "b", "0"),
-                          Part.opamp("U1", "b", "out", "out")], **fixtures)
-
-
-def sallen_key_lowpass_gain(**fixtures) -> Circuit:
-    # R1 in->a, R2 a->b, C1 a->out, C2 b->ground; op-amp + at b, - at f, out at out;
-    # Rf out->f, Rg f->ground: gain K = 1 + Rf/Rg.
-    return Circuit.build([Part.resistor("R1", "in", "a"), Part.resistor("R2", "a", "b"),
-                          Part.capacitor("C1", "a", "out"), Part.capacitor("C2", "b", "0"),
-                          Part.opamp("U1", "b", "f", "out"), Part.resistor("Rf", "out", "f"),
-                          Part.resistor("Rg", "f", "0")], **fixtures)
-
-
-def sallen_key_highpass(**fixtures) -> Circuit:
-    # C1 in->a, C2 a->b, R1 a->out (feedback), R2 b->ground, unity follower b->out.
-    return Circuit.build([Part.capacitor("C1", "in", "a"), Part.capacitor("C2", "a", "b"),
-                          Part.resistor("R1", "a", "out"), Part.resistor("R2", "b", "0"),
-                          Part.opamp("U1", "b", "out", "out")], **fixtures)
-
-
-def mfb_lowpass(**fixtures) -> Circuit:
-    # R1 in->x, C1 x->ground, R2 x->out, R3 x->y, C2 y->out, op-amp + at ground, - at y.
-    return Circuit.build([Part.resistor("R1", "in", "x"), Part.capacitor("C1", "x", "0"),
-                          Part.resistor("R2", "x", "out"), Part.resistor("R3", "x", "y"),
-                          Part.capacitor("C2", "y", "out"), Part.opamp("U1", "0", "y", "out")], **fixtures)
 
 
 def lc_lowpass(**fixtures) -> Circuit:
@@ -120,19 +74,6 @@ def cutoff_hz(h, values, passband: str) -> float:
     assert f(lo) * f(hi) < 0
     w = brentq(f, lo, hi, xtol=1e-12, rtol=1e-14, maxiter=500)
     return w / (2 * math.pi)
-
-
-def w0_q(h):
-    """w0^2 and Q^2 read off a second-order denominator d0 + d1 s + d2 s^2."""
-    d0, d1, d2 = (sympy.Poly(h.den, s).coeff_monomial(s**k) for k in range(3))
-    assert sympy.degree(h.den, s) == 2
-    return sympy.cancel(d0 / d2), sympy.cancel(d0 * d2 / d1**2)
-
-
-def close_to(x: float, text: str) -> bool:
-    """x equals the published number ``text`` to the digits it is given with."""
-    decimals = len(text.split(".")[1]) if "." in text else 0
-    return abs(x - float(text)) <= 0.5 * 10.0 ** (-decimals) * 1.001
 
 
 V = sympy.Rational
@@ -188,7 +129,7 @@ def test_rc_highpass_loaded_transfer():
     assert same(h.ideal().as_expr(), s * R1 * C1 / (1 + s * R1 * C1))
 
 
-# REFERENCES.md, worked numbers (closed form and a numeric root, computed two ways there).
+# REFERENCES.md worked numbers, computed regression values (closed form and a numeric root, computed two ways there).
 @pytest.mark.parametrize("fixtures, expected", [
     ({}, "1539.22"),
     ({"source": "600"}, "1364.97"),
@@ -205,14 +146,14 @@ def test_rc_lowpass_worked_cutoffs(fixtures, expected):
 
 
 def test_rc_lowpass_worked_dc_gain():
-    # REFERENCES.md worked numbers: R_s = 600, R_L = 10k gives DC gain 0.653595.
+    # REFERENCES.md worked numbers, computed regression values: R_s = 600, R_L = 10k gives DC gain 0.653595.
     h = derive(rc_lowpass(source="symbol", load="symbol"))
     g = h.subs({R1: val("4.7k"), C1: val("22n"), R_s: 600, R_L: val("10k")}).dc_gain()
     assert close_to(float(g), "0.653595")
 
 
 def test_rc_highpass_worked_numbers():
-    # REFERENCES.md worked numbers: R1 = 3.9k, C1 = 68n, R_s = 600, R_L = 10k:
+    # REFERENCES.md worked numbers, computed regression values: R1 = 3.9k, C1 = 68n, R_s = 600, R_L = 10k:
     # HF gain 0.823828, cutoff 687.223 Hz (relative to the HF gain).
     h = derive(rc_highpass(source="symbol", load="symbol"))
     values = {R1: val("3.9k"), C1: val("68n"), R_s: 600, R_L: val("10k")}
@@ -321,7 +262,7 @@ def test_unity_sallen_key_lowpass_w0_q():
     # TI SLOA024, Analysis of the Sallen-Key Architecture (from memory):
     # w0 = 1/sqrt(R1 R2 C1 C2), Q = sqrt(R1 R2 C1 C2) / (C2 (R1 + R2)); DC gain 1.
     h = derive(sallen_key_lowpass(source="symbol", load="symbol")).ideal()
-    w02, q2 = w0_q(h)
+    w02, q2 = w0_q_squared(h)
     assert same(w02, 1 / (R1 * R2 * C1 * C2))
     assert same(q2, R1 * R2 * C1 * C2 / (C2 * (R1 + R2)) ** 2)
     assert h.dc_gain() == 1
@@ -332,11 +273,11 @@ def test_unity_sallen_key_lowpass_w0_q():
 
 
 def test_unity_sallen_key_lowpass_worked_numbers():
-    # REFERENCES.md worked numbers: R1 = 6.8k, R2 = 15k, C1 = 10n, C2 = 3.3n, R_s = 50:
+    # REFERENCES.md worked numbers, computed regression values: R1 = 6.8k, R2 = 15k, C1 = 10n, C2 = 3.3n, R_s = 50:
     # f0 = 2733.21 Hz, Q = 0.807574, cutoff 3068.26 Hz.
     h = derive(sallen_key_lowpass(source="symbol"))
     values = {R1: val("6.8k"), R2: val("15k"), C1: val("10n"), C2: val("3.3n"), R_s: 50}
-    w02, q2 = w0_q(h.subs(values))
+    w02, q2 = w0_q_squared(h.subs(values))
     assert close_to(math.sqrt(float(w02)) / (2 * math.pi), "2733.21")
     assert close_to(math.sqrt(float(q2)), "0.807574")
     assert close_to(cutoff_hz(h, values, "low"), "3068.26")
@@ -348,7 +289,7 @@ def test_equal_component_sallen_key_gain():
     R, C = sympy.symbols("R C", positive=True)
     h = derive(sallen_key_lowpass_gain())
     h_eq = h.subs({R1: R, R2: R, C1: C, C2: C})
-    w02, q2 = w0_q(h_eq)
+    w02, q2 = w0_q_squared(h_eq)
     k = 1 + Rf / Rg
     assert same(w02, 1 / (R * C) ** 2)
     assert same(q2, 1 / (3 - k) ** 2)
@@ -356,22 +297,23 @@ def test_equal_component_sallen_key_gain():
 
 
 def test_equal_component_sallen_key_worked_numbers():
-    # REFERENCES.md worked numbers: R = 8.2k, C = 6.8n, K = 1.56 (Rf = 5.6k, Rg = 10k):
+    # REFERENCES.md worked numbers, computed regression values: R = 8.2k, C = 6.8n, K = 1.56 (Rf = 5.6k, Rg = 10k):
     # f0 = 2854.29 Hz, Q = 0.694444, cutoff 2802.26 Hz.
     h = derive(sallen_key_lowpass_gain())
     values = {R1: val("8.2k"), R2: val("8.2k"), C1: val("6.8n"), C2: val("6.8n"), Rf: val("5.6k"), Rg: val("10k")}
-    w02, q2 = w0_q(h.subs(values))
+    w02, q2 = w0_q_squared(h.subs(values))
     assert close_to(math.sqrt(float(w02)) / (2 * math.pi), "2854.29")
     assert close_to(math.sqrt(float(q2)), "0.694444")
     assert close_to(cutoff_hz(h, values, "low"), "2802.26")
 
 
 def test_unity_sallen_key_highpass_worked_numbers():
-    # REFERENCES.md worked numbers: C1 = C2 = 15n, R1 = 5.1k (feedback), R2 = 10k (to ground):
+    # REFERENCES.md worked numbers (computed regression values):
+    # C1 = C2 = 15n, R1 = 5.1k (feedback), R2 = 10k (to ground):
     # f0 = 1485.74 Hz, Q = 0.700140, cutoff 1500.67 Hz; HF gain 1 (unity follower).
     h = derive(sallen_key_highpass())
     values = {C1: val("15n"), C2: val("15n"), R1: val("5.1k"), R2: val("10k")}
-    w02, q2 = w0_q(h.subs(values))
+    w02, q2 = w0_q_squared(h.subs(values))
     assert close_to(math.sqrt(float(w02)) / (2 * math.pi), "1485.74")
     assert close_to(math.sqrt(float(q2)), "0.700140")
     assert h.hf_gain() == 1 and h.dc_gain() == 0
@@ -391,7 +333,7 @@ def test_mfb_lowpass():
     # H(0) = -R2/R1, w0 = 1/sqrt(R2 R3 C1 C2), Q = sqrt(R2 R3 C1 C2) / (C2 (R2 + R3 + R2 R3 / R1)).
     h = derive(mfb_lowpass(source="symbol", load="symbol")).ideal()
     assert same(h.dc_gain(), -R2 / R1)
-    w02, q2 = w0_q(h)
+    w02, q2 = w0_q_squared(h)
     assert same(w02, 1 / (R2 * R3 * C1 * C2))
     assert same(q2, R2 * R3 * C1 * C2 / (C2 * (R2 + R3 + R2 * R3 / R1)) ** 2)
     # Common practice: R_s is in series with R1 (the source drives R1 alone); R_L drops out.
@@ -401,12 +343,13 @@ def test_mfb_lowpass():
 
 
 def test_mfb_lowpass_worked_numbers():
-    # REFERENCES.md worked numbers: R1 = 5.6k, R2 = 12k, R3 = 8.2k, C1 = 47n, C2 = 2.2n, R_s = 600:
+    # REFERENCES.md worked numbers (computed regression values):
+    # R1 = 5.6k, R2 = 12k, R3 = 8.2k, C1 = 47n, C2 = 2.2n, R_s = 600:
     # f0 = 1577.84 Hz, Q = 1.27109, DC gain -1.93548, cutoff 2178.21 Hz.
     h = derive(mfb_lowpass(source="symbol"))
     values = {R1: val("5.6k"), R2: val("12k"), R3: val("8.2k"), C1: val("47n"), C2: val("2.2n"), R_s: 600}
     hv = h.subs(values)
-    w02, q2 = w0_q(hv)
+    w02, q2 = w0_q_squared(hv)
     assert close_to(math.sqrt(float(w02)) / (2 * math.pi), "1577.84")
     assert close_to(math.sqrt(float(q2)), "1.27109")
     assert close_to(float(hv.dc_gain()), "-1.93548")
