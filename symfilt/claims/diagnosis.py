@@ -85,6 +85,12 @@ def _limit(expr: sympy.Expr | None, x: sympy.Symbol, at_zero: bool) -> sympy.Exp
     return rational_limit(expr, x, 0 if at_zero else "oo")
 
 
+# ---------------------------------------------------------------- the usual slips
+
+#: Fixture symbol -> (limit at zero?, what leaving it out means).
+_FIXTURES = {"R_L": (False, "load"), "C_L": (True, "load-capacitance"), "R_s": (True, "source-resistance")}
+
+
 def _candidate_limits(missing: list[sympy.Symbol]) -> tuple[list, list]:
     """(fixture and op-amp limits, single-part limits) for the symbols the claim lacks."""
     fixtures, parts = [], []
