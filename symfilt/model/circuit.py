@@ -18,13 +18,13 @@ import difflib
 import keyword
 import math
 import re
-import unicodedata
 from dataclasses import dataclass, field, replace
 from typing import Iterable, Mapping
 
 import sympy
 
 from symfilt.errors import CircuitError, SizeLimitError, ValueParseError
+from symfilt.model.names import GROUND, MAX_NAME, clip_name, is_ground, node_name
 from symfilt.model.values import parse_value
 
 #: Part kinds and their pins.
@@ -46,60 +46,8 @@ CONTROL_KINDS = ("resistor", "capacitor", "inductor", "vcvs", "ccvs")
 SOURCE_R, LOAD_R, LOAD_C = "R_s", "R_L", "C_L"
 #: The Laplace variable.
 S = sympy.Symbol("s")
-GROUND = "0"
-#: Longest part or node name, in characters.
-MAX_NAME = 32
 _NAME = re.compile(r"[A-Za-z][A-Za-z0-9_]*")
 _RESERVED = {"s", SOURCE_R, LOAD_R, LOAD_C, "pi", "oo", "j", "w", "omega"}
-#: Unicode categories refused in names: control, format (bidirectional marks), surrogate, private, unassigned.
-_BAD_CATEGORIES = ("Cc", "Cf", "Cs", "Co", "Cn")
-
-
-def clip_name(text: object, limit: int = MAX_NAME) -> str:
-    """A name as it may appear in a message: one line, printable, at most ``limit`` characters.
-
-    Control and other invisible characters are shown as escapes; text that is not
-    a string is shown by its ``repr``.
-
-    Examples
-    --------
-    >>> print(clip_name("R\\x1b[2J"))
-    'R\\x1b[2J'
-    >>> clip_name("x" * 50)
-    'xxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxx...'
-    """
-    if not isinstance(text, str):
-        shown = repr(text)
-    elif any(unicodedata.category(ch) in _BAD_CATEGORIES or ch.isspace() and ch != " " for ch in text):
-        shown = ascii(text)
-    else:
-        shown = text
-    return shown if len(shown) <= limit else shown[:limit] + "..."
-
-
-def is_ground(node: str) -> bool:
-    """True when a node name means ground (``0`` or ``gnd``, any case).
-
-    Examples
-    --------
-    >>> is_ground("GND"), is_ground("0"), is_ground("out")
-    (True, True, False)
-    """
-    return node.strip().lower() in ("0", "gnd")
-
-
-def _node(name: object, where: str) -> str:
-    if not isinstance(name, str) or not name.strip():
-        raise CircuitError(where, f"node {clip_name(name)} is not a name",
-                           "write node names as non-empty text such as \"in\" or \"gnd\"")
-    name = name.strip()
-    if len(name) > MAX_NAME:
-        raise SizeLimitError(where, f"a node name is {len(name)} characters long, over the limit of {MAX_NAME}",
-                             "use a shorter node name")
-    if any(unicodedata.category(ch) in _BAD_CATEGORIES or ch.isspace() and ch != " " for ch in name):
-        raise CircuitError(where, f"node name {clip_name(name)} holds a control or invisible character",
-                           "write node names with visible characters only")
-    return GROUND if is_ground(name) else name
 
 
 def _value(text, where: str):
@@ -246,7 +194,7 @@ class Part:
         if len(nodes) != len(PART_PINS[kind]):
             raise CircuitError(where, f"a {kind} has {len(PART_PINS[kind])} pins ({', '.join(PART_PINS[kind])}), got {len(nodes)}",
                                "list exactly those pins")
-        nodes = tuple(_node(n, where) for n in nodes)
+        nodes = tuple(node_name(n, where) for n in nodes)
         if kind == "opamp":
             if not isinstance(model, str) or model not in OPAMP_MODELS:
                 raise CircuitError(where, f"unknown op-amp model {clip_name(model)!r}", "use one of " + ", ".join(OPAMP_MODELS))
@@ -412,7 +360,7 @@ class Circuit:
         >>> Circuit.build([Part.resistor("R1", "in", "out", "1k")], source="50").source.value
         50
         """
-        c = cls(parts=tuple(parts), input=_node(input, "ports input"), output=_node(output, "ports output"),
+        c = cls(parts=tuple(parts), input=node_name(input, "ports input"), output=node_name(output, "ports output"),
                 source=Fixture.parse(source, "source resistance"),
                 load_resistance=Fixture.parse(load, "load resistance"),
                 load_capacitance=Fixture.parse(load_capacitance, "load capacitance"), title=title)

@@ -207,9 +207,9 @@ def _suggest(word: str, choices) -> str:
 
 
 def _port(v, where: str) -> str:
-    from symfilt.model.circuit import _node
+    from symfilt.model.circuit import node_name
 
-    return _node(v, where)
+    return node_name(v, where)
 
 
 def _table(data: dict, key: str, name: str) -> dict:

@@ -1,0 +1,90 @@
+"""Names of nodes and parts as messages show them, ground, and the node-name rules.
+
+>>> is_ground("GND"), node_name(" out ", "ports output")
+(True, 'out')
+"""
+
+from __future__ import annotations
+
+import unicodedata
+
+from symfilt.errors import CircuitError, SizeLimitError
+
+#: The ground node as stored (``0`` or ``gnd`` in any case in a file).
+GROUND = "0"
+#: Longest part or node name, in characters.
+MAX_NAME = 32
+#: Unicode categories refused in names: control, format (bidirectional marks), surrogate, private, unassigned.
+_BAD_CATEGORIES = ("Cc", "Cf", "Cs", "Co", "Cn")
+
+
+def clip_name(text: object, limit: int = MAX_NAME) -> str:
+    """A name as it may appear in a message: one line, printable, at most ``limit`` characters.
+
+    Control and other invisible characters are shown as escapes; text that is not
+    a string is shown by its ``repr``.
+
+    Examples
+    --------
+    >>> print(clip_name("R\\x1b[2J"))
+    'R\\x1b[2J'
+    >>> clip_name("x" * 50)
+    'xxxxxxxxxxxxxxxxxxxxxxxxxxxxxxxx...'
+    """
+    if not isinstance(text, str):
+        shown = repr(text)
+    elif any(unicodedata.category(ch) in _BAD_CATEGORIES or ch.isspace() and ch != " " for ch in text):
+        shown = ascii(text)
+    else:
+        shown = text
+    return shown if len(shown) <= limit else shown[:limit] + "..."
+
+
+def is_ground(node: str) -> bool:
+    """True when a node name means ground (``0`` or ``gnd``, any case).
+
+    Examples
+    --------
+    >>> is_ground("GND"), is_ground("0"), is_ground("out")
+    (True, True, False)
+    """
+    return node.strip().lower() in ("0", "gnd")
+
+
+def node_name(name: object, where: str) -> str:
+    """A node name checked and cleaned: stripped, ground spelled ``"0"``.
+
+    Parameters
+    ----------
+    name : object
+        The node name as given (text is expected).
+    where : str
+        The place to name in an error message.
+
+    Returns
+    -------
+    str
+
+    Raises
+    ------
+    CircuitError
+        For an empty name or one holding control or invisible characters.
+    SizeLimitError
+        For a name over the length limit.
+
+    Examples
+    --------
+    >>> node_name(" GND ", "ports input"), node_name("out", "ports output")
+    ('0', 'out')
+    """
+    if not isinstance(name, str) or not name.strip():
+        raise CircuitError(where, f"node {clip_name(name)} is not a name",
+                           "write node names as non-empty text such as \"in\" or \"gnd\"")
+    name = name.strip()
+    if len(name) > MAX_NAME:
+        raise SizeLimitError(where, f"a node name is {len(name)} characters long, over the limit of {MAX_NAME}",
+                             "use a shorter node name")
+    if any(unicodedata.category(ch) in _BAD_CATEGORIES or ch.isspace() and ch != " " for ch in name):
+        raise CircuitError(where, f"node name {clip_name(name)} holds a control or invisible character",
+                           "write node names with visible characters only")
+    return GROUND if is_ground(name) else name
