@@ -15,6 +15,7 @@ from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.model.circuit import Circuit, Fixture, Part
 from symfilt.claims.judge import Equivalence, equivalent, parse_claim
 from symfilt.export.check_report import assert_equivalent
+from symfilt.design.report import Report, report
 from symfilt.model.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
 from symfilt.errors import (
     CircuitError,
@@ -44,6 +45,7 @@ __all__ = [
     "NetworkFunction",
     "OutputError",
     "Part",
+    "Report",
     "SingularCircuitError",
     "SizeLimitError",
     "StandardForm",
@@ -62,6 +64,7 @@ __all__ = [
     "parse_circuit_text",
     "parse_claim",
     "parse_value",
+    "report",
     "standard_form",
     "substitute",
 ]

@@ -7,13 +7,12 @@ difference, 2 bad input or usage (one line ``error: <where>: <what>, <how to fix
 from __future__ import annotations
 
 import sys
-from pathlib import Path
 
 import click
 
 from symfilt.errors import SymfiltError, UsageError
 
-FORMATS = ("text", "latex", "mathml", "json")
+FORMATS = ("text", "latex", "mathml", "json")  # the names of symfilt.export.formats.DERIVE_FORMATS
 CLI_QUANTITIES = ("transfer", "dc-gain", "cutoff", "w0", "q", "zin", "zout", "sensitivity")
 
 
@@ -130,61 +129,17 @@ def cli():
               help="Size budget of the elimination (terms per polynomial).")
 def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_terms):
     """Derive H(s), gains, w0, Q, cutoff, Zin, Zout and sensitivities of CIRCUIT (a file or @name)."""
-    from symfilt.analysis.stage import analyse, substitute as put_values
-    from symfilt.analysis.loading import load_limits
-    from symfilt.engine.elimination import DEFAULT_MAX_TERMS
-    from symfilt.model.structure import structure_warnings
+    from symfilt.design.report import report
+    from symfilt.export.formats import derive_renderer
 
-    original = c = load(circuit)
-    if opamp_model:
-        c = c.with_opamp_model(opamp_model)
-    opamp_section = None
-    if opamp_model in ("gain", "single-pole") and any(p.kind == "opamp" for p in original.parts):
-        opamp_section = _opamp_error_section(original, opamp_model, "json" if fmt == "json" else "text")
-    for w in structure_warnings(c):
-        click.echo(f"warning: {w}", err=True)
+    render = derive_renderer(fmt)
+    c = load(circuit)
     tol = _percent(load_limit, "--load-limit") if load_limit else None
-    want_sens = quantity in (None, "sensitivity")
-    a = analyse(c, sensitivity=want_sens, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=_progress())
-    limits = load_limits(a, tol) if tol is not None else None
-    shown = put_values(a) if substitute else a
-    if fmt == "json":
-        from symfilt.export import json as jx
-        from symfilt.export.findings import describe
-
-        extra = {}
-        if limits is not None:
-            extra["load_limit"] = [{"fixture": x.fixture, "bound": x.bound, "tolerance": x.tolerance,
-                                    "value": x.value, "exact": None if x.exact is None else str(x.exact),
-                                    "note": describe(x.note) or None} for x in limits]
-        if opamp_section is not None:
-            extra["opamp_error"] = opamp_section
-        data = jx.analysis_dict(shown, extra)
-        if quantity:
-            data = _select_json(data, quantity)
-        _emit(jx.dumps(data) + "\n")
-    elif fmt == "latex":
-        from symfilt.export import latex
-
-        _emit(latex.render(shown, quantity))
-    elif fmt == "mathml":
-        from symfilt.export import mathml
-
-        _emit(mathml.render(shown, quantity))
-    else:
-        from symfilt.export import text
-
-        out = text.render(shown, quantity, limits)
-        if opamp_section is not None:
-            out += "\n" + opamp_section
-        _emit(out)
-
-
-def _select_json(data: dict, quantity: str) -> dict:
-    key = {"transfer": "transfer", "dc-gain": "dc_gain", "cutoff": "cutoff", "w0": "w0", "q": "q",
-           "zin": "input_impedance", "zout": "output_impedance", "sensitivity": "sensitivity"}[quantity]
-    return {"title": data["title"], "quantity": quantity,
-            "loaded": data["loaded"][key], "ideal": data["ideal"][key], "symbols": data["symbols"]}
+    r = report(c, load_limit=tol, opamp_model=opamp_model, substitute=substitute,
+               sensitivity=quantity in (None, "sensitivity"), max_terms=max_terms, progress=_progress())
+    for w in r.warnings:
+        click.echo(f"warning: {w}", err=True)
+    _emit(render(r, quantity))
 
 
 @cli.command(short_help="Is a hand derivation equal to the derived quantity? Says where not.")
@@ -241,15 +196,6 @@ def catalogue(name, write):
 
 DESIGN_FORMATS = ("text", "json")
 SERIES_NAMES = ("E6", "E12", "E24", "E48", "E96", "E192")
-
-
-def _opamp_error_section(original, opamp_model, fmt):
-    """The op-amp error of ``derive --opamp-model gain|single-pole``: a dict (json) or text."""
-    from symfilt.export import design_report
-    from symfilt.design.opamp_error import opamp_error
-
-    err = opamp_error(original, opamp_model)
-    return design_report.opamp_error_dict(err) if fmt == "json" else design_report.opamp_error_text(err)
 
 
 def _spread_progress():
@@ -355,7 +301,7 @@ def _frequency(text, where: str):
               help="Switch every op-amp to this model.")
 def note(circuit, output, fmin, fmax, opamp_model):
     """Write a design note for CIRCUIT (a file or @name): parts, equations, loaded vs ideal, sensitivities, Bode plot."""
-    from symfilt.export.note import write_note
+    from symfilt.export.note_write import write_note
 
     c = load(circuit)
     if opamp_model:
@@ -385,11 +331,9 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
     if not output and not csv_file:
         raise UsageError("plot", "nothing to write", "give -o FILE (.svg or .png) and/or --csv FILE")
     if output:
-        from symfilt.export.plot import FORMATS
+        from symfilt.export.formats import plot_format
 
-        if Path(output).suffix.lower() not in FORMATS:
-            raise UsageError(output, f"cannot draw to a {Path(output).suffix or 'suffix-less'} file",
-                             "name the plot file .svg or .png")
+        plot_format(output, where=output)
     c = load(circuit)
     if opamp_model:
         c = c.with_opamp_model(opamp_model)

@@ -218,3 +218,53 @@ def test_large_functions_are_written_from_the_engine_and_read_back(run_cli, monk
         assert sympy.cancel(read(d["numerator"]) / read(d["denominator"]) - st.transfer.as_expr()) == 0
         assert sympy.cancel(read(d["input_impedance"]) - st.zin.as_expr()) == 0
         assert sympy.cancel(read(d["output_impedance"]) - st.zout.as_expr()) == 0
+
+
+# --- symfilt.report: what the CLI prints, from Python ----------------------------------
+
+@pytest.mark.parametrize("fmt", ["json", "text"])
+def test_derive_prints_the_exporter_of_symfilt_report(run_cli, fmt):
+    # The CLI is a thin layer: its output is the exporter applied to symfilt.report().
+    import symfilt
+    from symfilt.export.formats import DERIVE_FORMATS
+
+    args = ["derive", "@inverting-lowpass", "--format", fmt, "--load-limit", "5%", "--opamp-model", "gain"]
+    code, out, err = run_cli(*args)
+    assert code == 0, err
+    r = symfilt.report(catalogue.build("inverting-lowpass"), load_limit=0.05, opamp_model="gain")
+    assert isinstance(r, symfilt.Report) and r.opamp_error is not None and r.load_limits is not None
+    expected = DERIVE_FORMATS[fmt](r)
+    assert out == expected
+    if fmt == "json":
+        data = json.loads(out)
+        assert "opamp_error" in data and "load_limit" in data
+
+
+def test_report_rejects_a_bad_load_limit_and_model():
+    import symfilt
+    from symfilt.errors import UsageError
+
+    with pytest.raises(UsageError, match="load_limit"):
+        symfilt.report(catalogue.build("rc-lowpass"), load_limit=2.0)
+    with pytest.raises(UsageError, match="opamp_model"):
+        symfilt.report(catalogue.build("rc-lowpass"), opamp_model="perfect")
+
+
+def test_drawing_leaves_the_users_matplotlib_backend_alone(tmp_path, run_cli):
+    # A notebook's backend must survive symfilt's plots, histograms and notes: symfilt draws on
+    # its own Figure and canvas and never calls matplotlib.use.
+    import matplotlib
+
+    before = matplotlib.get_backend()
+    try:
+        matplotlib.use("svg")
+        for args in (["plot", "@rc-lowpass", "-o", str(tmp_path / "b.png")],
+                     ["note", "@rc-lowpass", "-o", str(tmp_path / "n.md")],
+                     ["spread", "@rc-lowpass", "--tol", "R=1%", "--runs", "200", "--seed", "1",
+                      "--plot", str(tmp_path / "h.png")]):
+            code, _, err = run_cli(*args)
+            assert code == 0, err
+            assert matplotlib.get_backend() == "svg"
+    finally:
+        matplotlib.use(before)
+    assert matplotlib.get_backend() == before

@@ -25,7 +25,7 @@ from symfilt.analysis.stage import analyse
 from symfilt.analysis.bode import bode_data, csv_text
 from symfilt.errors import OutputError, UsageError
 from symfilt.export import json as jx
-from symfilt.export.note import note_latex, note_markdown, write_note
+from symfilt.export.note_write import note_latex, note_markdown, write_note
 from symfilt.export.note_html import note_html
 from symfilt.export.plot import bode_svg, plot_bode, render_bode
 

@@ -198,7 +198,8 @@ def progress_line(done: int, total: int, width: int = 30) -> str:
 def write_histogram(r, path, *, protect=()) -> None:
     """Draw a histogram of each spread quantity and save it atomically (png, svg or pdf by suffix).
 
-    matplotlib is imported here only.
+    matplotlib is imported here only, its object-oriented interface alone: no pyplot, no
+    backend switch.
 
     Examples
     --------
@@ -215,15 +216,14 @@ def write_histogram(r, path, *, protect=()) -> None:
     fmt = Path(path).suffix.lower().lstrip(".")
     if fmt not in ("png", "svg", "pdf"):
         raise OutputError(str(path), f"unknown image type {fmt!r}", "end the file name in .png, .svg or .pdf")
-    import matplotlib
-
-    matplotlib.use("Agg", force=False)
+    from matplotlib.backends.backend_agg import FigureCanvasAgg
     from matplotlib.figure import Figure
 
     keys = [k for k, q in r.quantities.items() if q.std > 0 and k in r.samples]
     if not keys:
         raise OutputError(str(path), "no quantity varies", "give tolerances to parts that set the response")
     fig = Figure(figsize=(6.4, 2.4 * len(keys)))
+    FigureCanvasAgg(fig)  # our own canvas: the user's pyplot backend is never touched
     for i, k in enumerate(keys):
         ax = fig.add_subplot(len(keys), 1, i + 1)
         q = r.quantities[k]

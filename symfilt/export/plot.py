@@ -13,13 +13,14 @@ import re
 from pathlib import Path
 
 from symfilt.errors import UsageError
+from symfilt.export.formats import PLOT_FORMATS, plot_format
 
 #: Line colours of the two views (our own palette).
 COLOURS = {"loaded": "#a23b2a", "ideal": "#2f5d8a"}
 #: Line styles of the two views.
 STYLES = {"loaded": "-", "ideal": (0, (5, 3))}
-#: Output formats by file suffix.
-FORMATS = {".svg": "svg", ".png": "png"}
+#: Output formats by file suffix (the table of :mod:`symfilt.export.formats`).
+FORMATS = PLOT_FORMATS
 #: Depth of the magnitude axis below its top, in dB (a notch would otherwise take the whole axis).
 DEPTH_DB = 100.0
 
@@ -143,9 +144,6 @@ def plot_bode(data, path, *, protect=()) -> Path:
     from symfilt.export.outfile import write_bytes_atomic
 
     p = Path(path)
-    fmt = FORMATS.get(p.suffix.lower())
-    if fmt is None:
-        raise UsageError(str(p), f"cannot draw to a {p.suffix or 'suffix-less'} file",
-                         "name the plot file .svg or .png")
+    fmt = plot_format(p)
     write_bytes_atomic(p, render_bode(data, fmt), protect=protect)
     return p

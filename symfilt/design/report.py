@@ -1,0 +1,108 @@
+"""Everything ``symfilt derive`` shows, as one value: :func:`report`.
+
+The command line and a Python user get the same thing: the op-amp model
+switched, the structural warnings, the analysis (values substituted if asked),
+the load limits and the op-amp error section. The words and formats are chosen
+in :mod:`symfilt.export.derive_report`.
+
+Examples
+--------
+>>> from symfilt import catalogue
+>>> r = report(catalogue.build("rc-lowpass"), load_limit=0.02, sensitivity=False)
+>>> r.analysis.circuit.title, [x.fixture for x in r.load_limits], r.opamp_error, r.warnings
+('RC low-pass', ['R_s', 'R_L'], None, ())
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass
+from typing import Callable
+
+from symfilt.analysis.loading import LoadLimit, load_limits
+from symfilt.analysis.stage import Analysis, analyse, substitute as put_values
+from symfilt.design.opamp_error import OpampError, opamp_error
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+from symfilt.errors import UsageError
+from symfilt.model.circuit import Circuit
+from symfilt.model.structure import structure_warnings
+
+OPAMP_MODELS = ("ideal", "gain", "single-pole")
+
+
+@dataclass(frozen=True)
+class Report:
+    """What ``symfilt derive`` shows for a circuit.
+
+    Attributes
+    ----------
+    circuit : Circuit
+        The circuit analysed (op-amps switched to the model asked for).
+    analysis : Analysis
+        The analysis as shown (the parts' values put in when ``substitute``).
+    load_limits : tuple of LoadLimit or None
+        The fixture bounds, when a load limit was asked for.
+    opamp_error : OpampError or None
+        Real against ideal op-amps, for the ``gain`` and ``single-pole`` models
+        of a circuit with op-amps.
+    warnings : tuple
+        Structural warnings about the circuit (legal but suspicious), in order.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> report(catalogue.build("rc-lowpass"), sensitivity=False).load_limits is None
+    True
+    """
+
+    circuit: Circuit
+    analysis: Analysis
+    load_limits: tuple[LoadLimit, ...] | None
+    opamp_error: OpampError | None
+    warnings: tuple
+
+
+def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: str | None = None,
+           substitute: bool = False, sensitivity: bool = True, max_terms: int | None = None,
+           progress: Callable[[str], None] | None = None) -> Report:
+    """Derive and analyse a circuit with everything ``symfilt derive`` shows.
+
+    Parameters
+    ----------
+    circuit : Circuit
+    load_limit : float, optional
+        Tolerance of the cutoff for the load limits, as a fraction (0.02 for 2%).
+    opamp_model : {"ideal", "gain", "single-pole"}, optional
+        Switch every op-amp to this model; the non-ideal ones also give the
+        op-amp error section (real against ideal op-amps).
+    substitute : bool
+        Put the parts' values into the formulas shown.
+    sensitivity : bool
+        Also derive the sensitivities.
+    max_terms : int, optional
+        Size budget of the elimination (terms per polynomial).
+    progress : callable, optional
+        Called with the name of each stage of the derivation.
+
+    Returns
+    -------
+    Report
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> r = report(catalogue.build("inverting-lowpass"), opamp_model="gain", sensitivity=False)
+    >>> sorted(r.opamp_error.cutoff_first_order), r.circuit is r.analysis.circuit
+    (['A_U1'], True)
+    """
+    if opamp_model is not None and opamp_model not in OPAMP_MODELS:
+        raise UsageError("opamp_model", f"{opamp_model!r} is not an op-amp model", "use ideal, gain or single-pole")
+    if load_limit is not None and not 0 < load_limit < 1:
+        raise UsageError("load_limit", f"{load_limit!r} is outside 0..1", "give a fraction such as 0.02")
+    shown = circuit.with_opamp_model(opamp_model) if opamp_model else circuit
+    error = None
+    if opamp_model in ("gain", "single-pole") and any(p.kind == "opamp" for p in circuit.parts):
+        error = opamp_error(circuit, opamp_model)
+    warnings = tuple(structure_warnings(shown))
+    a = analyse(shown, sensitivity=sensitivity, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress)
+    limits = tuple(load_limits(a, load_limit)) if load_limit is not None else None
+    return Report(shown, put_values(a) if substitute else a, limits, error, warnings)

@@ -1,0 +1,219 @@
+"""The Markdown and LaTeX design notes, and :func:`write_note`, which picks the form by suffix.
+
+The rows come from :mod:`symfilt.export.note` (shared with the HTML page of
+:mod:`symfilt.export.note_html`); the suffix -> form table is
+:data:`symfilt.export.formats.NOTE_FORMATS`.
+
+Examples
+--------
+>>> from symfilt import catalogue
+>>> from symfilt.analysis.stage import analyse
+>>> note_latex(analyse(catalogue.build("rc-lowpass"), sensitivity=False)).startswith("%")
+True
+"""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from symfilt.analysis.stage import Analysis
+from symfilt.export.formats import note_kind
+from symfilt.export.latex import stage_equations
+from symfilt.export.outfile import write_bytes_atomic, write_text_atomic
+from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, kind_words, node_name,
+                                 number_rows, part_rows, sensitivity_table, show_number, stability_row,
+                                 standard_form_tex, sweep, views)
+
+
+def _md_cell(text: str) -> str:
+    return text.replace("|", "\\|")
+
+
+def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = "") -> str:
+    """The design note as Markdown: tables, ``$$`` LaTeX equations, and a link to the plot file.
+
+    Parameters
+    ----------
+    a : Analysis
+    plot_file : str, optional
+        Relative path of the SVG plot written beside the note (no plot when None).
+    source : str
+        Where the circuit came from, for the footer.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> md = note_markdown(analyse(catalogue.build("rc-lowpass")), plot_file="rc-bode.svg")
+    >>> md.splitlines()[0], md.count("$$") % 2, "](rc-bode.svg)" in md
+    ('# RC low-pass', 0, True)
+    """
+    from symfilt.version import __version__
+
+    title = a.circuit.title or "Untitled stage"
+    out = [f"# {title}", "", f"Design note: {kind_words(a.ideal)} from {node_name(a.circuit.input)} "
+           f"to {node_name(a.circuit.output)}.", ""]
+    rows = number_rows(a)
+    out += ["## Loaded and ideal", ""]
+    if rows:
+        out += ["| Quantity | Loaded | Ideal | Loaded / ideal |", "|---|---:|---:|---:|",
+                f"| response | {kind_words(a.loaded)} | {kind_words(a.ideal)} | — |"]
+        stab = stability_row(a)
+        if stab:
+            out.append(f"| {stab['label']} | {stab['loaded']['text']} | {stab['ideal']['text']} | — |")
+        for r in rows:
+            label = r["label"] + (" (dB)" if r["unit"] == "dB" else "")
+            out.append(f"| {label} | {r['loaded']['text']} | {r['ideal']['text']} | {r['ratio']['text']} |")
+    else:
+        out.append("No numbers: some parts have no value.")
+    out += ["", "## Parts", "", "| Part | Kind | Connection | Value |", "|---|---|---|---:|"]
+    for r in part_rows(a):
+        out.append(f"| {r['name']} | {_md_cell(r['kind'])} | {_md_cell(r['connection'])} | {r['value']} |")
+    out += ["", "## Equations", ""]
+    for view, vtitle in views(a):
+        st = getattr(a, view)
+        out += [f"### {vtitle}: {kind_words(st)}", ""]
+        std = standard_form_tex(st)
+        if std:
+            out += ["Standard form:", "", "$$", std, "$$", ""]
+        for words, eq in equations(st):
+            out += [f"{words[:1].upper() + words[1:]}:", "", "$$", eq, "$$", ""]
+    out += ["## Frequency response", ""]
+    if plot_file:
+        out += [f"![Bode plot: magnitude and phase, loaded and ideal]({plot_file})", ""]
+    else:
+        out += ["No plot: give every part a value to draw the response.", ""]
+    out += ["## Sensitivities", ""]
+    labels = {k: v for k, v, _ in SENS_COLUMNS}
+    for view, vtitle in views(a):
+        cols, srows = sensitivity_table(a, view)
+        if not srows:
+            continue
+        out += [f"### {vtitle}", "", "| Part | " + " | ".join(f"S of {labels[k]}" for k in cols) + " |",
+                "|---|" + "---:|" * len(cols)]
+        for name, cells in srows:
+            out.append(f"| {name} | " + " | ".join(c["text"] for c in cells) + " |")
+        out.append("")
+    out += ["## Assumptions", "", *[f"- {x}" for x in assumptions(a)], "",
+            "## Cautions", "", *[f"- {x}" for x in cautions(a)], "",
+            f"*Derived exactly by symfilt {__version__}" + (f" from {source}" if source else "")
+            + ". Numbers are rounded to 4 significant digits.*", ""]
+    return "\n".join(out)
+
+
+def _tex_number(x: float, unit: str) -> str:
+    text = show_number(x, unit)
+    if " " not in text:
+        return text
+    num, unit_text = text.split(" ", 1)
+    unit_text = unit_text.replace("µ", "\\mu ").replace("Ω", "\\Omega")
+    return f"{num}\\,\\mathrm{{{unit_text}}}"
+
+
+def note_latex(a: Analysis) -> str:
+    """The equations and numbers as a LaTeX fragment: one ``align`` environment (needs amsmath).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> tex = note_latex(analyse(catalogue.build("rc-lowpass")))
+    >>> tex.count("\\\\begin{align}"), tex.count("\\\\end{align}"), "f_{c} &\\\\approx 2.088\\\\,\\\\mathrm{kHz}" in tex
+    (1, 1, True)
+    """
+    title = a.circuit.title or "Untitled stage"
+    lines = [f"% {title}: design equations written by symfilt. Needs \\usepackage{{amsmath}}.",
+             "% Loaded: as connected, with the circuit's source and load. Ideal: the stage alone.",
+             "\\begin{align}"]
+    body = []
+    for view, vtitle in views(a):
+        st = getattr(a, view)
+        rows = [f"  {lhs} &= {rhs}" for lhs, rhs in stage_equations(st) if rhs is not None]
+        nums = []
+        for r in number_rows(a):
+            v = r[view]["value"]
+            if v is not None:
+                nums.append(f"  {r['tex']} &\\approx {_tex_number(v, r['unit'])}")
+        intro = f"  \\intertext{{{vtitle}:}}"
+        block = rows[:]
+        if nums:
+            block += nums
+        body.append(intro + "\n" + " \\\\\n".join(block))
+    lines.append(" \\\\\n".join(body))
+    lines.append("\\end{align}")
+    return "\n".join(lines) + "\n"
+
+
+# --- files ------------------------------------------------------------------------------
+
+
+def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=None, points=None,
+               progress=None) -> list[Path]:
+    """Analyse a circuit and write its design note; the format follows the suffix (.html, .md, .tex).
+
+    A Markdown note gets its Bode plot as ``<name>-bode.svg`` beside it.
+
+    Parameters
+    ----------
+    circuit : Circuit or Analysis
+    path : str or Path
+    protect : sequence of paths
+        Files never to overwrite (the input circuit file).
+    source : str
+        Where the circuit came from, for the footer.
+    fmin, fmax, points
+        Bode plot range (Hz) and number of frequencies.
+    progress : callable, optional
+        Receives stage names while deriving.
+
+    Returns
+    -------
+    list of Path
+        The files written.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> from symfilt import catalogue
+    >>> d = pathlib.Path(tempfile.mkdtemp())
+    >>> [p.name for p in write_note(catalogue.build("rc-lowpass"), d / "rc.md")]
+    ['rc-bode.svg', 'rc.md']
+    """
+    from symfilt.analysis.stage import analyse
+
+    p = Path(path)
+    write = _WRITERS[note_kind(p)]
+    a = circuit if isinstance(circuit, Analysis) else analyse(circuit, progress=progress)
+    return write(a, p, protect=protect, source=source, fmin=fmin, fmax=fmax, points=points)
+
+
+def _write_html(a: Analysis, p: Path, *, protect, source, fmin, fmax, points) -> list[Path]:
+    from symfilt.export.note_html import note_html
+
+    write_text_atomic(p, note_html(a, source=source, fmin=fmin, fmax=fmax, points=points), protect=protect)
+    return [p]
+
+
+def _write_latex(a: Analysis, p: Path, *, protect, source, fmin, fmax, points) -> list[Path]:
+    write_text_atomic(p, note_latex(a), protect=protect)
+    return [p]
+
+
+def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points) -> list[Path]:
+    from symfilt.export.plot import render_bode
+
+    data, _ = sweep(a, fmin, fmax, points)
+    written = []
+    plot_name = None
+    if data is not None:
+        svg_path = p.with_name(p.stem + "-bode.svg")
+        write_bytes_atomic(svg_path, render_bode(data, "svg"), protect=protect)
+        written.append(svg_path)
+        plot_name = svg_path.name
+    write_text_atomic(p, note_markdown(a, plot_file=plot_name, source=source), protect=protect)
+    written.append(p)
+    return written
+
+
+#: Note writer by form (the forms of :data:`symfilt.export.formats.NOTE_FORMATS`).
+_WRITERS = {"html": _write_html, "latex": _write_latex, "markdown": _write_markdown}
