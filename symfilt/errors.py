@@ -57,32 +57,120 @@ class SymfiltError(Exception):
 
 
 class ValueParseError(SymfiltError, ValueError):
-    """A component value or number could not be read."""
+    """A component value or number could not be read.
+
+    Parameters
+    ----------
+    where, what, fix : str
+        As for :class:`SymfiltError`.
+
+    Examples
+    --------
+    >>> isinstance(ValueParseError("R1", "value '4x7' not understood"), ValueError)
+    True
+    """
 
 
 class CircuitFileError(SymfiltError, ValueError):
-    """A circuit file is not valid TOML or breaks the schema."""
+    """A circuit file is not valid TOML or breaks the schema.
+
+    Parameters
+    ----------
+    where, what, fix : str
+        As for :class:`SymfiltError`.
+
+    Examples
+    --------
+    >>> isinstance(CircuitFileError("stage.toml line 3", "not valid TOML"), ValueError)
+    True
+    """
 
 
 class CircuitError(SymfiltError, ValueError):
-    """A circuit is structurally wrong (pins, nodes, names, ports)."""
+    """A circuit is structurally wrong (pins, nodes, names, ports).
+
+    Parameters
+    ----------
+    where, what, fix : str
+        As for :class:`SymfiltError`.
+
+    Examples
+    --------
+    >>> isinstance(CircuitError("R1", "both pins on node a"), ValueError)
+    True
+    """
 
 
 class SingularCircuitError(SymfiltError, ArithmeticError):
-    """The circuit equations have no unique solution."""
+    """The circuit equations have no unique solution.
+
+    Parameters
+    ----------
+    where, what, fix : str
+        As for :class:`SymfiltError`.
+
+    Examples
+    --------
+    >>> isinstance(SingularCircuitError("stage", "node b floats"), ArithmeticError)
+    True
+    """
 
 
 class SizeLimitError(SymfiltError, OverflowError):
-    """An input or a derivation is larger than a stated limit."""
+    """An input or a derivation is larger than a stated limit.
+
+    Parameters
+    ----------
+    where, what, fix : str
+        As for :class:`SymfiltError`.
+
+    Examples
+    --------
+    >>> isinstance(SizeLimitError("stage", "over 1000 terms"), OverflowError)
+    True
+    """
 
 
 class ClaimError(SymfiltError, ValueError):
-    """A hand derivation could not be read safely."""
+    """A hand derivation could not be read safely.
+
+    Parameters
+    ----------
+    where, what, fix : str
+        As for :class:`SymfiltError`.
+
+    Examples
+    --------
+    >>> isinstance(ClaimError("claim", "unbalanced brackets"), ValueError)
+    True
+    """
 
 
 class OutputError(SymfiltError, OSError):
-    """An output file could not be written."""
+    """An output file could not be written.
+
+    Parameters
+    ----------
+    where, what, fix : str
+        As for :class:`SymfiltError`.
+
+    Examples
+    --------
+    >>> isinstance(OutputError("note.html", "folder not found"), OSError)
+    True
+    """
 
 
 class UsageError(SymfiltError, ValueError):
-    """A command-line option or API argument is not valid."""
+    """A command-line option or API argument is not valid.
+
+    Parameters
+    ----------
+    where, what, fix : str
+        As for :class:`SymfiltError`.
+
+    Examples
+    --------
+    >>> isinstance(UsageError("--format", "unknown format 'pdf'"), ValueError)
+    True
+    """

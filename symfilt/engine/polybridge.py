@@ -52,6 +52,15 @@ class PolyContext:
     def to_flint(self, expr):
         """Convert a polynomial expression (rational coefficients) to ``fmpq_mpoly``.
 
+        Parameters
+        ----------
+        expr : sympy.Expr
+            A polynomial in the context's symbols (and pi) with rational coefficients.
+
+        Returns
+        -------
+        flint.fmpq_mpoly
+
         Examples
         --------
         >>> x = sympy.Symbol("x")
@@ -69,6 +78,16 @@ class PolyContext:
 
     def to_sympy(self, p) -> sympy.Expr:
         """Convert back to a sympy expression.
+
+        Parameters
+        ----------
+        p : flint.fmpq_mpoly
+            A polynomial of this context.
+
+        Returns
+        -------
+        sympy.Expr
+            The same polynomial over the sympy symbols (pi restored).
 
         Examples
         --------
@@ -88,6 +107,18 @@ class PolyContext:
 
     def derivative(self, p, symbol):
         """Partial derivative of a flint polynomial with respect to a sympy symbol.
+
+        Parameters
+        ----------
+        p : flint.fmpq_mpoly
+            A polynomial of this context.
+        symbol : sympy.Symbol
+            One of the context's symbols.
+
+        Returns
+        -------
+        flint.fmpq_mpoly
+            d p / d symbol.
 
         Examples
         --------
@@ -114,6 +145,16 @@ class PolyContext:
     def gen(self, symbol):
         """The generator standing for ``symbol``.
 
+        Parameters
+        ----------
+        symbol : sympy.Symbol
+            One of the context's symbols.
+
+        Returns
+        -------
+        flint.fmpq_mpoly
+            The generator as a polynomial.
+
         Examples
         --------
         >>> x = sympy.Symbol("x")
@@ -127,6 +168,17 @@ def smaller_than(expr, nodes: int) -> bool:
     """True when an expression tree has fewer than ``nodes`` nodes; stops counting early.
 
     A cheap stand-in for ``sympy.count_ops`` on expressions that may be huge.
+
+    Parameters
+    ----------
+    expr : sympy.Expr
+        The expression tree to count.
+    nodes : int
+        The bound.
+
+    Returns
+    -------
+    bool
 
     Examples
     --------

@@ -25,6 +25,17 @@ R_, C_ = R, C  # for builders whose parameters are called R and C
 def rc_lowpass(R1="4k7", C1="22n", source="600", load="10k", load_capacitance=None) -> Circuit:
     """Passive RC low-pass: R1 from in to out, C1 from out to ground.
 
+    Parameters
+    ----------
+    R1, C1 : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
+
     Examples
     --------
     >>> [p.name for p in rc_lowpass().parts]
@@ -37,6 +48,17 @@ def rc_lowpass(R1="4k7", C1="22n", source="600", load="10k", load_capacitance=No
 def rc_highpass(C1="68n", R1="3k9", source="600", load="10k", load_capacitance=None) -> Circuit:
     """Passive RC high-pass: C1 from in to out, R1 from out to ground.
 
+    Parameters
+    ----------
+    C1, R1 : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
+
     Examples
     --------
     >>> rc_highpass().part("C1").nodes
@@ -48,6 +70,17 @@ def rc_highpass(C1="68n", R1="3k9", source="600", load="10k", load_capacitance=N
 
 def inverting_lowpass(R1="10k", R2="22k", C1="4n7", source="600", load="2k", load_capacitance=None) -> Circuit:
     """Inverting op-amp low-pass: R1 from in to the inverting input, R2 parallel C1 in feedback.
+
+    Parameters
+    ----------
+    R1, R2, C1 : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
 
     Examples
     --------
@@ -63,6 +96,17 @@ def noninverting_lowpass(R1="10k", C1="10n", Rf="10k", Rg="10k", source="600", l
                          load_capacitance=None) -> Circuit:
     """RC low-pass into a non-inverting gain stage of gain 1 + Rf/Rg.
 
+    Parameters
+    ----------
+    R1, C1, Rf, Rg : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
+
     Examples
     --------
     >>> noninverting_lowpass().part("Rf").nodes
@@ -76,6 +120,17 @@ def noninverting_lowpass(R1="10k", C1="10n", Rf="10k", Rg="10k", source="600", l
 def sallen_key_lowpass(R1="6k8", R2="15k", C1="10n", C2="3n3", source="50", load="2k",
                        load_capacitance=None) -> Circuit:
     """Unity-gain Sallen-Key low-pass: R1 in->a, R2 a->b, C1 a->out, C2 b->ground, follower b->out.
+
+    Parameters
+    ----------
+    R1, R2, C1, C2 : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
 
     Examples
     --------
@@ -91,6 +146,17 @@ def mfb_lowpass(R1="5k6", R2="12k", R3="8k2", C1="47n", C2="2n2", source="600", 
                 load_capacitance=None) -> Circuit:
     """Multiple-feedback low-pass: R1 in->x, C1 x->ground, R2 x->out, R3 x->y, C2 y->out, op-amp + at ground, - at y.
 
+    Parameters
+    ----------
+    R1, R2, R3, C1, C2 : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
+
     Examples
     --------
     >>> mfb_lowpass().part("C2").nodes
@@ -105,6 +171,17 @@ def mfb_lowpass(R1="5k6", R2="12k", R3="8k2", C1="47n", C2="2n2", source="600", 
 def sallen_key_highpass(C1="15n", C2="15n", R1="5k1", R2="10k", source="50", load="10k",
                         load_capacitance=None) -> Circuit:
     """Unity-gain Sallen-Key high-pass: C1 in->a, C2 a->b, R1 a->out (feedback), R2 b->ground, follower b->out.
+
+    Parameters
+    ----------
+    C1, C2, R1, R2 : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
 
     Examples
     --------
@@ -122,6 +199,17 @@ def sallen_key_lowpass_gain(R="8k2", C="6n8", Rf="5k6", Rg="10k", source="50", l
 
     R1 in->a and R2 a->b both take ``R``; C1 a->out (feedback) and C2 b->ground both take
     ``C``; the op-amp has + at b, - at f, Rf out->f and Rg f->ground.
+
+    Parameters
+    ----------
+    R, C, Rf, Rg : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
 
     Examples
     --------
@@ -141,6 +229,17 @@ def mfb_bandpass(R1="22k", R2="2k2", R3="100k", C1="10n", C2="10n", source="600"
 
     R1 in->x, R2 x->ground, C1 x->out, C2 x->n, R3 n->out (feedback); op-amp + at ground, - at n.
 
+    Parameters
+    ----------
+    R1, R2, R3, C1, C2 : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
+
     Examples
     --------
     >>> mfb_bandpass().part("C2").nodes
@@ -156,6 +255,17 @@ def twin_t_notch(R="10k", C="15n", source="50", load="100k", load_capacitance=No
     """Passive twin-T notch: R, R, R/2 and C, C, 2C, balanced for a notch at 1/(2 pi R C).
 
     R1 in->a, R2 a->out, C3 (2C) a->ground; C1 in->m, C2 m->out, R3 (R/2) m->ground.
+
+    Parameters
+    ----------
+    R, C : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
 
     Examples
     --------
@@ -179,6 +289,19 @@ def rc_ladder(n=3, R="10k", C="10n", source="600", load="100k", load_capacitance
 
     Node 0 is ``in``, node n is ``out``, the nodes between are ``n1``, ``n2``, ...
     Every section takes the same ``R`` and ``C``.
+
+    Parameters
+    ----------
+    n : int
+        Number of sections, 1 to MAX_LADDER.
+    R, C : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
 
     Examples
     --------
@@ -214,6 +337,19 @@ def state_variable(output="lp", R1="10k", R2="10k", R3="10k", R4="11k", R5="10k"
     output bp. U3 (integrator): R7 bp->n3, C2 n3->lp, + at ground, output lp.
     ``output`` picks the output port: ``"lp"``, ``"bp"`` or ``"hp"``.
 
+    Parameters
+    ----------
+    output : {"lp", "bp", "hp"}
+        The output port: low-, band- or high-pass.
+    R1, R2, R3, R4, R5, R6, R7, C1, C2 : str, number or None
+        Part values as in the description (``"4k7"``); None keeps the part symbolic.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
+
     Examples
     --------
     >>> state_variable(output="bp").output
@@ -233,7 +369,22 @@ def state_variable(output="lp", R1="10k", R2="10k", R3="10k", R4="11k", R5="10k"
 
 @dataclass(frozen=True)
 class Entry:
-    """A catalogue entry: its builder and a one-line description."""
+    """A catalogue entry: its builder and a one-line description.
+
+    Parameters
+    ----------
+    name : str
+        The trade name the entry is built by (``"rc-lowpass"``).
+    builder : callable
+        Returns the :class:`~symfilt.model.circuit.Circuit`; every value a keyword argument.
+    summary : str
+        One line saying what the circuit is.
+
+    Examples
+    --------
+    >>> CATALOGUE["rc-lowpass"].builder is rc_lowpass
+    True
+    """
 
     name: str
     builder: Callable[..., Circuit]

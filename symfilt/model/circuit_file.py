@@ -140,6 +140,18 @@ def parse_circuit_text(text: str, name: str = "<text>") -> Circuit:
 def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
     """Build a circuit from the parsed TOML tables.
 
+    Parameters
+    ----------
+    data : dict
+        The tables as ``tomllib`` reads them (title, ports, source, load, parts).
+    name : str
+        The file name errors start with.
+
+    Returns
+    -------
+    Circuit
+        The checked circuit.
+
     Examples
     --------
     >>> circuit_from_dict({"parts": {"R1": {"kind": "resistor", "nodes": ["in", "out"]},
@@ -323,6 +335,16 @@ def _fixture(f: Fixture) -> str:
 
 def circuit_to_text(circuit: Circuit) -> str:
     """Write a circuit as circuit-file text (reads back to an equal circuit).
+
+    Parameters
+    ----------
+    circuit : Circuit
+        The circuit to write.
+
+    Returns
+    -------
+    str
+        TOML text in the symfilt schema.
 
     Examples
     --------
