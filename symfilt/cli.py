@@ -110,6 +110,18 @@ def _progress():
     return DelayedProgress(lambda stage: click.echo(f"symfilt: {stage}", err=True))
 
 
+def _progress_from_first_stage():
+    """As :func:`_progress`, its two seconds counted from the first stage (the derivation's start)."""
+    started = []
+
+    def update(stage: str) -> None:
+        if not started:
+            started.append(_progress())
+        started[0](stage)
+
+    return update
+
+
 @click.group(name="symfilt", cls=_Group, context_settings={"help_option_names": ["-h", "--help"]})
 @click.version_option(package_name="symfilt", prog_name="symfilt")
 def cli():
@@ -136,7 +148,8 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     c = load(circuit)
     tol = _percent(load_limit, "--load-limit") if load_limit else None
     r = report(c, load_limit=tol, opamp_model=opamp_model, substitute=substitute,
-               sensitivity=quantity in (None, "sensitivity"), max_terms=max_terms, progress=_progress())
+               sensitivity=quantity in (None, "sensitivity"), max_terms=max_terms,
+               progress=_progress_from_first_stage())
     for w in r.warnings:
         click.echo(f"warning: {w}", err=True)
     _emit(render(r, quantity))
