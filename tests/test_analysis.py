@@ -441,7 +441,7 @@ def test_third_order_cutoff_is_numeric_with_a_reason():
 
 
 def test_third_order_without_values_has_no_number():
-    # DESIGN.md: numeric results only for quantities whose symbols all have values.
+    # README "JSON output": numeric results only for quantities whose symbols all have values.
     c = rc_into_sallen_key().with_values({"R0": None})
     a = analyse(c, sensitivity=False)
     assert a.numeric["ideal"].get("cutoff_hz") is None
@@ -736,7 +736,7 @@ def sk_json():
 
 
 def test_json_has_every_key_of_the_contract(sk_json):
-    # DESIGN.md, JSON contract.
+    # README "JSON output".
     d = sk_json
     assert {"title", "input", "output", "symbols", "loaded", "ideal", "numeric"} <= set(d)
     for view in ("loaded", "ideal"):
@@ -752,7 +752,7 @@ def test_json_has_every_key_of_the_contract(sk_json):
 
 
 def test_json_expressions_read_back(sk_json):
-    # DESIGN.md: every expression is sympy str() text that sympify(text, locals=symbols) reads back;
+    # README "JSON output": every expression is sympy str() text that sympify(text, locals=symbols) reads back;
     # here it must equal the analysis's own expression.
     d = sk_json
     syms = read_symbols(d)
@@ -779,7 +779,7 @@ def test_json_expressions_read_back(sk_json):
         for k, v in a.numeric[key].items():
             if k != "sensitivity":
                 assert d["numeric"][key][k] == v  # JSON floats round-trip exactly
-    # The catalogue's values read back exactly (DESIGN.md: "value": "4700" | null).
+    # The catalogue's values read back exactly (README "JSON output": "value": "4700" | null).
     values = {str(k): v for k, v in catalogue.build("sallen-key-lowpass").values().items()}
     for name, info in d["symbols"].items():
         if info["value"] is not None:
@@ -792,7 +792,7 @@ def test_json_expressions_read_back(sk_json):
 
 @pytest.mark.parametrize("name", ["@rc-lowpass", "@mfb-lowpass"])
 def test_json_other_circuits_read_back(name):
-    # DESIGN.md JSON contract: keys present (null where a quantity does not exist), text reads back.
+    # README "JSON output": keys present (null where a quantity does not exist), text reads back.
     d = json.loads(_run(["derive", name, "--format", "json"]))
     syms = read_symbols(d)
     a = analyse(catalogue.build(name))

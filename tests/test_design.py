@@ -434,7 +434,7 @@ def test_second_order_first_order_routes_agree():
 # --- JSON and text -----------------------------------------------------------------------
 
 def test_json_shapes_follow_design_md():
-    # DESIGN.md "JSON of the other commands": the listed keys are present; numbers finite.
+    # README "JSON output", the other commands: the listed keys are present; numbers finite.
     s = design_report.size_dict(size(rc_lowpass(), ("cutoff", 2000), "R1"))
     assert {"vary", "target", "exact", "value", "series", "neighbours"} <= set(s)
     assert {"quantity", "value"} <= set(s["target"])

@@ -11,7 +11,7 @@ network analysis", IEEE Trans. Circuits and Systems, 1975 (from memory); common
 practice). It shares no code with symfilt: it reads the same random description, not
 symfilt's Circuit.
 
-Conventions (DESIGN.md): a controlled current flows from out+ through the source to
+Conventions (README, the circuit file): a controlled current flows from out+ through the source to
 out-; vcvs: V(out+) - V(out-) = gain (V(ctrl+) - V(ctrl-)); a controlling current flows
 through its control part from the part's first node to its second (for a vcvs or ccvs:
 from out+ through it to out-); op-amp A(s) = A0 2 pi GBW / (A0 s + 2 pi GBW); transfer is
@@ -339,7 +339,7 @@ def test_numeric_reference_on_a_known_circuit():
 
 
 def test_numeric_reference_controlled_sources():
-    # Hand results for the source conventions (DESIGN.md directions; common practice):
+    # Hand results for the source conventions (README directions; common practice):
     # a vccs of gain g from out to ground, controlled by in, into R: V(out) = -g R V(in)
     # (its current leaves out through the source); a cccs of gain f controlled by R1 (in -> 0):
     # current f V(in)/R1 leaves out, so V(out) = -f R2 V(in)/R1; an ideal follower: V(out) = V(in).

@@ -246,7 +246,7 @@ def test_inverting_amplifier_finite_gain():
 
 
 def test_inverting_amplifier_single_pole_dc():
-    # DESIGN.md model A(s) = A0*2*pi*GBW/(A0*s + 2*pi*GBW): at s = 0 it is A0, so the DC gain is
+    # README op-amp model A(s) = A0*2*pi*GBW/(A0*s + 2*pi*GBW): at s = 0 it is A0, so the DC gain is
     # Sedra & Smith's finite-gain result (ch. 2, from memory).
     h = derive(inverting_amplifier(model="single-pole"))
     assert same(h.dc_gain(), -(R2 / R1) / (1 + (1 + R2 / R1) / A_U1))
@@ -422,7 +422,7 @@ def test_substitution_by_name_with_colliding_names(quantity):
 
 
 def test_vcvs_gain_named_beta_may_be_negative():
-    # The controlled-source gain symbol is real, not positive (DESIGN.md): substituting a negative
+    # The controlled-source gain symbol is real, not positive (DEVELOPERS.md, conventions): substituting a negative
     # gain gives the same as an ideal inverting gain stage, V(out) = beta * V(in) (common practice).
     c = Circuit.build([Part.resistor("E", "in", "0"), Part.make("beta", "vcvs", ("out", "0", "in", "0")),
                        Part.resistor("gamma", "out", "0")])
