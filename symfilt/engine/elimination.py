@@ -58,6 +58,9 @@ class DelayedProgress:
         Seconds of silence from the moment the object is made.
     clock : callable
         Source of the time in seconds (:func:`time.monotonic`).
+    start : float
+        The clock reading the delay counts from; by default (nan) the clock's
+        reading when the object is made.
 
     Examples
     --------

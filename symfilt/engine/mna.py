@@ -33,7 +33,7 @@ __all__ = ["MODES", "PI", "MnaSystem", "build_system"]
 class MnaSystem:
     """A linear system ``A x = b`` with polynomial entries and one unknown of interest.
 
-    Attributes
+    Parameters
     ----------
     ctx : flint.fmpz_mpoly_ctx
         The polynomial ring; its generators are the circuit's symbols, ``pi`` when
@@ -52,6 +52,13 @@ class MnaSystem:
         Generator name -> sympy object it means (``pi`` maps to :data:`sympy.pi`).
     parts : int
         Number of parts of the circuit (fixtures not counted), for messages.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> system = build_system(catalogue.build("rc-lowpass"), "transfer")
+    >>> system.unknowns[system.target], system.parts
+    ('V(out)', 2)
     """
 
     ctx: object

@@ -1,5 +1,7 @@
 """Circuits as values: parts, ports, source and load fixtures, and their symbols.
 
+:class:`Fixture` lives in :mod:`symfilt.model.fixture` and is re-exported here.
+
 A :class:`Circuit` is frozen. It is built from a circuit file
 (:func:`symfilt.model.circuit_file.load_circuit`), from the catalogue, or directly in Python::
 
@@ -16,14 +18,14 @@ from __future__ import annotations
 
 import difflib
 import keyword
-import math
 import re
 from dataclasses import dataclass, field, replace
 from typing import Iterable, Mapping
 
 import sympy
 
-from symfilt.errors import CircuitError, SizeLimitError, ValueParseError
+from symfilt.errors import CircuitError, SizeLimitError
+from symfilt.model.fixture import Fixture
 from symfilt.model.names import GROUND, MAX_NAME, clip_name, is_ground, node_name
 from symfilt.model.values import parse_value
 
@@ -59,6 +61,13 @@ def part_symbol(name: str, kind: str = "resistor") -> sympy.Symbol:
 
     Passive parts, fixtures and op-amp parameters are positive; controlled-source
     gains are real (they may be negative).
+
+    Parameters
+    ----------
+    name : str
+        The symbol's name (a part name, ``R_s``, ``A_U1``, ...).
+    kind : str
+        The part kind, one of :data:`PART_PINS`.
 
     Examples
     --------
@@ -117,6 +126,13 @@ class Part:
     def resistor(cls, name: str, a: str, b: str, value=None) -> "Part":
         """A resistor between nodes ``a`` and ``b``.
 
+        Parameters
+        ----------
+        name, a, b : str
+            Part name and its two nodes.
+        value : str, number or None
+            Resistance in ohms (text such as ``"4k7"`` or a number); None keeps it symbolic.
+
         Examples
         --------
         >>> Part.resistor("R2", "x", "0", "10k").nodes
@@ -128,6 +144,13 @@ class Part:
     def capacitor(cls, name: str, a: str, b: str, value=None) -> "Part":
         """A capacitor between nodes ``a`` and ``b``.
 
+        Parameters
+        ----------
+        name, a, b : str
+            Part name and its two nodes.
+        value : str, number or None
+            Capacitance in farads (text such as ``"4k7"`` or a number); None keeps it symbolic.
+
         Examples
         --------
         >>> Part.capacitor("C1", "x", "gnd", "22n").kind
@@ -138,6 +161,13 @@ class Part:
     @classmethod
     def inductor(cls, name: str, a: str, b: str, value=None) -> "Part":
         """An inductor between nodes ``a`` and ``b``.
+
+        Parameters
+        ----------
+        name, a, b : str
+            Part name and its two nodes.
+        value : str, number or None
+            Inductance in henries (text such as ``"4k7"`` or a number); None keeps it symbolic.
 
         Examples
         --------
@@ -151,6 +181,15 @@ class Part:
               gain=None, gbw=None, iout_max=None, slew=None) -> "Part":
         """An op-amp with pins ``plus``, ``minus``, ``out`` (output against ground).
 
+        Parameters
+        ----------
+        name, plus, minus, out : str
+            Part name, non-inverting input, inverting input and output nodes.
+        model : str
+            ``ideal``, ``gain`` or ``single-pole``.
+        gain, gbw, iout_max, slew : str, number or None
+            DC gain, gain-bandwidth (Hz), output current limit (A), slew rate (V/µs).
+
         Examples
         --------
         >>> Part.opamp("U1", "a", "out", "out", model="gain", gain="100k").symbols()
@@ -163,6 +202,16 @@ class Part:
     def make(cls, name: str, kind: str, nodes: Iterable[str], *, value=None, model: str = "ideal",
              gain=None, gbw=None, control: str | None = None, iout_max=None, slew=None) -> "Part":
         """Build and check any part, parsing values from text.
+
+        Parameters
+        ----------
+        name, kind, nodes, value, model, gain, gbw, control, iout_max, slew : object
+            As the fields of :class:`Part`; values may be text (``"22n"``) or numbers.
+
+        Raises
+        ------
+        CircuitError, SizeLimitError, ValueParseError
+            For a bad name, kind, pin list, option or value.
 
         Examples
         --------
@@ -281,46 +330,6 @@ class Part:
 
 
 @dataclass(frozen=True)
-class Fixture:
-    """What drives the input or loads the output: absent, symbolic, or with a value.
-
-    Examples
-    --------
-    >>> Fixture.parse("2k", "source resistance")
-    Fixture(present=True, value=2000)
-    >>> Fixture.parse("none", "x").present
-    False
-    """
-
-    present: bool = False
-    value: sympy.Rational | None = None
-
-    @classmethod
-    def parse(cls, text, where: str) -> "Fixture":
-        """Read ``"none"``, ``"symbol"`` or a value.
-
-        Examples
-        --------
-        >>> Fixture.parse("symbol", "load resistance")
-        Fixture(present=True, value=None)
-        """
-        if text is None or (isinstance(text, str) and text.strip().lower() in ("none", "")):
-            return cls()
-        if isinstance(text, str) and text.strip().lower() == "symbol":
-            return cls(True, None)
-        if isinstance(text, Fixture):
-            return text
-        hint = "write a positive value, \"symbol\" to keep it symbolic, or \"none\" to leave it out"
-        if (isinstance(text, float) and not math.isfinite(text)) or (
-                isinstance(text, str) and text.strip().lower().lstrip("+-") in ("inf", "infinity", "nan")):
-            raise ValueParseError(where, f"value {clip_name(str(text))} is not finite", hint)
-        value = parse_value(text, where=where)
-        if value <= 0:
-            raise CircuitError(where, f"value {value} must be positive", hint)
-        return cls(True, value)
-
-
-@dataclass(frozen=True)
 class Circuit:
     """A circuit with its ports and fixtures.
 
@@ -355,6 +364,15 @@ class Circuit:
               load=None, load_capacitance=None, title: str = "") -> "Circuit":
         """Build and check a circuit; fixtures as text (``"600"``, ``"symbol"``, ``"none"``) or None.
 
+        Parameters
+        ----------
+        parts : iterable of Part
+        input, output : str
+            The driven node and the output node.
+        source, load, load_capacitance : str, number or None
+            Source resistance ``R_s``, load resistance ``R_L`` and load capacitance ``C_L``.
+        title : str
+
         Examples
         --------
         >>> Circuit.build([Part.resistor("R1", "in", "out", "1k")], source="50").source.value
@@ -370,6 +388,11 @@ class Circuit:
     @classmethod
     def from_file(cls, path) -> "Circuit":
         """Read a circuit file (see :mod:`symfilt.model.circuit_file`).
+
+        Parameters
+        ----------
+        path : str or path-like
+            The circuit file.
 
         Examples
         --------
@@ -387,6 +410,11 @@ class Circuit:
     # --- queries --------------------------------------------------------------
     def part(self, name: str) -> Part:
         """The part called ``name``.
+
+        Parameters
+        ----------
+        name : str
+            A part name; CircuitError if there is none such.
 
         Examples
         --------
@@ -479,6 +507,13 @@ class Circuit:
     def with_opamp_model(self, model: str, gain=None, gbw=None) -> "Circuit":
         """Every op-amp switched to ``model``; parts keep their own gain and gbw values.
 
+        Parameters
+        ----------
+        model : str
+            ``ideal``, ``gain`` or ``single-pole``.
+        gain, gbw : str, number or None
+            DC gain and gain-bandwidth (Hz) for op-amps that have none.
+
         Examples
         --------
         >>> c = Circuit.build([Part.opamp("U1", "in", "out", "out"), Part.resistor("R1", "out", "0")])
@@ -494,6 +529,11 @@ class Circuit:
 
     def with_values(self, values: Mapping[str, object]) -> "Circuit":
         """A copy with some part or fixture values replaced (name -> value text or number).
+
+        Parameters
+        ----------
+        values : mapping of str to str or number
+            Symbol name (``R1``, ``R_s``, ``A_U1``, ...) -> new value.
 
         Examples
         --------

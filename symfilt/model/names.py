@@ -24,6 +24,17 @@ def clip_name(text: object, limit: int = MAX_NAME) -> str:
     Control and other invisible characters are shown as escapes; text that is not
     a string is shown by its ``repr``.
 
+    Parameters
+    ----------
+    text : object
+        The name as given (usually a str).
+    limit : int
+        Most characters kept; longer names are cut and end in ``...``.
+
+    Returns
+    -------
+    str
+
     Examples
     --------
     >>> print(clip_name("R\\x1b[2J"))
@@ -42,6 +53,15 @@ def clip_name(text: object, limit: int = MAX_NAME) -> str:
 
 def is_ground(node: str) -> bool:
     """True when a node name means ground (``0`` or ``gnd``, any case).
+
+    Parameters
+    ----------
+    node : str
+        A node name; surrounding spaces are ignored.
+
+    Returns
+    -------
+    bool
 
     Examples
     --------

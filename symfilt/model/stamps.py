@@ -46,7 +46,7 @@ ONE = ((1, ()),)
 class Unknown:
     """An unknown of the MNA system, which also names its equation (row).
 
-    Attributes
+    Parameters
     ----------
     kind : {"V", "I"}
         A node voltage or a branch current.
@@ -79,7 +79,7 @@ class Unknown:
 class Stamp:
     """One entry added to the MNA matrix.
 
-    Attributes
+    Parameters
     ----------
     row, column : Unknown
         The equation and the unknown.
@@ -103,7 +103,7 @@ class Stamp:
 class StampTable:
     """The MNA equations of a circuit in one drive mode, as records.
 
-    Attributes
+    Parameters
     ----------
     unknowns : tuple of Unknown
         Node voltages (the circuit's nodes, then the source node), then branch
