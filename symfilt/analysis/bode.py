@@ -25,7 +25,7 @@ MARGIN_DECADES = 2
 class BodeData:
     """A frequency sweep of one stage, loaded and ideal.
 
-    Attributes
+    Parameters
     ----------
     f : numpy.ndarray
         Frequencies in Hz, logarithmically spaced.
@@ -37,6 +37,14 @@ class BodeData:
         Frequencies to mark, label -> Hz (cutoffs, band edges, centre or notch frequency),
         for ``loaded`` and ``ideal``: ``{"loaded": {...}, "ideal": {...}}``.
     title : str
+        The circuit's title (empty for a bare transfer function).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue, analyse
+    >>> d = bode_data(analyse(catalogue.build("rc-lowpass"), sensitivity=False), points=3)
+    >>> d.title, len(d.f), round(d.marks["ideal"]["cutoff"])
+    ('RC low-pass', 3, 1539)
     """
 
     f: object
@@ -50,6 +58,18 @@ class BodeData:
 
 def missing_values(h, values: Mapping) -> list[str]:
     """Names of the symbols of ``h`` (other than s) that have no value in ``values``.
+
+    Parameters
+    ----------
+    h : NetworkFunction
+        The transfer function to evaluate.
+    values : mapping
+        Symbol (or name) -> number.
+
+    Returns
+    -------
+    list of str
+        Sorted names.
 
     Examples
     --------
@@ -91,6 +111,16 @@ def _marks_of(numeric: Mapping) -> dict:
 
 def default_range(marks: dict) -> tuple[float, float]:
     """A sweep range two decades either side of the marked frequencies (10 Hz to 100 kHz without marks).
+
+    Parameters
+    ----------
+    marks : dict
+        ``{"loaded": {label: Hz}, "ideal": {label: Hz}}``, as in :attr:`BodeData.marks`.
+
+    Returns
+    -------
+    tuple of float
+        (fmin, fmax) in Hz, on whole decades.
 
     Examples
     --------
@@ -201,6 +231,16 @@ def csv_text(data: BodeData) -> str:
     """The sweep as CSV: frequency_hz, loaded_db, loaded_phase_deg, ideal_db, ideal_phase_deg.
 
     Numbers are written with 10 significant digits; an exact zero of transmission is ``-inf``.
+
+    Parameters
+    ----------
+    data : BodeData
+        The sweep to write.
+
+    Returns
+    -------
+    str
+        A header line and one line per frequency, each ending in a newline.
 
     Examples
     --------

@@ -32,7 +32,7 @@ KINDS = frozenset({
 class Finding:
     """One conclusion of the analysis or design layers, as a code and its data.
 
-    Attributes
+    Parameters
     ----------
     kind : str
         One of :data:`KINDS`.
@@ -55,6 +55,17 @@ class Finding:
 
     def get(self, key: str, default=None):
         """The datum of that key.
+
+        Parameters
+        ----------
+        key : str
+            A key of :attr:`data`.
+        default : object
+            Returned when there is no such key.
+
+        Returns
+        -------
+        object
 
         Examples
         --------

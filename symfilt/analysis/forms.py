@@ -31,9 +31,10 @@ def _zero(e) -> bool:
 class StandardForm:
     """A transfer function in the trade's standard form (order 1 or 2).
 
-    Attributes
+    Parameters
     ----------
     order : int
+        Order of the denominator in s.
     kind : str
         One of :data:`RESPONSE_KINDS`.
     gain : sympy.Expr or None
@@ -44,7 +45,10 @@ class StandardForm:
     q : sympy.Expr or None
         Quality factor (second order only).
     tau : sympy.Expr or None
-        Time constant (first order only).
+        Time constant (first order only), s.
+    factors : dict
+        Quantity name (``w0``, ``q``, ``gain``) -> list of (coefficient, exponent) pairs
+        whose product it is (used for sensitivities); not compared.
 
     Examples
     --------
@@ -137,7 +141,7 @@ def standard_form(h: NetworkFunction) -> StandardForm:
 class Cutoff:
     """The -3 dB angular frequency (rad/s) relative to the pass-band gain.
 
-    Attributes
+    Parameters
     ----------
     value : sympy.Expr or None
         Closed form, when one exists.
@@ -165,6 +169,16 @@ def second_order_root(q):
 
     From |H(jw)|^2 = 1/2 (common practice). For Q = 1/sqrt(2) it is 1.
 
+    Parameters
+    ----------
+    q : sympy.Expr
+        Quality factor Q (positive).
+
+    Returns
+    -------
+    sympy.Expr
+        The cutoff over w0 of a low-pass (w0 over the cutoff of a high-pass).
+
     Examples
     --------
     >>> sympy.simplify(second_order_root(1 / sympy.sqrt(2)))
@@ -180,6 +194,16 @@ def cutoff(form: StandardForm) -> Cutoff:
     First order: w0. Second-order low-pass: w0 * sqrt(x + sqrt(x^2 + 1)) with
     x = 1 - 1/(2 Q^2), valid for every Q (peaking included); high-pass: w0 divided
     by the same root; band-pass: edges w0 (sqrt(1 + 4Q^2) -+ 1)/(2Q).
+
+    Parameters
+    ----------
+    form : StandardForm
+        From :func:`standard_form`.
+
+    Returns
+    -------
+    Cutoff
+        No value (and a reason) for band-pass, notch, all-pass and general forms.
 
     Examples
     --------

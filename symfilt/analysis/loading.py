@@ -28,7 +28,7 @@ class LoadLimit:
 
     Each fixture is taken alone: the other fixtures are at their ideal limits.
 
-    Attributes
+    Parameters
     ----------
     fixture : str
         ``R_L``, ``R_s`` or ``C_L``.

@@ -21,6 +21,18 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
     A quantity whose symbols do not all have values is left out; one that is
     undefined at these values (division by zero) is None.
 
+    Parameters
+    ----------
+    stage : StageResult
+        One view (loaded or ideal) of an analysis.
+    values : mapping
+        Symbol -> exact number, as :meth:`Circuit.values` gives.
+
+    Returns
+    -------
+    dict
+        Quantity name -> float or None (``stability`` -> str).
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -71,6 +83,17 @@ def stability(h: NetworkFunction, values: Mapping) -> str | None:
 
     Poles are the roots of the denominator at the values (sympy nroots, 30 digits).
 
+    Parameters
+    ----------
+    h : NetworkFunction
+        A transfer function.
+    values : mapping
+        Symbol -> number for every symbol but ``s``.
+
+    Returns
+    -------
+    str or None
+
     Examples
     --------
     >>> R, C = sympy.symbols("R C", positive=True)
@@ -100,7 +123,17 @@ def stability(h: NetworkFunction, values: Mapping) -> str | None:
 def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
     """Sensitivities of a stage as numbers at the given values.
 
-    Returns quantity -> symbol name -> float, only for tables whose every symbol has a value.
+    Parameters
+    ----------
+    stage : StageResult
+        One view of an analysis derived with sensitivities.
+    values : mapping
+        Symbol -> exact number, as :meth:`Circuit.values` gives.
+
+    Returns
+    -------
+    dict
+        Quantity -> symbol name -> float, only for tables whose every symbol has a value.
 
     Examples
     --------

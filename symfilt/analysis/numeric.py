@@ -28,6 +28,15 @@ ROOT_IMAG_TOL = 1e-9
 def trim(cs: Sequence[float]) -> list[float]:
     """The coefficients (lowest power first) without trailing exact zeros (one is kept).
 
+    Parameters
+    ----------
+    cs : sequence of float
+        Polynomial coefficients, lowest power first.
+
+    Returns
+    -------
+    list of float
+
     Examples
     --------
     >>> trim([1.0, 2.0, 0.0, 0.0]), trim([0.0])
@@ -113,6 +122,18 @@ def cutoff_polynomial(num: Sequence, den: Sequence, gain) -> list:
     """P(u) = 2 |N(jw)|^2 - gain^2 |D(jw)|^2 in u = w^2, lowest power first: its positive
     roots are the -3 dB points.
 
+    Parameters
+    ----------
+    num, den : sequence
+        Coefficients of N(s) and D(s), lowest power first.
+    gain : float
+        The pass-band gain (from :func:`passband_gain`).
+
+    Returns
+    -------
+    list
+        Coefficients of P(u), lowest power first.
+
     Examples
     --------
     >>> cutoff_polynomial([1.0], [1.0, 1.0], 1.0)  # 2 - (1 + u)
@@ -129,6 +150,16 @@ def positive_roots(p: Sequence[float]) -> list[float]:
 
     The variable is scaled so that the roots are near 1 before mpmath's polyroots
     runs, since circuit coefficients span many decades.
+
+    Parameters
+    ----------
+    p : sequence of float
+        Coefficients, lowest power first.
+
+    Returns
+    -------
+    list of float
+        Empty when there is none (or the root finder does not converge).
 
     Examples
     --------
@@ -162,6 +193,15 @@ def positive_roots(p: Sequence[float]) -> list[float]:
 def cutoff_from_coefficients(num: Sequence[float], den: Sequence[float]) -> float | None:
     """-3 dB angular frequency (rad/s) of H = N/D from float coefficients (lowest power
     first), by the pass-band rule of :func:`passband_gain`; None when there is none.
+
+    Parameters
+    ----------
+    num, den : sequence of float
+        Coefficients of N(s) and D(s), lowest power first.
+
+    Returns
+    -------
+    float or None
 
     Examples
     --------
@@ -277,6 +317,17 @@ def _companion_pick(np, q, deg: int, at_dc):
 
 def log_difference(hi, lo, rel_step: float) -> float | None:
     """d ln|y| / d ln x from y at x (1 + rel_step) and x (1 - rel_step); None unless both are non-zero.
+
+    Parameters
+    ----------
+    hi, lo : float or None
+        y at x (1 + rel_step) and at x (1 - rel_step).
+    rel_step : float
+        The relative step in x (0 < rel_step < 1).
+
+    Returns
+    -------
+    float or None
 
     Examples
     --------

@@ -28,14 +28,24 @@ from symfilt.analysis.numeric import numeric_cutoff, tidy as _tidy
 class StageResult:
     """Everything derived for one view of the stage (loaded or ideal).
 
-    Attributes
+    Parameters
     ----------
     transfer, zin, zout : NetworkFunction
+        Voltage transfer H(s), input and output impedance (ohms) of this view.
     form : StandardForm
+        The standard form of ``transfer``.
     cutoff : Cutoff
+        Its closed-form -3 dB cutoff (rad/s).
     sensitivity : dict
         quantity (``cutoff``, ``w0``, ``q``, ``dc_gain``) -> symbol name -> S_x^y
         (a quantity without a closed form maps to None).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> st = analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal
+    >>> st.form.kind, st.cutoff.value
+    ('lowpass', 1/(C1*R1))
     """
 
     transfer: NetworkFunction
@@ -74,10 +84,12 @@ class StageResult:
 class Analysis:
     """A circuit analysed loaded and ideal, side by side.
 
-    Attributes
+    Parameters
     ----------
     circuit : Circuit
+        The circuit analysed.
     loaded, ideal : StageResult
+        With the source and load fixtures, and with them at their ideal limits.
     numeric : dict
         ``{"loaded": {...}, "ideal": {...}}`` from :func:`numeric_values`.
     rules : tuple of SumRule
@@ -102,6 +114,16 @@ class Analysis:
 
     def ratio(self, key: str) -> float | None:
         """Loaded over ideal of a numeric quantity (``cutoff_hz``, ``dc_gain``, ``f0_hz``, ``q``).
+
+        Parameters
+        ----------
+        key : str
+            A key of ``numeric["loaded"]`` and ``numeric["ideal"]``.
+
+        Returns
+        -------
+        float or None
+            None when either value is missing or the ideal one is zero.
 
         Examples
         --------
@@ -211,6 +233,16 @@ def substitute(analysis: Analysis) -> Analysis:
     """The same analysis with the circuit's values put into every formula.
 
     Symbols without a value stay symbols. Numbers stay exact.
+
+    Parameters
+    ----------
+    analysis : Analysis
+        From :func:`analyse`; its circuit gives the values.
+
+    Returns
+    -------
+    Analysis
+        Same numeric results, rule checks and notes.
 
     Examples
     --------

@@ -62,13 +62,21 @@ def node_transfer(circuit: Circuit, unknown: str, *, max_terms: int = DEFAULT_MA
 class BranchCurrent:
     """The peak current leaving an op-amp's output node through one part.
 
-    Attributes
+    Parameters
     ----------
     part : str
         Part or fixture name (``R_L``, ``C_L`` for the load).
     node : str
         The part's other node (``0`` for ground).
     peak_a : float
+        Peak current in A.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> b = drive(catalogue.build("inverting-lowpass"), 1, 1000).opamps[0].branches[-1]
+    >>> b.part, b.node, round(b.peak_a * 1e3, 4)
+    ('R_L', '0', 0.8702)
     """
 
     part: str
@@ -80,12 +88,12 @@ class BranchCurrent:
 class OpampDrive:
     """What one op-amp has to deliver.
 
-    Attributes
+    Parameters
     ----------
     name, node : str
         The op-amp and its output node.
     vout_peak_v, iout_peak_a : float
-        Peak output voltage and current.
+        Peak output voltage (V) and current (A).
     slew_v_per_us : float
         2 pi f V_peak in V/µs.
     branches : tuple of BranchCurrent
@@ -94,11 +102,18 @@ class OpampDrive:
         Peak of whatever the output current sends elsewhere (controlled sources, other outputs);
         zero for a plain RC network.
     iout_max_a, slew_limit_v_per_us : float or None
-        The op-amp's limits, when given on the part.
+        The op-amp's limits (A, V/µs), when given on the part.
     iout_exceeded, slew_exceeded : bool or None
         True when the need passes the limit; None when there is no limit.
     vout_transfer : NetworkFunction
         V(out of the op-amp) / V(source), exact.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> d = drive(catalogue.build("inverting-lowpass"), 1, 1000).opamps[0]
+    >>> [b.part for b in d.branches], round(d.slew_v_per_us, 5), d.exceeded
+    (['R2', 'C1', 'R_L'], 0.01094, False)
     """
 
     name: str
@@ -130,13 +145,21 @@ class OpampDrive:
 class DriveResult:
     """The outcome of :func:`drive`.
 
-    Attributes
+    Parameters
     ----------
     amplitude : float
         Peak volts at the source.
     frequency : float
         Hz.
     opamps : tuple of OpampDrive
+        One per op-amp, in the circuit's order.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> r = drive(catalogue.build("inverting-lowpass"), "0.5", "1k")
+    >>> r.amplitude, r.frequency, [d.name for d in r.opamps]
+    (0.5, 1000.0, ['U1'])
     """
 
     amplitude: float

@@ -112,6 +112,17 @@ def series_neighbours(value, series: str = "E24") -> tuple[sympy.Rational, sympy
 def snap(value, series: str = "E24") -> sympy.Rational:
     """The series value nearest to ``value`` on a logarithmic scale.
 
+    Parameters
+    ----------
+    value : float or sympy.Rational
+        A positive value in SI base units.
+    series : str
+        A series name (``E6`` ... ``E192``).
+
+    Returns
+    -------
+    sympy.Rational
+
     Examples
     --------
     >>> snap(4600, "E12"), snap(5150, "E24")

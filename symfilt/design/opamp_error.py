@@ -52,7 +52,7 @@ _SHOWN = 250  # operations above which a first-order coefficient is given as a n
 class OpampError:
     """DC gain and cutoff of a circuit with real op-amps against ideal ones (loaded).
 
-    Attributes
+    Parameters
     ----------
     model : str
         ``gain`` or ``single-pole``.
@@ -73,6 +73,14 @@ class OpampError:
         ``{"dc_gain": {...}, "cutoff_hz": {...}}`` with ``ideal``, ``real``, ``error``
         (exact relative) and ``first_order`` (the first-order estimate), where values allow.
     notes : tuple of Finding
+        What was left out, worded by :mod:`symfilt.export.findings`.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> e = opamp_error(catalogue.build("inverting-lowpass"), "gain", gain="100k")
+    >>> e.model, e.cutoff_ideal, e.cutoff_first_order
+    ('gain', 1/(C1*R2), {'A_U1': R2/(R1 + R_s)})
     """
 
     model: str

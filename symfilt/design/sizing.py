@@ -53,6 +53,16 @@ def parse_target(text: str) -> tuple[str, sympy.Rational]:
 
     Cutoff and w0 are in Hz.
 
+    Parameters
+    ----------
+    text : str
+        The target as written on the command line; the value takes SI prefixes.
+
+    Returns
+    -------
+    (quantity, value) : (str, sympy.Rational)
+        quantity is one of the keys of :data:`TARGETS`.
+
     Examples
     --------
     >>> parse_target("cutoff=2k")
@@ -72,7 +82,7 @@ def parse_target(text: str) -> tuple[str, sympy.Rational]:
 class Neighbour:
     """One preferred value tried in place of the exact solution.
 
-    Attributes
+    Parameters
     ----------
     values : dict
         Part name -> exact value for every varied part.
@@ -80,6 +90,13 @@ class Neighbour:
         The target quantity with these values, loaded and ideal (Hz for cutoff and w0).
     error_pct, ideal_error_pct : float or None
         Deviation from the target in percent.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> n = size(catalogue.build("rc-lowpass"), ("cutoff", 2000), "R1").neighbours[0]
+    >>> n.values, round(n.loaded, 1), round(n.error_pct, 2)
+    ({'R1': 4700}, 2088.4, 4.42)
     """
 
     values: dict
@@ -93,7 +110,7 @@ class Neighbour:
 class SizeResult:
     """The outcome of :func:`size`.
 
-    Attributes
+    Parameters
     ----------
     vary : tuple of str
         The varied parts; the first is the one solved for, the others follow it in ``ratio``.
@@ -114,13 +131,22 @@ class SizeResult:
     method : str
         ``closed form`` or ``numeric root``.
     series : str
+        The preferred-number series of the neighbours (``E24``, ...).
     neighbours : tuple of Neighbour
         The series values just below and just above the solution.
     present : float or None
         The loaded quantity with the circuit's present values.
     notes : tuple of Finding
+        What limited the solution, worded by :mod:`symfilt.export.findings`.
     kinds : dict
         Part name -> kind (``resistor``, ``capacitor``, ``inductor``) of each varied part.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> r = size(catalogue.build("rc-lowpass"), ("cutoff", 2000), "R1")
+    >>> r.vary, r.method, r.series, round(r.present, 1)
+    (('R1',), 'closed form', 'E24', 2088.4)
     """
 
     vary: tuple

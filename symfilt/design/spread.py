@@ -57,6 +57,16 @@ _SENS_KEY = {"cutoff_hz": "cutoff", "f0_hz": "w0", "q": "q", "dc_gain": "dc_gain
 def parse_tolerance(text: str) -> tuple[str, float]:
     """Read ``NAME=TOL``: a part name or a class letter (R, C, L) and a tolerance (``1%`` or ``0.01``).
 
+    Parameters
+    ----------
+    text : str
+        The tolerance as written on the command line.
+
+    Returns
+    -------
+    (name, tolerance) : (str, float)
+        The tolerance as a fraction, 0 <= tolerance < 1.
+
     Examples
     --------
     >>> parse_tolerance("R=1%"), parse_tolerance("R3 = 0.1%"), parse_tolerance("C=0.05")
@@ -79,6 +89,18 @@ def expand_tolerances(circuit: Circuit, tolerances: Mapping[str, float]) -> dict
     """Tolerance per symbol: class letters (R, C, L) apply to every part of that kind,
     a part's own name overrides its class. Fixtures (R_s, R_L, C_L) and op-amp
     parameters (A_U1, GBW_U1) are toleranced only by name.
+
+    Parameters
+    ----------
+    circuit : Circuit
+        The circuit whose symbols are toleranced.
+    tolerances : mapping
+        Part, symbol or class name -> tolerance (fraction).
+
+    Returns
+    -------
+    dict
+        Symbol name -> tolerance, for the symbols with a non-zero tolerance.
 
     Examples
     --------
@@ -113,7 +135,7 @@ def expand_tolerances(circuit: Circuit, tolerances: Mapping[str, float]) -> dict
 class QuantitySpread:
     """Statistics of one quantity over a spread run.
 
-    Attributes
+    Parameters
     ----------
     nominal, mean, std, p1, p50, p99 : float
         std with ddof = 1; percentiles of the Monte Carlo samples.
@@ -129,6 +151,13 @@ class QuantitySpread:
         |nominal| sqrt(sum (S_i sigma_i)^2): the first-order estimate of std.
     undefined : int
         Samples where the quantity did not exist (no cutoff found).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> q = spread(catalogue.build("rc-lowpass"), {"C": 0.05}, runs=200, seed=1).quantities["dc_gain"]
+    >>> q.worst_method, round(q.nominal, 4), q.std_linear
+    ('corners', 0.6536, 0.0)
     """
 
     nominal: float
@@ -152,10 +181,12 @@ class QuantitySpread:
 class SpreadResult:
     """The outcome of :func:`spread`.
 
-    Attributes
+    Parameters
     ----------
     runs, seed : int
+        Number of Monte Carlo samples and the random seed.
     distribution : str
+        One of :data:`DISTRIBUTIONS`.
     tolerances : dict
         Symbol name -> tolerance (fraction) actually applied.
     quantities : dict
@@ -165,6 +196,14 @@ class SpreadResult:
     samples : dict
         Key -> numpy array of the Monte Carlo values (for histograms).
     notes : tuple of Finding
+        What limited the run, worded by :mod:`symfilt.export.findings`.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> r = spread(catalogue.build("rc-lowpass"), {"R": 0.01, "C": 0.05}, runs=200, seed=1)
+    >>> r.tolerances, sorted(r.quantities), len(r.samples["cutoff_hz"])
+    ({'R1': 0.01, 'C1': 0.05}, ['cutoff_hz', 'dc_gain', 'f0_hz'], 200)
     """
 
     runs: int
@@ -181,7 +220,7 @@ class SpreadResult:
 class VectorModel:
     """Vectorised numpy functions of the loaded stage's quantities.
 
-    Attributes
+    Parameters
     ----------
     names : tuple of str
         Argument names (every symbol but s), in call order.
@@ -189,6 +228,13 @@ class VectorModel:
         Quantity key -> callable taking one array (or number) per name.
     sensitivities : dict
         Key -> symbol name -> closed-form sensitivity as a number (where the analysis has one).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> m = vector_model(catalogue.build("rc-lowpass"))
+    >>> m.names, sorted(m.functions)
+    (('C1', 'R1', 'R_L', 'R_s'), ['cutoff_hz', 'dc_gain', 'f0_hz'])
     """
 
     names: tuple
@@ -197,6 +243,17 @@ class VectorModel:
 
     def evaluate(self, key: str, values: Mapping[str, object]):
         """One quantity with an array or a number per symbol name.
+
+        Parameters
+        ----------
+        key : str
+            A key of :attr:`functions`.
+        values : mapping
+            Symbol name -> number or numpy array, for every name of :attr:`names`.
+
+        Returns
+        -------
+        float or numpy.ndarray
 
         Examples
         --------
@@ -209,6 +266,17 @@ class VectorModel:
 
 def vector_model(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS) -> VectorModel:
     """Lambdify the loaded cutoff (Hz), f0 (Hz), Q and DC gain of a circuit with numpy.
+
+    Parameters
+    ----------
+    circuit : Circuit
+        The circuit; its loaded stage is analysed with sensitivities.
+    max_terms : int
+        Size budget of the elimination.
+
+    Returns
+    -------
+    VectorModel
 
     Examples
     --------

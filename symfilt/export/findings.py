@@ -82,6 +82,15 @@ def describe(finding: Finding | None) -> str:
 def describe_all(findings) -> list[str]:
     """The sentences for a sequence of findings, in order.
 
+    Parameters
+    ----------
+    findings : iterable of Finding
+        The findings to word (None entries give ``""``).
+
+    Returns
+    -------
+    list of str
+
     Examples
     --------
     >>> from symfilt.analysis.findings import finding
