@@ -33,6 +33,11 @@ def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Ex
     has integer coefficients without a common factor, and the denominator's trailing
     coefficient is positive (:func:`symfilt.engine.rational.cancel_pair`).
 
+    Parameters
+    ----------
+    num, den : sympy.Expr
+        Polynomials with rational coefficients (pi allowed).
+
     Examples
     --------
     >>> x, y = sympy.symbols("x y", positive=True)
@@ -127,6 +132,13 @@ class NetworkFunction:
     def from_ratio(cls, ratio, quantity: str = "transfer") -> "NetworkFunction":
         """Build from a :class:`~symfilt.engine.rational.Ratio`; sympy views are made lazily.
 
+        Parameters
+        ----------
+        ratio : Ratio
+            The cancelled ratio, polynomials in ``s`` and the circuit's symbols.
+        quantity : str
+            ``transfer``, ``zin`` or ``zout``.
+
         Examples
         --------
         >>> from symfilt import catalogue
@@ -141,6 +153,13 @@ class NetworkFunction:
     @classmethod
     def from_expr(cls, expr, quantity: str = "transfer") -> "NetworkFunction":
         """Build from any rational expression in ``s`` (cancelled exactly).
+
+        Parameters
+        ----------
+        expr : sympy.Expr
+            A rational expression in ``s``.
+        quantity : str
+            ``transfer``, ``zin`` or ``zout``.
 
         Examples
         --------
@@ -303,6 +322,13 @@ class NetworkFunction:
 
         Raises SingularCircuitError when the limit is infinite.
 
+        Parameters
+        ----------
+        symbol : sympy.Symbol
+            The symbol that goes to ``point``.
+        point : {0, sympy.oo}
+            Where it goes (anything but 0 means infinity).
+
         Examples
         --------
         >>> Rl = sympy.Symbol("R_L", positive=True)
@@ -335,6 +361,11 @@ class NetworkFunction:
     def subs(self, values: Mapping) -> "NetworkFunction":
         """Substitute exact values (symbol or name -> number) and cancel.
 
+        Parameters
+        ----------
+        values : Mapping
+            Symbol or name -> exact number (floats are read from their decimal repr).
+
         Examples
         --------
         >>> R = sympy.Symbol("R", positive=True)
@@ -351,6 +382,11 @@ class NetworkFunction:
 
         The coefficient polynomials are evaluated exactly (flint rationals) and then
         rounded, so repeated evaluation at nearby values is cheap.
+
+        Parameters
+        ----------
+        values : Mapping
+            Symbol or name -> number, for every symbol other than ``s``.
 
         Examples
         --------

@@ -105,6 +105,13 @@ def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
 def sensitivities(y: sympy.Expr | None, symbols) -> dict[str, sympy.Expr] | None:
     """S_x^y for every symbol x in ``symbols`` (names -> expressions); None when y is None.
 
+    Parameters
+    ----------
+    y : sympy.Expr or None
+        The quantity.
+    symbols : iterable of sympy.Symbol
+        The symbols x.
+
     Examples
     --------
     >>> R, C = sympy.symbols("R C", positive=True)
@@ -120,16 +127,24 @@ def sensitivities(y: sympy.Expr | None, symbols) -> dict[str, sympy.Expr] | None
 class SumRule:
     """One sum-rule self-check.
 
-    Attributes
+    Parameters
     ----------
     quantity : str
         ``w0`` or ``q``.
     group : str
         ``resistors`` or ``capacitors``.
     expected : int
+        The sum the rule asks for (-1 for ``w0``, 0 for ``q``).
     total : sympy.Expr
         The sum of the derived sensitivities (simplified).
     holds : bool
+        Whether ``total`` equals ``expected`` exactly.
+
+    Examples
+    --------
+    >>> half = sympy.Rational(1, 2)
+    >>> sum_rules({"q": {"R1": half, "R2": -half}}, ["R1", "R2"], [])[0]
+    SumRule(quantity='q', group='resistors', expected=0, total=0, holds=True)
     """
 
     quantity: str

@@ -32,7 +32,7 @@ FACTOR_TERMS = 60
 class Ratio:
     """An exact ratio ``num / den`` of flint polynomials over the plain symbols.
 
-    Attributes
+    Parameters
     ----------
     num, den : flint.fmpz_mpoly
         Coprime polynomials in one context (``den`` is 0 for an infinite ratio).
@@ -56,6 +56,11 @@ class Ratio:
         """Build from two polynomial expressions with rational coefficients, cancelled.
 
         The generators are the free symbols sorted by name, then pi when present.
+
+        Parameters
+        ----------
+        num, den : sympy.Expr or int
+            Polynomials with rational coefficients (pi allowed).
 
         Examples
         --------
@@ -105,6 +110,11 @@ class Ratio:
         """``num/den`` as one sympy expression, factored (flint) when it has at most
         ``factor_terms`` terms (always when None); ``oo`` when infinite.
 
+        Parameters
+        ----------
+        factor_terms : int or None
+            Largest number of terms still factored; None factors always.
+
         Examples
         --------
         >>> x, y = sympy.symbols("x y")
@@ -140,6 +150,11 @@ class Ratio:
     def name_of(self, var) -> str | None:
         """The generator name of a symbol (or a name), None when it is not a generator.
 
+        Parameters
+        ----------
+        var : sympy.Symbol or str
+            The symbol, or its generator name.
+
         Examples
         --------
         >>> x = sympy.Symbol("x")
@@ -168,6 +183,11 @@ class Ratio:
     def degree(self, var) -> int:
         """The larger degree of numerator and denominator in one symbol (0 when absent).
 
+        Parameters
+        ----------
+        var : sympy.Symbol or str
+            The symbol, or its generator name.
+
         Examples
         --------
         >>> x = sympy.Symbol("x")
@@ -186,6 +206,11 @@ class Ratio:
         The coefficients are flint polynomials in the other symbols; convert one with
         :func:`poly_to_sympy`.
 
+        Parameters
+        ----------
+        var : sympy.Symbol or str
+            The symbol, or its generator name.
+
         Examples
         --------
         >>> x, y = sympy.symbols("x y")
@@ -202,6 +227,13 @@ class Ratio:
         """The ratio as one symbol goes to 0 or to infinity (``point`` 0 or ``"oo"``), cancelled.
 
         None when the limit is infinite; the ratio itself when it does not contain the symbol.
+
+        Parameters
+        ----------
+        var : sympy.Symbol or str
+            The symbol, or its generator name.
+        point : {0, "oo"}
+            Where the symbol goes.
 
         Examples
         --------
@@ -234,6 +266,13 @@ class Ratio:
         """The value as ``var`` goes to 0 or oo (``point`` 0 or ``"oo"``) as a sympy
         expression, factored (:meth:`factored`) when small; ``oo`` when unbounded.
 
+        Parameters
+        ----------
+        point : {0, "oo"}
+            Where ``var`` goes.
+        var : sympy.Symbol or str
+            The variable, ``s`` by default.
+
         Examples
         --------
         >>> s, k = sympy.symbols("s k")
@@ -258,6 +297,11 @@ class Ratio:
 
         Rational values (floats are read exactly from their decimal repr) are put in
         on the flint polynomials; any other value goes through sympy.
+
+        Parameters
+        ----------
+        values : Mapping
+            Symbol or generator name -> exact number or expression.
 
         Examples
         --------
@@ -354,6 +398,11 @@ def cancel_pair(num, den):
     and make the denominator's trailing term (lowest in the ring's order) positive.
     ``0/d`` becomes ``0/1`` and ``n/0`` becomes ``1/0``.
 
+    Parameters
+    ----------
+    num, den : flint.fmpz_mpoly or flint.fmpq_mpoly
+        Two polynomials in one context.
+
     Examples
     --------
     >>> ctx = flint.fmpz_mpoly_ctx.get(("x", "y"), "lex")
@@ -383,6 +432,11 @@ def integer_scale(fn, fd):
     """Scale a pair of ``fmpq_mpoly`` so both have integer coefficients with no common
     factor and the denominator's trailing coefficient is positive.
 
+    Parameters
+    ----------
+    fn, fd : flint.fmpq_mpoly
+        Numerator and denominator in one context.
+
     Examples
     --------
     >>> x = sympy.Symbol("x")
@@ -409,6 +463,11 @@ def cancel_exprs(num, den) -> tuple[sympy.Expr, sympy.Expr]:
 
     Coefficients must be rational; the number pi may appear as a factor.
 
+    Parameters
+    ----------
+    num, den : sympy.Expr
+        Polynomials with rational coefficients (pi allowed).
+
     Examples
     --------
     >>> x, y = sympy.symbols("x y", positive=True)
@@ -420,6 +479,11 @@ def cancel_exprs(num, den) -> tuple[sympy.Expr, sympy.Expr]:
 
 def factor_ratio(num, den=1) -> sympy.Expr:
     """num/den cancelled and factored with python-flint (much faster than sympy.factor).
+
+    Parameters
+    ----------
+    num, den : sympy.Expr
+        Polynomials with rational coefficients (pi allowed); ``den`` 1 by default.
 
     Examples
     --------
@@ -438,6 +502,15 @@ def rational_limit(expr, x, point):
 
     Worked on flint polynomials when every coefficient is rational (pi allowed);
     otherwise on the polynomials in ``x`` with sympy coefficients.
+
+    Parameters
+    ----------
+    expr : sympy.Expr
+        A ratio of polynomials.
+    x : sympy.Symbol
+        The variable that goes to ``point``.
+    point : {0, "oo"}
+        Where ``x`` goes.
 
     Examples
     --------
