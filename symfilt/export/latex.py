@@ -12,6 +12,11 @@ from symfilt.export.common import impedance_display, parallel_display, symbol_na
 def transfer_tex(h) -> str:
     """LaTeX of H(s) as ``K \\cdot \\frac{N(s)}{D(s)}``.
 
+    Parameters
+    ----------
+    h : NetworkFunction
+        The transfer function.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -35,6 +40,13 @@ def transfer_tex(h) -> str:
 def tex(expr, *, keep_parallel: bool = True) -> str:
     """LaTeX of one expression with symfilt's symbol names.
 
+    Parameters
+    ----------
+    expr : sympy.Expr or None
+        The expression (None is written as a dash).
+    keep_parallel : bool
+        Write parallel combinations as ``a \\parallel b``.
+
     Examples
     --------
     >>> R1, C1 = sympy.symbols("R1 C1", positive=True)
@@ -56,6 +68,11 @@ _LABELS = {"transfer": "H(s)", "gain": "K", "w0": "\\omega_{0}", "q": "Q", "tau"
 
 def stage_equations(st: StageResult) -> list[tuple[str, str]]:
     """(LaTeX left-hand side, right-hand side) pairs for one view, in report order.
+
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
 
     Examples
     --------
@@ -84,6 +101,13 @@ def stage_equations(st: StageResult) -> list[tuple[str, str]]:
 def quantity_latex(st: StageResult, quantity: str) -> str | None:
     """LaTeX of one named quantity (``transfer``, ``dc-gain``, ``cutoff``, ``w0``, ``q``, ``zin``, ``zout``).
 
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
+    quantity : str
+        The quantity's name.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -102,6 +126,11 @@ def quantity_latex(st: StageResult, quantity: str) -> str | None:
 
 def sensitivity_rows(st: StageResult) -> list[tuple[str, str]]:
     """(LaTeX lhs, rhs) for every sensitivity of a view.
+
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
 
     Examples
     --------
@@ -124,6 +153,13 @@ def sensitivity_rows(st: StageResult) -> list[tuple[str, str]]:
 
 def render(a: Analysis, quantity: str | None = None) -> str:
     """LaTeX for ``symfilt derive --format latex``: align* environments, loaded then ideal.
+
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+    quantity : str, optional
+        Only this quantity (a ``--quantity`` name); every equation when None.
 
     Examples
     --------
