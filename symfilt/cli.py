@@ -58,6 +58,11 @@ class _Group(click.Group):
 def load(source: str):
     """A circuit from a file path or ``@name`` of a built-in.
 
+    Parameters
+    ----------
+    source : str
+        A circuit file's path, or ``@`` and a catalogue name.
+
     Examples
     --------
     >>> load("@rc-lowpass").title
@@ -374,7 +379,12 @@ def demo():
 
 
 def main(argv=None) -> int:
-    """Console entry point.
+    """Console entry point: run the command line, return its exit code.
+
+    Parameters
+    ----------
+    argv : list of str, optional
+        The arguments (``sys.argv[1:]`` when None).
 
     Examples
     --------

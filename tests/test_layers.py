@@ -109,6 +109,34 @@ def test_no_module_imports_a_private_name(path):
     assert not bad, "private names imported: " + "; ".join(bad)
 
 
+def _private_attributes(tree: ast.Module) -> list[str]:
+    """``module._name`` reads where ``module`` was bound by importing a symfilt module."""
+    modules = set()
+    for node in ast.walk(tree):
+        if isinstance(node, ast.ImportFrom) and (node.module or "").split(".")[0] == "symfilt":
+            for a in node.names:
+                full = f"{node.module}.{a.name}"
+                if (PACKAGE.parent / (full.replace(".", "/") + ".py")).is_file() \
+                        or (PACKAGE.parent / full.replace(".", "/")).is_dir():
+                    modules.add(a.asname or a.name)
+        elif isinstance(node, ast.Import):
+            modules.update(a.asname for a in node.names if a.asname and a.name.split(".")[0] == "symfilt")
+    return [f"line {n.lineno}: {n.value.id}.{n.attr}" for n in ast.walk(tree)
+            if isinstance(n, ast.Attribute) and isinstance(n.value, ast.Name) and n.value.id in modules
+            and n.attr.startswith("_") and not n.attr.startswith("__")]
+
+
+@pytest.mark.parametrize("path", _modules(), ids=lambda p: str(p.relative_to(PACKAGE)))
+def test_no_module_reads_a_private_name_of_another(path):
+    bad = _private_attributes(ast.parse(path.read_text(encoding="utf-8")))
+    assert not bad, "private names read through a module: " + "; ".join(bad)
+
+
+def test_the_private_read_check_sees_one():
+    tree = ast.parse("from symfilt.export import latex\nx = latex._LABELS\ny = latex.LABELS\n")
+    assert _private_attributes(tree) == ["line 2: latex._LABELS"]
+
+
 @pytest.mark.parametrize("path", _modules(), ids=lambda p: str(p.relative_to(PACKAGE)))
 def test_modules_stay_small(path):
     lines = len(path.read_text(encoding="utf-8").splitlines())

@@ -72,7 +72,19 @@ class Judge:
 
     # exact arithmetic ---------------------------------------------------------
     def pair(self, expr: sympy.Expr):
-        """(numerator, denominator) as flint polynomials, or None if not rational."""
+        """(numerator, denominator) as flint polynomials, or None if not rational.
+
+        Parameters
+        ----------
+        expr : sympy.Expr
+            The expression to bring to polynomials.
+
+        Examples
+        --------
+        >>> x = sympy.Symbol("x")
+        >>> Judge({x}, 0).pair(1 / x), Judge({x}, 0).pair(sympy.sqrt(x))
+        ((1, x0), None)
+        """
         if expr not in self._pairs:
             self._pairs[expr] = self._pair(expr)
         return self._pairs[expr]
@@ -111,7 +123,20 @@ class Judge:
         return None
 
     def reduced(self, p):
-        """p with I**2 = -1 applied."""
+        """p with I**2 = -1 applied.
+
+        Parameters
+        ----------
+        p : flint.fmpq_mpoly
+            A polynomial of this judge's context.
+
+        Examples
+        --------
+        >>> x = sympy.Symbol("x")
+        >>> judge = Judge({x}, 0)
+        >>> judge.reduced(judge.pair(sympy.I * x)[0] ** 2)
+        -x0^2
+        """
         if p.is_zero() or p.degrees()[self.i_index] < 2:
             return p
         acc: dict[tuple[int, ...], Any] = {}
@@ -122,19 +147,53 @@ class Judge:
         return self.ctx.from_dict({key: c for key, c in acc.items() if c != 0})
 
     def rational(self, expr: sympy.Expr):
-        """The pair with the denominator checked, or None if not rational."""
+        """The pair with the denominator checked, or None if not rational.
+
+        Parameters
+        ----------
+        expr : sympy.Expr
+            The expression; a denominator that is zero raises ClaimError.
+
+        Examples
+        --------
+        >>> x = sympy.Symbol("x")
+        >>> Judge({x}, 0).rational((x + 1) / x)
+        (x0 + 1, x0)
+        """
         p = self.pair(expr)
         if p is not None and self.reduced(p[1]).is_zero():
             raise ClaimError("claim", "the expression divides by zero", "check the denominators")
         return p
 
     def to_sympy(self, p) -> sympy.Expr:
+        """The sympy expression of a polynomial of this judge's context.
+
+        Parameters
+        ----------
+        p : flint.fmpq_mpoly
+            A polynomial of this judge's context.
+
+        Examples
+        --------
+        >>> x = sympy.Symbol("x")
+        >>> judge = Judge({x}, 0)
+        >>> judge.to_sympy(judge.pair(sympy.I * x)[0])
+        I*x
+        """
         gens = self.symbols + [sympy.I, sympy.pi]
         return sympy.Add(*[sympy.Rational(int(c.p), int(c.q)) * sympy.Mul(*[g**k for g, k in zip(gens, exps)])
                            for exps, c in p.to_dict().items()])
 
     # sampling -----------------------------------------------------------------
     def points(self) -> list[dict[sympy.Symbol, Any]]:
+        """The sample points (3 * SAMPLE_POINTS, from the seed), made once.
+
+        Examples
+        --------
+        >>> x = sympy.Symbol("x")
+        >>> len(Judge({x}, 0).points()) == 3 * SAMPLE_POINTS
+        True
+        """
         if self._points is None:
             rng, mp = random.Random(self.seed), self.mp
             self._points = []
@@ -146,6 +205,22 @@ class Judge:
         return self._points
 
     def value(self, expr: sympy.Expr, k: int):
+        """The value of expr at sample point k (kept for reuse).
+
+        Parameters
+        ----------
+        expr : sympy.Expr
+            The expression.
+        k : int
+            Index into :meth:`points`.
+
+        Examples
+        --------
+        >>> x = sympy.Symbol("x")
+        >>> judge = Judge({x}, 0)
+        >>> judge.value(x + 1, 0) - judge.value(x, 0)
+        mpf('1.0')
+        """
         key = (expr, k)
         if key not in self._values:
             self._values[key] = mp_eval(expr, self.points()[k], self.mp)
@@ -171,7 +246,19 @@ class Judge:
         return True, used
 
     def same(self, a: sympy.Expr, b: sympy.Expr) -> tuple[bool, str, int]:
-        """(equal, "exact" or "sampled", points used)."""
+        """(equal, "exact" or "sampled", points used).
+
+        Parameters
+        ----------
+        a, b : sympy.Expr
+            The two sides.
+
+        Examples
+        --------
+        >>> x = sympy.Symbol("x")
+        >>> Judge({x}, 0).same(x / x, sympy.Integer(1))
+        (True, 'exact', 0)
+        """
         pa, pb = self.rational(a), self.rational(b)
         if pa is not None and pb is not None:
             return self.reduced(pa[0] * pb[1] - pb[0] * pa[1]).is_zero(), "exact", 0
@@ -179,6 +266,19 @@ class Judge:
         return equal, "sampled", used
 
     def equal(self, a: sympy.Expr | None, b: sympy.Expr | None) -> bool:
+        """Whether a equals b; None is equal to nothing, zoo only to zoo.
+
+        Parameters
+        ----------
+        a, b : sympy.Expr or None
+            The two sides.
+
+        Examples
+        --------
+        >>> x = sympy.Symbol("x")
+        >>> Judge({x}, 0).equal(x, x), Judge({x}, 0).equal(x, None)
+        (True, False)
+        """
         if a is None or b is None or a.has(sympy.zoo) or b.has(sympy.zoo):
             return a is not None and b is not None and a.has(sympy.zoo) and b.has(sympy.zoo)
         return self.same(a, b)[0]
@@ -192,7 +292,19 @@ class Judge:
         return p[0] / g, p[1] / g
 
     def order(self, expr: sympy.Expr) -> int | None:
-        """Order in s (degree of the larger of numerator and denominator), or None."""
+        """Order in s (degree of the larger of numerator and denominator), or None.
+
+        Parameters
+        ----------
+        expr : sympy.Expr
+            A rational function free of I.
+
+        Examples
+        --------
+        >>> s, x = sympy.symbols("s x")
+        >>> Judge({s, x}, 0).order(1 / (s**2 + x * s + 1))
+        2
+        """
         p = self._lowest(expr)
         if p is None or self.s not in self.gens:
             return None if p is None else 0
@@ -200,7 +312,19 @@ class Judge:
         return max(p[0].degrees()[k], p[1].degrees()[k])
 
     def ratio(self, a: sympy.Expr, b: sympy.Expr) -> sympy.Expr | None:
-        """a/b when it is a rational function free of s, else None."""
+        """a/b when it is a rational function free of s, else None.
+
+        Parameters
+        ----------
+        a, b : sympy.Expr
+            Numerator and denominator of the ratio.
+
+        Examples
+        --------
+        >>> s, x = sympy.symbols("s x")
+        >>> Judge({s, x}, 0).ratio(x / (s + 1), 1 / (s + 1)), Judge({s, x}, 0).ratio(s, sympy.Integer(1))
+        (x, None)
+        """
         pa, pb = self.pair(a), self.pair(b)
         if pa is None or pb is None or self.s not in self.gens or pb[0].is_zero():
             return None

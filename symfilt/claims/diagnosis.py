@@ -42,7 +42,7 @@ FINDING_KINDS = ("left-out", "part-limit", "sign", "two-pi", "missing-j", "excha
 class ClaimFinding:
     """One item of the diagnosis of a differing claim: a kind code and its data.
 
-    Attributes
+    Parameters
     ----------
     kind : str
         One of ``FINDING_KINDS``.

@@ -30,7 +30,7 @@ __all__ = ["SAMPLE_DIGITS", "SAMPLE_POINTS", "TOLERANCE", "ClaimFinding", "Equiv
 class Equivalence:
     """Outcome of comparing a claim with a derived expression.
 
-    Attributes
+    Parameters
     ----------
     equivalent : bool
         Whether the claim equals the derived expression.

@@ -33,7 +33,7 @@ OPAMP_MODELS = ("ideal", "gain", "single-pole")
 class Report:
     """What ``symfilt derive`` shows for a circuit.
 
-    Attributes
+    Parameters
     ----------
     circuit : Circuit
         The circuit analysed (op-amps switched to the model asked for).

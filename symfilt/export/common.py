@@ -18,6 +18,11 @@ GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "
 def latex_name(name: str) -> str:
     """The trade's LaTeX for a symbol name: R1 -> R_{1}, R_s -> R_{s}, A_U1 -> A_{U1}.
 
+    Parameters
+    ----------
+    name : str
+        The symbol's name.
+
     Examples
     --------
     >>> [latex_name(n) for n in ["R1", "R_s", "A_U1", "Rb", "GBW_U1", "beta", "E"]]
@@ -39,6 +44,11 @@ def latex_name(name: str) -> str:
 def symbol_names(expr) -> dict:
     """symbol -> LaTeX name for every free symbol of ``expr`` (for sympy's latex printer).
 
+    Parameters
+    ----------
+    expr : sympy.Expr or None
+        The expression (None, or anything without free symbols, gives ``{}``).
+
     Examples
     --------
     >>> symbol_names(sympy.Symbol("R1") + sympy.Symbol("s"))[sympy.Symbol("R1")]
@@ -50,7 +60,19 @@ def symbol_names(expr) -> dict:
 
 
 class Parallel(sympy.Function):
-    """Display-only parallel combination a || b = a b / (a + b)."""
+    """Display-only parallel combination a || b = a b / (a + b).
+
+    Parameters
+    ----------
+    *args : sympy.Expr
+        The two branches a and b.
+
+    Examples
+    --------
+    >>> R1, R2 = sympy.symbols("R1 R2")
+    >>> print(Parallel(R1, R2), sympy.latex(Parallel(R1, R2)))
+    (R1 || R2) \\left(R_{1} \\parallel R_{2}\\right)
+    """
 
     nargs = 2
 
@@ -106,6 +128,11 @@ def parallel_display(expr):
 
     The result prints with ``||`` (text) or ``\\parallel`` (LaTeX) and equals the
     input; JSON never uses it.
+
+    Parameters
+    ----------
+    expr : sympy.Expr or None
+        The expression; one with ``s``, a number or a large one is returned as is.
 
     Examples
     --------
@@ -179,6 +206,11 @@ def transfer_parts(h, *, parallel: bool = True):
 
 def impedance_display(z):
     """An impedance for display: factored when small (``(C1 R1 s + 1)/(C1 s)``), else normalized.
+
+    Parameters
+    ----------
+    z : NetworkFunction
+        The impedance (an infinite one gives ``oo``).
 
     Examples
     --------

@@ -49,6 +49,11 @@ def _pct(x, digits: int = 3) -> str:
 def size_dict(r) -> dict:
     """A :class:`~symfilt.design.sizing.SizeResult` as a JSON-ready dict (DESIGN.md ``size``).
 
+    Parameters
+    ----------
+    r : SizeResult
+        The result of :func:`symfilt.design.sizing.size`.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -78,6 +83,11 @@ def size_dict(r) -> dict:
 
 def size_text(r) -> str:
     """A :class:`~symfilt.design.sizing.SizeResult` as a plain-text report.
+
+    Parameters
+    ----------
+    r : SizeResult
+        The result of :func:`symfilt.design.sizing.size`.
 
     Examples
     --------
@@ -126,6 +136,11 @@ _STAT_KEYS = ("nominal", "mean", "std", "p1", "p50", "p99", "worst_low", "worst_
 def spread_dict(r) -> dict:
     """A :class:`~symfilt.design.spread.SpreadResult` as a JSON-ready dict (DESIGN.md ``spread``).
 
+    Parameters
+    ----------
+    r : SpreadResult
+        The result of :func:`symfilt.design.spread.spread`.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -149,6 +164,11 @@ def spread_dict(r) -> dict:
 
 def spread_text(r) -> str:
     """A :class:`~symfilt.design.spread.SpreadResult` as a plain-text table.
+
+    Parameters
+    ----------
+    r : SpreadResult
+        The result of :func:`symfilt.design.spread.spread`.
 
     Examples
     --------
@@ -185,6 +205,13 @@ def spread_text(r) -> str:
 def progress_line(done: int, total: int, width: int = 30) -> str:
     """A one-line progress bar for stderr.
 
+    Parameters
+    ----------
+    done, total : int
+        Runs done and runs in all.
+    width : int
+        Characters of the bar.
+
     Examples
     --------
     >>> progress_line(5000, 20000, width=8)
@@ -200,6 +227,15 @@ def write_histogram(r, path, *, protect=()) -> None:
 
     matplotlib is imported here only, its object-oriented interface alone: no pyplot, no
     backend switch.
+
+    Parameters
+    ----------
+    r : SpreadResult
+        The result of :func:`symfilt.design.spread.spread` (with samples).
+    path : str or Path
+        The image file; its suffix picks the format.
+    protect : iterable of path
+        Files that must not be overwritten (the inputs).
 
     Examples
     --------
@@ -249,6 +285,11 @@ def write_histogram(r, path, *, protect=()) -> None:
 def drive_warnings(r) -> list[str]:
     """One line per limit an op-amp exceeds.
 
+    Parameters
+    ----------
+    r : DriveResult
+        The result of :func:`symfilt.design.drive.drive`.
+
     Examples
     --------
     >>> from symfilt.model.circuit import Circuit, Part
@@ -271,6 +312,11 @@ def drive_warnings(r) -> list[str]:
 
 def drive_dict(r) -> dict:
     """A :class:`~symfilt.design.drive.DriveResult` as a JSON-ready dict (DESIGN.md ``drive``).
+
+    Parameters
+    ----------
+    r : DriveResult
+        The result of :func:`symfilt.design.drive.drive`.
 
     Examples
     --------
@@ -297,6 +343,11 @@ def drive_dict(r) -> dict:
 
 def drive_text(r) -> str:
     """A :class:`~symfilt.design.drive.DriveResult` as a plain-text report.
+
+    Parameters
+    ----------
+    r : DriveResult
+        The result of :func:`symfilt.design.drive.drive`.
 
     Examples
     --------
@@ -332,6 +383,11 @@ def drive_text(r) -> str:
 def opamp_error_dict(e) -> dict:
     """A :class:`~symfilt.design.opamp_error.OpampError` as a JSON-ready dict.
 
+    Parameters
+    ----------
+    e : OpampError
+        The result of :func:`symfilt.design.opamp_error.opamp_error`.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -365,6 +421,11 @@ def _series_line(terms: dict | None) -> str:
 
 def opamp_error_text(e) -> str:
     """A :class:`~symfilt.design.opamp_error.OpampError` as a plain-text section.
+
+    Parameters
+    ----------
+    e : OpampError
+        The result of :func:`symfilt.design.opamp_error.opamp_error`.
 
     Examples
     --------

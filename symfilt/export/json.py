@@ -32,6 +32,11 @@ def _num(x):
 def transfer_text(h) -> str:
     """H(s) as sympy-readable text ``(K)*(N)/(D)`` with N and D starting at 1.
 
+    Parameters
+    ----------
+    h : NetworkFunction
+        The transfer function.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -87,6 +92,11 @@ def _impedance_text(z) -> str:
 def stage_dict(st: StageResult) -> dict:
     """One view (loaded or ideal) as a JSON-ready dict.
 
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -124,6 +134,13 @@ def stage_dict(st: StageResult) -> dict:
 
 def analysis_dict(a: Analysis, extra: dict | None = None) -> dict:
     """The whole ``derive`` result as a JSON-ready dict (DESIGN.md contract).
+
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+    extra : dict, optional
+        More top-level keys to add (such as the load limits).
 
     Examples
     --------
@@ -163,6 +180,11 @@ def analysis_dict(a: Analysis, extra: dict | None = None) -> dict:
 def dumps(data) -> str:
     """JSON text, two-space indented, finite numbers only.
 
+    Parameters
+    ----------
+    data : dict
+        JSON-ready data (no NaN or infinity).
+
     Examples
     --------
     >>> dumps({"a": 1})
@@ -173,6 +195,11 @@ def dumps(data) -> str:
 
 def read_symbols(data: dict) -> dict:
     """Name -> sympy Symbol with the right assumptions, from a JSON result's ``symbols`` table.
+
+    Parameters
+    ----------
+    data : dict
+        A JSON result, as :func:`analysis_dict` makes it.
 
     Examples
     --------

@@ -12,6 +12,11 @@ from symfilt.export.common import impedance_display, parallel_display, symbol_na
 def transfer_tex(h) -> str:
     """LaTeX of H(s) as ``K \\cdot \\frac{N(s)}{D(s)}``.
 
+    Parameters
+    ----------
+    h : NetworkFunction
+        The transfer function.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -35,6 +40,13 @@ def transfer_tex(h) -> str:
 def tex(expr, *, keep_parallel: bool = True) -> str:
     """LaTeX of one expression with symfilt's symbol names.
 
+    Parameters
+    ----------
+    expr : sympy.Expr or None
+        The expression (None is written as a dash).
+    keep_parallel : bool
+        Write parallel combinations as ``a \\parallel b``.
+
     Examples
     --------
     >>> R1, C1 = sympy.symbols("R1 C1", positive=True)
@@ -49,13 +61,19 @@ def tex(expr, *, keep_parallel: bool = True) -> str:
     return sympy.latex(e, symbol_names=symbol_names(expr), ln_notation=False)
 
 
-_LABELS = {"transfer": "H(s)", "gain": "K", "w0": "\\omega_{0}", "q": "Q", "tau": "\\tau",
+#: LaTeX left-hand side of each quantity.
+LABELS = {"transfer": "H(s)", "gain": "K", "w0": "\\omega_{0}", "q": "Q", "tau": "\\tau",
            "cutoff": "\\omega_{c}", "dc_gain": "H(0)", "hf_gain": "H(\\infty)", "zin": "Z_{in}",
            "zout": "Z_{out}", "bandwidth": "B"}
 
 
 def stage_equations(st: StageResult) -> list[tuple[str, str]]:
     """(LaTeX left-hand side, right-hand side) pairs for one view, in report order.
+
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
 
     Examples
     --------
@@ -65,7 +83,7 @@ def stage_equations(st: StageResult) -> list[tuple[str, str]]:
     '\\\\frac{1}{C_{1} R_{1}}'
     """
     f = st.form
-    eqs = [(_LABELS["transfer"], transfer_tex(st.transfer))]
+    eqs = [(LABELS["transfer"], transfer_tex(st.transfer))]
     cut = st.cutoff.value
     if f.order == 2 and f.kind in ("lowpass", "highpass") and cut is not None:
         root = "\\sqrt{x + \\sqrt{x^{2} + 1}}"
@@ -77,12 +95,19 @@ def stage_equations(st: StageResult) -> list[tuple[str, str]]:
                    ("hf_gain", st.transfer.hf_gain()), ("zin", impedance_display(st.zin)),
                    ("zout", impedance_display(st.zout))):
         if e is not None:
-            eqs.append((_LABELS[key], tex(e)))
+            eqs.append((LABELS[key], tex(e)))
     return eqs
 
 
 def quantity_latex(st: StageResult, quantity: str) -> str | None:
     """LaTeX of one named quantity (``transfer``, ``dc-gain``, ``cutoff``, ``w0``, ``q``, ``zin``, ``zout``).
+
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
+    quantity : str
+        The quantity's name.
 
     Examples
     --------
@@ -102,6 +127,11 @@ def quantity_latex(st: StageResult, quantity: str) -> str | None:
 
 def sensitivity_rows(st: StageResult) -> list[tuple[str, str]]:
     """(LaTeX lhs, rhs) for every sensitivity of a view.
+
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
 
     Examples
     --------
@@ -125,6 +155,13 @@ def sensitivity_rows(st: StageResult) -> list[tuple[str, str]]:
 def render(a: Analysis, quantity: str | None = None) -> str:
     """LaTeX for ``symfilt derive --format latex``: align* environments, loaded then ideal.
 
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+    quantity : str, optional
+        Only this quantity (a ``--quantity`` name); every equation when None.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -137,7 +174,7 @@ def render(a: Analysis, quantity: str | None = None) -> str:
     for key, st in (("loaded", a.loaded), ("ideal", a.ideal)):
         if quantity and quantity != "sensitivity":
             body = quantity_latex(st, quantity)
-            lhs = _LABELS.get(quantity.replace("-", "_"), quantity)
+            lhs = LABELS.get(quantity.replace("-", "_"), quantity)
             rows = [(lhs, body)]
         elif quantity == "sensitivity":
             rows = sensitivity_rows(st)

@@ -11,6 +11,13 @@ from symfilt.export import latex
 def to_mathml(tex_text: str, display: str = "block") -> str:
     """Convert one LaTeX expression to a ``<math>`` element.
 
+    Parameters
+    ----------
+    tex_text : str
+        One LaTeX expression.
+    display : {"block", "inline"}
+        The ``display`` attribute of the element.
+
     Examples
     --------
     >>> to_mathml("R_{1}").startswith('<math xmlns="http://www.w3.org/1998/Math/MathML" display="block">')
@@ -23,6 +30,13 @@ def to_mathml(tex_text: str, display: str = "block") -> str:
 
 def render(a: Analysis, quantity: str | None = None) -> str:
     """A ``<div>`` holding each equation as MathML, loaded then ideal (parses as XML).
+
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+    quantity : str, optional
+        Only this quantity (a ``--quantity`` name); every equation when None.
 
     Examples
     --------
@@ -40,7 +54,7 @@ def render(a: Analysis, quantity: str | None = None) -> str:
         if quantity == "sensitivity":
             rows = latex.sensitivity_rows(st)
         elif quantity:
-            rows = [(latex._LABELS.get(quantity.replace("-", "_"), quantity), latex.quantity_latex(st, quantity))]
+            rows = [(latex.LABELS.get(quantity.replace("-", "_"), quantity), latex.quantity_latex(st, quantity))]
         else:
             rows = latex.stage_equations(st)
         for lhs, rhs in rows:

@@ -50,6 +50,11 @@ _VIEWS = (("loaded", "Loaded (as connected)"), ("ideal", "Ideal (the stage alone
 def plain_number(x: float) -> str:
     """A dimensionless number to 4 significant digits (``-0.4964``, ``1.936``, ``0``).
 
+    Parameters
+    ----------
+    x : float
+        The number.
+
     Examples
     --------
     >>> plain_number(0.80757432), plain_number(-1.935483), plain_number(0.0), plain_number(-0.5)
@@ -62,6 +67,13 @@ def plain_number(x: float) -> str:
 
 def show_number(x: float | None, unit: str = "") -> str:
     """A number for display: engineering prefix with a unit (Hz, Ω, F), plain otherwise; ``—`` for None.
+
+    Parameters
+    ----------
+    x : float or None
+        The number (None, infinity or NaN shows ``—``).
+    unit : str
+        Its unit; ``""`` and ``"dB"`` take no prefix.
 
     Examples
     --------
@@ -77,6 +89,11 @@ def show_number(x: float | None, unit: str = "") -> str:
 
 def kind_words(st: StageResult) -> str:
     """The response in words: ``second-order low-pass``.
+
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
 
     Examples
     --------
@@ -103,6 +120,11 @@ def _symbol_unit(name: str, info: dict) -> str:
 def node_name(n: str) -> str:
     """A node's name for a reader: ground is ``ground``.
 
+    Parameters
+    ----------
+    n : str
+        The node's name in the circuit.
+
     Examples
     --------
     >>> node_name("0"), node_name("out")
@@ -113,6 +135,11 @@ def node_name(n: str) -> str:
 
 def part_rows(a: Analysis) -> list[dict]:
     """One row per part and fixture: name, kind, connection, value text and its JSON path.
+
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
 
     Examples
     --------
@@ -172,6 +199,11 @@ STABILITY_WORDS = {"stable": "stable", "marginal": "marginal (poles on the jω a
 def stability_row(a: Analysis) -> dict | None:
     """The poles' stability at the parts' values, loaded and ideal (None when a value is missing).
 
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -193,6 +225,11 @@ def stability_row(a: Analysis) -> dict | None:
 def number_rows(a: Analysis) -> list[dict]:
     """Rows of the loaded-versus-ideal table: label, unit, and for each of loaded, ideal and
     ratio the value, its display text and its JSON path (None where absent).
+
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
 
     Examples
     --------
@@ -226,6 +263,13 @@ def number_rows(a: Analysis) -> list[dict]:
 def sensitivity_table(a: Analysis, view: str) -> tuple[list[str], list[tuple[str, list[dict]]]]:
     """Numeric sensitivities of one view: the quantity columns and, per symbol, one cell per column.
 
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+    view : {"loaded", "ideal"}
+        The view.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -255,6 +299,11 @@ def sensitivity_table(a: Analysis, view: str) -> tuple[list[str], list[tuple[str
 
 def standard_form_tex(st: StageResult) -> str | None:
     """The trade's standard form of this view's response, in LaTeX (None for a general response).
+
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
 
     Examples
     --------
@@ -291,6 +340,11 @@ EQUATION_WORDS = {"H(s)": "transfer function", "\\omega_{c}": "cutoff (rad/s)", 
 def equations(st: StageResult) -> list[tuple[str, str]]:
     """(words, LaTeX equation) for each closed form of one view, in report order.
 
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -303,6 +357,11 @@ def equations(st: StageResult) -> list[tuple[str, str]]:
 
 def has_fixtures(a: Analysis) -> bool:
     """True when the circuit has a source resistance or a load (loaded and ideal differ in principle).
+
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
 
     Examples
     --------
@@ -318,6 +377,11 @@ def has_fixtures(a: Analysis) -> bool:
 def views(a: Analysis) -> tuple:
     """The views a note shows, as (key, heading): loaded and ideal, or one when there are no fixtures.
 
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -330,6 +394,11 @@ def views(a: Analysis) -> tuple:
 
 def assumptions(a: Analysis) -> list[str]:
     """The assumptions behind the numbers, as sentences.
+
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
 
     Examples
     --------
@@ -373,6 +442,11 @@ def assumptions(a: Analysis) -> list[str]:
 def cautions(a: Analysis) -> list[str]:
     """The cautions every note carries.
 
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+
     Examples
     --------
     >>> from symfilt import catalogue
@@ -399,6 +473,15 @@ def cautions(a: Analysis) -> list[str]:
 
 def sweep(a: Analysis, fmin=None, fmax=None, points=None):
     """Bode sweep data for a note, or ``(None, reason)`` when a symbol has no value.
+
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+    fmin, fmax : float, optional
+        Sweep range in Hz (default: around the marked frequencies).
+    points : int, optional
+        Number of frequencies (default ``DEFAULT_POINTS``).
 
     Examples
     --------

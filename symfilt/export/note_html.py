@@ -61,6 +61,11 @@ footer { margin-top: 2.5rem; color: var(--muted); font-size: 0.85rem; border-top
 def html_name(name: str) -> str:
     """A symbol name as HTML with the trade's subscript: R1 -> R<sub>1</sub>, R_s -> R<sub>s</sub>.
 
+    Parameters
+    ----------
+    name : str
+        The symbol's name.
+
     Examples
     --------
     >>> html_name("R1"), html_name("R_L"), html_name("GBW_U1"), html_name("U1")

@@ -113,6 +113,11 @@ def _tex_number(x: float, unit: str) -> str:
 def note_latex(a: Analysis) -> str:
     """The equations and numbers as a LaTeX fragment: one ``align`` environment (needs amsmath).
 
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+
     Examples
     --------
     >>> from symfilt import catalogue

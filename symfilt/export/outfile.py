@@ -57,6 +57,15 @@ def _same_file(a: Path, b) -> bool:
 def write_bytes_atomic(path, data: bytes, *, protect=()) -> None:
     """Bytes version of :func:`write_text_atomic`.
 
+    Parameters
+    ----------
+    path : str or Path
+        The file to write; it is replaced as a whole or not at all.
+    data : bytes
+        What to write.
+    protect : iterable of str or Path
+        Files that must not be overwritten, such as the input circuit file.
+
     Examples
     --------
     >>> import tempfile, pathlib

@@ -101,6 +101,11 @@ def render_bode(data, fmt: str = "svg") -> bytes:
 def bode_svg(data) -> str:
     """The plot as an ``<svg>`` element to put inline in an HTML page (no XML prolog).
 
+    Parameters
+    ----------
+    data : BodeData
+        The sweep, from :func:`symfilt.analysis.bode.bode_data`.
+
     Examples
     --------
     >>> from symfilt import catalogue, analyse

@@ -17,6 +17,11 @@ _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
 def one_line(expr) -> str:
     """An expression on one line: ``·`` for products, ``^`` for powers, ``||`` for parallel.
 
+    Parameters
+    ----------
+    expr : sympy.Expr or None
+        The expression (None shows ``—``).
+
     Examples
     --------
     >>> R, C = sympy.symbols("R1 C1", positive=True)
@@ -39,6 +44,11 @@ def one_line(expr) -> str:
 def pretty(expr) -> str:
     """A 2-D unicode rendering of an expression.
 
+    Parameters
+    ----------
+    expr : sympy.Expr
+        The expression.
+
     Examples
     --------
     >>> print(pretty(1 / (1 + sympy.Symbol("s"))))
@@ -51,6 +61,11 @@ def pretty(expr) -> str:
 
 def transfer_pretty(h) -> str:
     """H(s) drawn as ``K ⋅ N(s)/D(s)`` in 2-D unicode.
+
+    Parameters
+    ----------
+    h : NetworkFunction
+        The transfer function.
 
     Examples
     --------
@@ -84,6 +99,11 @@ def transfer_pretty(h) -> str:
 
 def transfer_line(h) -> str:
     """H(s) on one line as ``K · (N)/(D)``.
+
+    Parameters
+    ----------
+    h : NetworkFunction
+        The transfer function.
 
     Examples
     --------
@@ -288,6 +308,11 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
 
 def render_limit(lim) -> str:
     """One line for a load limit.
+
+    Parameters
+    ----------
+    lim : LoadLimit
+        One bound from :func:`symfilt.analysis.loading.load_limits`.
 
     Examples
     --------
