@@ -43,7 +43,7 @@ def main() -> None:
     print(f"  the cutoff leans most on {worst}: S = {s_cut[worst]:.3f}")
     for lim in symfilt.load_limits(a, 0.02):
         if lim.value is None:
-            print(f"  {lim.fixture}: {lim.note}")
+            print(f"  {lim.fixture}: {symfilt.describe(lim.note)}")
         else:
             word = "at most" if lim.bound == "max" else "at least"
             print(f"  for a 2 % cutoff shift, {lim.fixture} must be {word} {format_value(lim.value, 'Ω')}")

@@ -15,6 +15,8 @@ from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.model.circuit import Circuit, Fixture, Part
 from symfilt.claims.judge import Equivalence, equivalent, parse_claim
 from symfilt.export.check_report import assert_equivalent
+from symfilt.export.findings import describe
+from symfilt.analysis.findings import Finding
 from symfilt.design.report import Report, report
 from symfilt.model.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
 from symfilt.errors import (
@@ -45,6 +47,7 @@ __all__ = [
     "NetworkFunction",
     "OutputError",
     "Part",
+    "Finding",
     "Report",
     "SingularCircuitError",
     "SizeLimitError",
@@ -64,6 +67,7 @@ __all__ = [
     "parse_circuit_text",
     "parse_claim",
     "parse_value",
+    "describe",
     "report",
     "standard_form",
     "substitute",
