@@ -146,12 +146,12 @@ class _Status:
 
     def show(self, text: str) -> None:
         if _stderr_is_terminal():
-            click.echo(f"\r{text}\x1b[K", err=True, nl=False)
+            click.echo(f"\r{text}\x1b[K", err=True, nl=False, color=True)
             self.shown = True
 
     def clear(self) -> None:
         if self.shown:
-            click.echo("\r\x1b[K", err=True, nl=False)
+            click.echo("\r\x1b[K", err=True, nl=False, color=True)
             self.shown = False
 
 
