@@ -95,6 +95,7 @@ def load(source: str):
 
 def _emit(text: str) -> None:
     """Write the whole result at once, so an error never leaves half an answer."""
+    _status().clear()  # stdout and stderr may share a terminal line
     sys.stdout.write(text)
     sys.stdout.flush()
 
@@ -157,7 +158,8 @@ class _Status:
 
 def _status() -> _Status:
     """The running command's status line (one per invocation, kept in click's context)."""
-    return click.get_current_context().meta.setdefault(_STATUS_KEY, _Status())
+    ctx = click.get_current_context(silent=True)
+    return _Status() if ctx is None else ctx.meta.setdefault(_STATUS_KEY, _Status())
 
 
 def _say(line: str) -> None:
@@ -434,6 +436,7 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
         c = c.with_opamp_model(opamp_model)
     a = analyse(c, sensitivity=False, progress=_progress())
     data = bode_data(a, None, _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"), points)
+    _status().clear()  # before a write to `-`, stdout
     if csv_file:
         write_text_atomic(csv_file, csv_text(data), protect=_inputs(circuit))
     if output:

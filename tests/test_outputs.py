@@ -247,3 +247,13 @@ def test_wrote_lines_come_after_every_output(tmp_path):
     result = run(["plot", "@rc-lowpass", "--points", "5", "--csv", str(csv), "-o", str(svg)])
     assert result.returncode == 0, result.stderr
     assert stderr_lines(result) == [f"wrote {csv}", f"wrote {svg}"]
+
+
+def test_status_line_is_cleared_before_the_result_on_stdout(monkeypatch):
+    monkeypatch.setattr(cli_module, "_stderr_is_terminal", lambda: True)
+    monkeypatch.setattr(cli_module, "PROGRESS_DELAY", 0.0)
+    result = CliRunner().invoke(cli_module.cli, ["plot", "@rc-lowpass", "--points", "5", "--csv", "-"])
+    assert result.exit_code == 0, result.stderr
+    assert result.stderr.startswith("\r") and result.stderr.endswith("\r\x1b[K")  # shown, then cleared
+    assert visible_lines(result.stderr) == []
+    assert result.stdout.startswith("frequency_hz,")
