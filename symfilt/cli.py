@@ -2,11 +2,18 @@
 
 Results go to stdout, messages to stderr. Exit 0 done, 1 a check found a
 difference, 2 bad input or usage (one line ``error: <where>: <what>, <how to fix>``).
+
+A failing command prints that one line and nothing else on stderr: progress (stage
+names after two seconds, the spread bar) is shown only when stderr is a terminal, on
+one status line that is overwritten and cleared when the command ends; Python warnings
+(numpy's RuntimeWarnings) are dropped; ``wrote FILE`` lines come only after every
+output of the command has been written.
 """
 
 from __future__ import annotations
 
 import sys
+import warnings
 
 import click
 
@@ -19,10 +26,20 @@ CLI_QUANTITIES = ("transfer", "dc-gain", "cutoff", "w0", "q", "zin", "zout", "se
 class _Group(click.Group):
     """A click group whose every failure is one ``error:`` line and exit 2."""
 
+    def invoke(self, ctx):
+        try:
+            return super().invoke(ctx)
+        finally:  # the status line never outlives the command, so an error line stands alone
+            status = ctx.meta.get(_STATUS_KEY)
+            if status is not None:
+                status.clear()
+
     def main(self, args=None, prog_name=None, complete_var=None, standalone_mode=True, **extra):
         try:
-            rv = super().main(args=args, prog_name=prog_name or "symfilt", complete_var=complete_var,
-                              standalone_mode=False, **extra)
+            with warnings.catch_warnings():
+                warnings.simplefilter("ignore")  # numbers are checked where they are used; never a stray line
+                rv = super().main(args=args, prog_name=prog_name or "symfilt", complete_var=complete_var,
+                                  standalone_mode=False, **extra)
         except click.exceptions.Exit as exc:
             rv = exc.exit_code
         except click.ClickException as exc:
@@ -78,6 +95,7 @@ def load(source: str):
 
 def _emit(text: str) -> None:
     """Write the whole result at once, so an error never leaves half an answer."""
+    _status().clear()  # stdout and stderr may share a terminal line
     sys.stdout.write(text)
     sys.stdout.flush()
 
@@ -108,11 +126,61 @@ def _percent(text: str, where: str) -> float:
     return value
 
 
+_STATUS_KEY = "symfilt.status"
+
+#: Seconds of silence before a derivation's stage names are shown.
+PROGRESS_DELAY = 2.0
+
+
+def _stderr_is_terminal() -> bool:
+    try:
+        return sys.stderr.isatty()
+    except (AttributeError, ValueError):  # replaced or closed stream
+        return False
+
+
+class _Status:
+    """One status line on stderr, shown only on a terminal, overwritten in place and cleared."""
+
+    def __init__(self) -> None:
+        self.shown = False
+
+    def show(self, text: str) -> None:
+        if _stderr_is_terminal():
+            click.echo(f"\r{text}\x1b[K", err=True, nl=False, color=True)
+            self.shown = True
+
+    def clear(self) -> None:
+        if self.shown:
+            click.echo("\r\x1b[K", err=True, nl=False, color=True)
+            self.shown = False
+
+
+def _status() -> _Status:
+    """The running command's status line (one per invocation, kept in click's context)."""
+    ctx = click.get_current_context(silent=True)
+    return _Status() if ctx is None else ctx.meta.setdefault(_STATUS_KEY, _Status())
+
+
+def _say(line: str) -> None:
+    """A message line on stderr (a warning, ``wrote FILE``), the status line cleared first."""
+    _status().clear()
+    click.echo(line, err=True)
+
+
+def _wrote(*paths) -> None:
+    """``wrote FILE`` for each file written (none for ``-``, stdout); called once all of them are."""
+    for p in paths:
+        if p and str(p) != "-":
+            _say(f"wrote {p}")
+
+
 def _progress():
-    """Stage names on stderr, only once a derivation has run longer than two seconds."""
+    """Stage names on the status line, only once a derivation has run longer than two seconds."""
     from symfilt.engine.elimination import DelayedProgress
 
-    return DelayedProgress(lambda stage: click.echo(f"symfilt: {stage}", err=True))
+    status = _status()
+    return DelayedProgress(lambda stage: status.show(f"symfilt: {stage}"), delay=PROGRESS_DELAY)
 
 
 def _progress_from_first_stage():
@@ -156,7 +224,7 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
                sensitivity=quantity in (None, "sensitivity"), max_terms=max_terms,
                progress=_progress_from_first_stage())
     for w in r.warnings:
-        click.echo(f"warning: {w}", err=True)
+        _say(f"warning: {w}")
     _emit(render(r, quantity))
 
 
@@ -207,7 +275,7 @@ def catalogue(name, write):
     text = circuit_to_text(c)
     if write:
         write_text_atomic(write, text)
-        click.echo(f"wrote {write}", err=True)
+        _wrote(write)
     else:
         _emit(text)
 
@@ -217,13 +285,14 @@ SERIES_NAMES = ("E6", "E12", "E24", "E48", "E96", "E192")
 
 
 def _spread_progress():
-    """A progress bar on stderr, shown once the sampling has taken more than a second."""
+    """A progress bar on the status line, shown once the sampling has taken more than a second."""
     import time
 
     from symfilt.export.design_report import progress_line
 
     started = []
     shown = []
+    status = _status()
 
     def update(done, total):
         if not started:
@@ -231,7 +300,7 @@ def _spread_progress():
         if not shown and time.monotonic() - started[0] < 1.0:
             return
         shown.append(True)
-        click.echo("\r" + progress_line(done, total), err=True, nl=done >= total)
+        status.show(progress_line(done, total))
 
     return update
 
@@ -274,11 +343,15 @@ def spread(circuit, tols, runs, seed, distribution, plot_file, fmt):
 
     c = load(circuit)
     tolerances = dict(parse_tolerance(t) for t in tols)
+    if plot_file:  # a bad target is refused before the sampling, not after it
+        from symfilt.export.outfile import output_target
+
+        output_target(plot_file, protect=_inputs(circuit))
     result = run_spread(c, tolerances, distribution=distribution, runs=runs, seed=seed, progress=_spread_progress())
     if plot_file:
         design_report.write_histogram(result, plot_file, protect=_inputs(circuit))
-        click.echo(f"wrote {plot_file}", err=True)
     _emit_report(fmt, design_report.spread_dict, design_report.spread_text, result)
+    _wrote(plot_file)
 
 
 @cli.command(short_help="Output voltage, current and slew rate each op-amp must deliver.")
@@ -293,7 +366,7 @@ def drive(circuit, amplitude, frequency, fmt):
 
     result = drive_check(load(circuit), amplitude, frequency)
     for line in design_report.drive_warnings(result):
-        click.echo(f"warning: {line}", err=True)
+        _say(f"warning: {line}")
     _emit_report(fmt, design_report.drive_dict, design_report.drive_text, result)
 
 
@@ -319,15 +392,18 @@ def _frequency(text, where: str):
               help="Switch every op-amp to this model.")
 def note(circuit, output, fmin, fmax, opamp_model):
     """Write a design note for CIRCUIT (a file or @name): parts, equations, loaded vs ideal, sensitivities, Bode plot."""
+    from symfilt.export.formats import note_kind
     from symfilt.export.note_write import write_note
+    from symfilt.export.outfile import output_target
 
+    note_kind(output)
+    output_target(output, protect=_inputs(circuit))  # refused before the derivation, not after it
     c = load(circuit)
     if opamp_model:
         c = c.with_opamp_model(opamp_model)
     written = write_note(c, output, protect=_inputs(circuit), source=circuit,
                          fmin=_frequency(fmin, "--fmin"), fmax=_frequency(fmax, "--fmax"), progress=_progress())
-    for p in written:
-        click.echo(f"wrote {p}", err=True)
+    _wrote(*written)
 
 
 @cli.command(short_help="Draw the Bode plot, loaded and ideal overlaid.")
@@ -344,7 +420,7 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
     """Draw the Bode plot of CIRCUIT (a file or @name), loaded and ideal overlaid."""
     from symfilt.analysis.stage import analyse
     from symfilt.analysis.bode import bode_data, csv_text
-    from symfilt.export.outfile import write_text_atomic
+    from symfilt.export.outfile import output_target, write_text_atomic
 
     if not output and not csv_file:
         raise UsageError("plot", "nothing to write", "give -o FILE (.svg or .png) and/or --csv FILE")
@@ -352,19 +428,22 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
         from symfilt.export.formats import plot_format
 
         plot_format(output, where=output)
+    for target in (csv_file, output):  # refuse a bad target before the work, not after the first file
+        if target:
+            output_target(target, protect=_inputs(circuit))
     c = load(circuit)
     if opamp_model:
         c = c.with_opamp_model(opamp_model)
     a = analyse(c, sensitivity=False, progress=_progress())
     data = bode_data(a, None, _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"), points)
+    _status().clear()  # before a write to `-`, stdout
     if csv_file:
         write_text_atomic(csv_file, csv_text(data), protect=_inputs(circuit))
-        click.echo(f"wrote {csv_file}", err=True)
     if output:
         from symfilt.export.plot import plot_bode
 
         plot_bode(data, output, protect=_inputs(circuit))
-        click.echo(f"wrote {output}", err=True)
+    _wrote(csv_file, output)
 
 
 @cli.command(short_help="The built-in scenario: a sensor into an ADC, passive vs buffered.")

@@ -12,6 +12,8 @@ from __future__ import annotations
 
 import os
 import random
+import socket
+import stat
 from fractions import Fraction
 
 import pytest
@@ -423,9 +425,14 @@ def test_refuses_the_input_file_and_folders(tmp_path):
     assert message(OutputError, write_text_atomic, tmp_path / "missing" / "a.txt", "x") == (
         f"{tmp_path / 'missing' / 'a.txt'}: folder {tmp_path / 'missing'} does not exist, "
         "create the folder first or choose another path")
-    if os.path.exists("/dev/null"):
-        assert message(OutputError, write_text_atomic, "/dev/null", "x") == (
-            "/dev/null: is not a regular file, give the name of an ordinary file to write")
+    if os.path.exists("/dev/null"):  # issue 20: a character device is written as a stream, never renamed over
+        write_text_atomic("/dev/null", "x")
+        assert stat.S_ISCHR(os.stat("/dev/null").st_mode)
+    if hasattr(socket, "AF_UNIX"):
+        with socket.socket(socket.AF_UNIX) as sock:
+            sock.bind(str(tmp_path / "s.sock"))
+            assert message(OutputError, write_text_atomic, tmp_path / "s.sock", "x") == (
+                f"{tmp_path / 's.sock'}: is a socket, give the name of an ordinary file to write")
 
 
 def test_replacing_keeps_permissions_and_writes_everything(tmp_path):
