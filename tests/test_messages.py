@@ -1,0 +1,54 @@
+"""Issue 20, item 3: messages that name the real cause (or no error where there is none)."""
+
+from __future__ import annotations
+
+import flint
+import pytest
+
+from symfilt import catalogue
+
+
+# --- (a) spread on a ladder: the coefficients are evaluated from flint, never compiled --------------
+
+
+def test_spread_on_the_built_in_ladder_runs(run_cli):
+    """Third order: the numeric cutoff per sample (was an internal error on a shape-(1,) array)."""
+    code, out, err = run_cli("spread", "@rc-ladder", "--tol", "R=1%", "--tol", "C=5%", "--runs", "500",
+                             "--seed", "1")
+    assert (code, err) == (0, "")
+    assert "cutoff" in out and "DC gain" in out
+
+
+def test_spread_ladder_cutoff_nominal_matches_the_exact_route():
+    """The Monte Carlo nominal (flint polynomials in floats) equals the cutoff found from exact coefficients."""
+    import math
+
+    from symfilt.analysis.numeric import numeric_cutoff
+    from symfilt.analysis.stage import analyse
+    from symfilt.design.spread import spread
+
+    circuit = catalogue.build("rc-ladder", n=4)
+    r = spread(circuit, {"R": 0.01, "C": 0.05}, runs=200, seed=1)
+    exact = numeric_cutoff(analyse(circuit, sensitivity=False).loaded.transfer, circuit.values())
+    q = r.quantities["cutoff_hz"]
+    assert q.nominal == pytest.approx(exact / (2 * math.pi), rel=1e-9)
+    assert q.worst_low < q.p1 < q.nominal < q.p99 < q.worst_high
+
+
+def test_poly_values_of_a_polynomial_too_long_to_compile():
+    """16 384 terms: a printed sum this long is past Python's compiler depth (lambdify's RecursionError)."""
+    import numpy as np
+
+    from symfilt.analysis.numeric import poly_values
+
+    names = tuple(f"x{k}" for k in range(14))
+    ctx = flint.fmpz_mpoly_ctx.get(names, "lex")
+    p = ctx.from_dict({(0,) * 14: 1})
+    for g in ctx.gens():
+        p *= 1 + 2 * g
+    assert len(p) == 2 ** 14
+    point = {n: np.array([0.5, 0.25, -0.5]) for n in names}
+    got = poly_values(p, point)
+    # computed regression value: prod (1 + 2 x) = 2^14, 1.5^14, 0
+    assert got.tolist() == pytest.approx([2.0 ** 14, 1.5 ** 14, 0.0], abs=1e-9)
+    assert float(poly_values(p, {n: 0.5 for n in names})) == pytest.approx(2.0 ** 14)
