@@ -52,3 +52,30 @@ def test_poly_values_of_a_polynomial_too_long_to_compile():
     # computed regression value: prod (1 + 2 x) = 2^14, 1.5^14, 0
     assert got.tolist() == pytest.approx([2.0 ** 14, 1.5 ** 14, 0.0], abs=1e-9)
     assert float(poly_values(p, {n: 0.5 for n in names})) == pytest.approx(2.0 ** 14)
+
+
+# --- (b) a LaTeX product with no exponent is not a power over the limit ------------------------------
+
+
+def test_latex_product_of_many_equal_factors_is_checked_not_refused(run_cli):
+    """s written 91 times: sympy would collect it into s**91, an exponent the user never wrote."""
+    claim = r"\frac{1}{" + " ".join(["s"] * 91) + "}"
+    code, out, err = run_cli("check", "@rc-lowpass", claim)
+    assert code == 1 and err == ""
+    assert out.startswith("different: the claim does not match the derived result (decided exactly)")
+
+
+def test_latex_repeated_written_powers_are_not_added_up(run_cli):
+    """(1 + s R1 C1)^{5} fourteen times: each written exponent is 5, the product's 70 is no user's exponent."""
+    claim = r"\frac{1}{" + " ".join([r"(1 + s R_1 C_1)^{5}"] * 14) + "}"
+    code, out, err = run_cli("check", "--ideal", "@rc-lowpass", claim)
+    assert (code, err) == (1, "")
+    same = r"\frac{1}{(1 + s R_1 C_1)(1 + s R_1 C_1)^{-1}(1 + s R_1 C_1)}"
+    assert run_cli("check", "--ideal", "@rc-lowpass", same)[:2] == (0, "equal: the claim matches the derived "
+                                                                     "result (decided exactly)\n")
+
+
+def test_latex_written_exponent_over_the_limit_is_still_refused(run_cli):
+    code, out, err = run_cli("check", "@rc-lowpass", r"s^{91}")
+    assert (code, out) == (2, "")
+    assert err == "error: claim: the exponent 91 is over the limit of 64, write the claim with smaller powers\n"
