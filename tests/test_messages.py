@@ -79,3 +79,48 @@ def test_latex_written_exponent_over_the_limit_is_still_refused(run_cli):
     code, out, err = run_cli("check", "@rc-lowpass", r"s^{91}")
     assert (code, out) == (2, "")
     assert err == "error: claim: the exponent 91 is over the limit of 64, write the claim with smaller powers\n"
+
+
+# --- (c) a duplicate part: the lines of the real definitions, not of keys inside strings --------------
+
+_FAKE = 'R1 = { kind = "resistor", nodes = ["in", "out"], value = "1k" }'
+_REAL = """
+[ports]
+input = "in"
+output = "out"
+
+[parts]
+R1 = { kind = "resistor", nodes = ["in", "out"], value = "10k" }  # R1 = in a comment
+C1 = { kind = "capacitor", nodes = ["out", "0"], value = "10n", note = "R1 = x" }
+R1 = { kind = "resistor", nodes = ["in", "out"], value = "4k7" }
+"""
+
+
+def _message(text: str) -> str:
+    from symfilt.errors import CircuitFileError
+    from symfilt.model.circuit_file import parse_circuit_text
+
+    with pytest.raises(CircuitFileError) as info:
+        parse_circuit_text(text, "stage.toml")
+    return str(info.value)
+
+
+@pytest.mark.parametrize("quote", ['"""', "'''"])
+def test_duplicate_part_lines_skip_a_fake_key_in_a_multi_line_title(quote):
+    # lines: 1 title opens, 2 fake R1, 3 fake [parts], 4 closes, 5 blank; the real R1 on 11 and 13
+    text = f"title = {quote}A stage\n{_FAKE}\n[parts]\n{quote}\n" + _REAL
+    assert _message(text) == "stage.toml line 13: part R1 is defined twice (first on line 11), give each part its own name"
+
+
+def test_duplicate_part_lines_with_escaped_quotes_in_a_multi_line_title():
+    text = f'title = """A \\""" stage\n{_FAKE}\n"""\n' + _REAL
+    assert _message(text) == "stage.toml line 12: part R1 is defined twice (first on line 10), give each part its own name"
+
+
+def test_duplicate_part_in_a_circuit_file_on_the_command_line(run_cli, tmp_path):
+    path = tmp_path / "stage.toml"
+    path.write_text(f'title = """A stage\n{_FAKE}\n[parts]\n"""\n' + _REAL, encoding="utf-8")
+    code, out, err = run_cli("derive", str(path))
+    assert (code, out) == (2, "")
+    assert err == ("error: stage.toml line 13: part R1 is defined twice (first on line 11), "
+                   "give each part its own name\n")
