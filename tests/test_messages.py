@@ -124,3 +124,17 @@ def test_duplicate_part_in_a_circuit_file_on_the_command_line(run_cli, tmp_path)
     assert (code, out) == (2, "")
     assert err == ("error: stage.toml line 13: part R1 is defined twice (first on line 11), "
                    "give each part its own name\n")
+
+
+def test_spread_closed_form_too_long_to_compile_names_itself(run_cli, monkeypatch):
+    """Where a closed form (not the coefficients) is still compiled, Python's limit is named, not 'nested'."""
+    import sympy
+
+    def too_deep(*args, **kwargs):
+        raise RecursionError("maximum recursion depth exceeded during compilation")
+
+    monkeypatch.setattr(sympy, "lambdify", too_deep)
+    code, out, err = run_cli("spread", "@rc-lowpass", "--tol", "R=1%", "--runs", "100", "--seed", "1")
+    assert (code, out) == (2, "")
+    assert err == ("error: spread: the closed-form cutoff has 3 terms, too long for Python to compile into a "
+                   "Monte Carlo function, split the circuit into stages and spread each\n")
