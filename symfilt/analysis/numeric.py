@@ -9,7 +9,7 @@ exists and is not zero, else at infinity (the HF gain); the cutoff is the lowest
 crossing of |H|^2 = |H_pass|^2 / 2 for a pass band at DC and the highest one for a
 pass band at infinity.
 
-numpy is imported only inside :func:`batch_cutoff` (it is an optional dependency).
+numpy is imported only inside :func:`batch_cutoff` and :func:`poly_values` (it is an optional dependency).
 """
 
 from __future__ import annotations
@@ -436,6 +436,92 @@ def tidy(e, *, radicals: bool = False, cancel_below: int = 400, factor_below: in
     return sympy.factor(e) if sympy.count_ops(e) < factor_below else e
 
 
+#: Most floats one step of :func:`poly_values` holds at once (terms x samples).
+POLY_BLOCK = 2_000_000
+
+
+def poly_values(p, values: Mapping[str, object]):
+    """A flint polynomial evaluated in floats at an array (or a number) per generator, without recursion.
+
+    Multivariate Horner one generator at a time, last first: the terms are multiplied by
+    that generator's powers, then the terms equal in the remaining generators are summed
+    (sorted, ``numpy.add.reduceat``). The work is the size of the terms' prefix tree
+    times the samples, in a few dozen numpy calls, however many terms the polynomial
+    has (a printed expression of thousands of terms is too deep for Python's compiler).
+
+    Parameters
+    ----------
+    p : flint.fmpz_mpoly or flint.fmpq_mpoly
+        The polynomial.
+    values : mapping
+        Generator name -> number or numpy array, for every generator that occurs in ``p``.
+
+    Returns
+    -------
+    numpy.ndarray
+        The broadcast shape of the values given.
+
+    Examples
+    --------
+    >>> import flint, numpy as np
+    >>> ctx = flint.fmpz_mpoly_ctx.get(("x", "y"), "lex")
+    >>> x, y = ctx.gens()
+    >>> poly_values(3 * x * y + x**2 + 1, {"x": np.array([1.0, 2.0]), "y": 0.5}).tolist()
+    [3.5, 8.0]
+    """
+    import numpy as np
+
+    names = list(p.context().names())
+    terms = p.to_dict()
+    exps = np.array(list(terms), dtype=np.int64).reshape(len(terms), len(names))
+    coef = np.array([_mp_float(c) for c in terms.values()], dtype=float)
+    used = [k for k in range(len(names)) if exps.size and exps[:, k].any()]
+    arrays = [np.asarray(values[names[k]], dtype=float) for k in used]
+    shape = np.broadcast_shapes(*[a.shape for a in arrays]) if arrays else ()
+    flat = [np.broadcast_to(a, shape).ravel() for a in arrays]
+    size = int(np.prod(shape, dtype=np.int64))
+    out = np.zeros(size)
+    step = max(1, POLY_BLOCK // max(1, len(terms)))
+    plan = _horner_plan(np, exps[:, used])
+    for start in range(0, size, step):
+        out[start : start + step] = _horner(np, plan, coef, [x[start : start + step] for x in flat])
+    return out.reshape(shape)
+
+
+def _horner_plan(np, exps) -> list:
+    """Per generator, last first: its exponent per row, then the row order and group starts after it."""
+    plan = []
+    keys = exps
+    for v in range(exps.shape[1] - 1, -1, -1):
+        e = keys[:, v][:, None]
+        keys = keys[:, :v]
+        if v == 0 or keys.shape[0] == 1:
+            plan.append((e, None, None))
+            continue
+        order = np.lexsort(keys.T[::-1])
+        keys = keys[order]
+        starts = np.concatenate(([0], np.nonzero(np.any(keys[1:] != keys[:-1], axis=1))[0] + 1))
+        keys = keys[starts]
+        plan.append((e, order, starts))
+    return plan
+
+
+def _horner(np, plan: list, coef, xs):
+    """Sum of coef * prod x**exps over the terms, for one block of samples, following the plan."""
+    n = xs[0].size if xs else 1
+    acc = np.repeat(coef[:, None], n, axis=1)
+    for (e, order, starts), x in zip(plan, xs[::-1]):
+        acc = acc * np.power(x[None, :], e) if e.any() else acc
+        if order is not None:
+            acc = np.add.reduceat(acc[order], starts, axis=0)
+    return acc.sum(axis=0)
+
+
+def _mp_float(c) -> float:
+    """A flint integer or rational as a float."""
+    return int(c.p) / int(c.q) if hasattr(c, "q") else float(int(c))
+
+
 __all__ = ["IMAG_TOL", "ROOT_IMAG_TOL", "batch_cutoff", "cutoff_from_coefficients", "cutoff_polynomial",
            "finite_float", "log_difference", "magnitude_squared", "numeric_cutoff", "numeric_sensitivity",
-           "passband_gain", "positive_roots", "tidy", "trim"]
+           "passband_gain", "poly_values", "positive_roots", "tidy", "trim"]

@@ -39,20 +39,21 @@ class _LatexReader:
         self.pos = 0
         self.tokens: list[tuple[str, Any]] = []
         self.values: dict[str, sympy.Expr] = {}
-        self._names: dict[sympy.Expr, str] = {}
 
     def fail(self, what: str, fix: str = LATEX_HELP) -> ClaimError:
         return ClaimError(self.where, what, fix)
 
     def atom(self, value: sympy.Expr) -> None:
-        if value not in self._names:
-            n, letters = len(self._names) + 26, ""
-            while n:
-                n, r = divmod(n, 26)
-                letters = chr(97 + r) + letters
-            self._names[value] = name = f"v_{{{letters}}}"
-            self.values[name] = value
-        self.tokens.append(("atom", self._names[value]))
+        # a placeholder per occurrence, never per value: sympy would collect a repeated
+        # one (s s s -> s**3) into a power the user never wrote, and the exponent limit
+        # is for the exponents written after ^ only
+        n, letters = len(self.values) + 26, ""
+        while n:
+            n, r = divmod(n, 26)
+            letters = chr(97 + r) + letters
+        name = f"v_{{{letters}}}"
+        self.values[name] = value
+        self.tokens.append(("atom", name))
 
     def read(self) -> list[tuple[str, Any]]:
         text = self.text

@@ -102,7 +102,7 @@ def _digits(number: sympy.Rational) -> int:
     return len(str(abs(number.p))) + len(str(number.q))
 
 
-def checked_power(base: sympy.Expr, exp: sympy.Expr, where: str) -> sympy.Expr:
+def checked_power(base: sympy.Expr, exp: sympy.Expr, where: str, limit: int | None = MAX_EXPONENT) -> sympy.Expr:
     """base**exp with the exponent and number-size limits.
 
     Parameters
@@ -111,6 +111,9 @@ def checked_power(base: sympy.Expr, exp: sympy.Expr, where: str) -> sympy.Expr:
         The base and the (whole or half-integer) exponent.
     where : str
         Where the claim came from, for error messages.
+    limit : int or None
+        Largest |exponent|; None when the exponent was not written by the user (a
+        parser's collected product such as ``s s s``) and was checked where written.
 
     Returns
     -------
@@ -128,8 +131,8 @@ def checked_power(base: sympy.Expr, exp: sympy.Expr, where: str) -> sympy.Expr:
     if (2 * exp).q != 1:
         raise ClaimError(where, f"the exponent {exp} is not a whole or half-integer number",
                          "use exponents such as 2, -1 or 1/2")
-    if abs(exp) > MAX_EXPONENT:
-        raise ClaimError(where, f"the exponent {exp} is over the limit of {MAX_EXPONENT}",
+    if limit is not None and abs(exp) > limit:
+        raise ClaimError(where, f"the exponent {exp} is over the limit of {limit}",
                          "write the claim with smaller powers")
     if base == 0 and exp < 0:
         raise ClaimError(where, "the claim divides by zero", "check the denominators")

@@ -3,7 +3,10 @@
 The derived closed forms of the loaded stage (cutoff, w0, Q, DC gain) are turned
 into vectorised numpy functions (``sympy.lambdify``), so a run of 20 000 samples is
 one array evaluation per quantity. A cutoff without a closed form (order three and
-up) is found per sample as the lowest positive root of |H(jw)|^2 = |H(0)|^2 / 2, a
+up) is found per sample from the coefficient polynomials of H(s), evaluated in floats
+straight from flint (:func:`~symfilt.analysis.numeric.poly_values`: a ladder's
+coefficients have thousands of terms, too long a source for Python's compiler), as the
+lowest positive root of |H(jw)|^2 = |H(0)|^2 / 2, a
 polynomial in w^2 whose roots come from batched companion matrices.
 
 Distributions: ``uniform`` spreads each part evenly over value x (1 +- tol);
@@ -37,11 +40,11 @@ from typing import Callable, Mapping, Sequence
 import sympy
 
 from symfilt.analysis.findings import finding
-from symfilt.analysis.numeric import batch_cutoff, log_difference
+from symfilt.analysis.numeric import batch_cutoff, log_difference, poly_values
 from symfilt.analysis.stage import analyse, numeric_sensitivities
 from symfilt.model.circuit import Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
-from symfilt.errors import UsageError
+from symfilt.errors import SizeLimitError, UsageError
 
 DISTRIBUTIONS = ("uniform", "normal")
 #: Quantities of a spread run, in report order.
@@ -294,35 +297,49 @@ def vector_model(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS) -> Vec
     names = tuple(str(x) for x in syms)
     two_pi = 2 * math.pi
 
-    def lam(expr, scale=1.0):
-        f = sympy.lambdify(syms, expr, "numpy")
+    def lam(expr, scale=1.0, what="closed form"):
+        try:
+            f = sympy.lambdify(syms, expr, "numpy")
+        except RecursionError:
+            raise SizeLimitError("spread", f"the {what} has {len(sympy.Add.make_args(sympy.expand(expr)))} terms, "
+                                 "too long for Python to compile into a Monte Carlo function",
+                                 "split the circuit into stages and spread each") from None
         return lambda *args: np.asarray(f(*args), dtype=float) / scale + 0 * _shape(args)
 
     functions: dict[str, Callable] = {}
     if st.cutoff.value is not None:
-        functions["cutoff_hz"] = lam(st.cutoff.value, two_pi)
+        functions["cutoff_hz"] = lam(st.cutoff.value, two_pi, "closed-form cutoff")
     elif st.form.kind not in ("bandpass", "notch", "allpass") and (st.form.order >= 3 or st.form.kind == "general"):
-        b, d = st.transfer.coefficients()
-        fb = [sympy.lambdify(syms, c, "numpy") for c in b]
-        fd = [sympy.lambdify(syms, c, "numpy") for c in d]
-
-        def numeric_cut(*args):
-            shape = _shape(args)
-            nb = [np.asarray(f(*args), dtype=float) + 0 * shape for f in fb]
-            nd = [np.asarray(f(*args), dtype=float) + 0 * shape for f in fd]
-            return batch_cutoff(nb, nd) / two_pi
-
-        functions["cutoff_hz"] = numeric_cut
+        functions["cutoff_hz"] = _coefficient_cutoff(st.transfer.ratio, names, two_pi)
     if st.form.w0 is not None:
-        functions["f0_hz"] = lam(st.form.w0, two_pi)
+        functions["f0_hz"] = lam(st.form.w0, two_pi, "closed form of w0")
     if st.form.q is not None:
-        functions["q"] = lam(st.form.q)
+        functions["q"] = lam(st.form.q, what="closed form of Q")
     dc = st.transfer.dc_gain()
     if dc not in (0, sympy.oo, sympy.zoo):  # a high-pass has no DC gain to spread
-        functions["dc_gain"] = lam(dc)
+        functions["dc_gain"] = lam(dc, what="closed form of the DC gain")
     sens = numeric_sensitivities(st, circuit.values()) if not (set(syms) - set(circuit.values())) else {}
     table = {key: sens.get(_SENS_KEY[key]) for key in functions}
     return VectorModel(names, functions, table)
+
+
+def _coefficient_cutoff(ratio, names: tuple, two_pi: float) -> Callable:
+    """The -3 dB frequency (Hz) per sample from the flint coefficient polynomials of H(s).
+
+    Evaluated by :func:`poly_values`, never printed as source: a ladder's coefficients
+    have thousands of terms, too deep for Python's compiler behind ``sympy.lambdify``.
+    """
+    nb, nd = ratio.coefficients(S)
+
+    def numeric_cut(*args):
+        shape = _shape(args)
+        given = dict(zip(names, args))
+        point = {n: (math.pi if sym is sympy.pi else given.get(str(sym), 0.0)) for n, sym in ratio.symbols.items()}
+        cb = [poly_values(c, point) + shape for c in nb]
+        cd = [poly_values(c, point) + shape for c in nd]
+        return (batch_cutoff(cb, cd) / two_pi).reshape(shape.shape)
+
+    return numeric_cut
 
 
 def _shape(args):

@@ -50,12 +50,57 @@ _HEADER = re.compile(r"^\s*\[\s*(?P<name>[^\[\]]*?)\s*\]\s*(?:#.*)?$")
 _KEY = re.compile(r"""^\s*(?:(?P<bare>[A-Za-z0-9_-]+)|"(?P<dq>[^"\\]*)"|'(?P<sq>[^']*)')\s*=""")
 
 
+def _code_lines(text: str) -> list[str]:
+    """The lines of a TOML text with comments and the inside of multi-line strings blanked.
+
+    A fake ``R1 = ...`` or ``[parts]`` inside a ``\"\"\"...\"\"\"`` or ``'''...'''`` string is
+    no key or header; the line numbering stays that of the file.
+    """
+    out, i, n = [], 0, len(text)
+    while i < n:
+        c = text[i]
+        if text.startswith(('"""', "'''"), i):
+            quote = text[i : i + 3]
+            end = _string_end(text, i + 3, quote)
+            out.append(quote + "".join(ch if ch == "\n" else " " for ch in text[i + 3 : end]))
+            i = end
+        elif c in "\"'":
+            end = _string_end(text, i + 1, c)
+            out.append(text[i:end])
+            i = end
+        elif c == "#":
+            end = text.find("\n", i)
+            i = n if end < 0 else end
+        else:
+            out.append(c)
+            i += 1
+    return "".join(out).splitlines()
+
+
+def _string_end(text: str, i: int, quote: str) -> int:
+    """Index just past the string whose body starts at i (a line break ends a one-line string)."""
+    escapes = quote[0] == '"'
+    while i < len(text):
+        if escapes and text[i] == "\\":
+            i += 2
+        elif text.startswith(quote, i):
+            i += len(quote)
+            while len(quote) == 3 and text.startswith(quote[0], i):  # up to two quotes close with it
+                i += 1
+            return i
+        elif len(quote) == 1 and text[i] == "\n":
+            return i
+        else:
+            i += 1
+    return len(text)
+
+
 def _duplicate_key(text: str) -> tuple[str, str, int, int] | None:
     """(section, key, first line, second line) of the first key written twice in one table."""
     section = ""
     seen: dict[tuple[str, str], int] = {}
     headers: dict[str, int] = {}
-    for number, line in enumerate(text.splitlines(), start=1):
+    for number, line in enumerate(_code_lines(text), start=1):
         if (m := _HEADER.match(line)) is not None:
             section = m["name"]
             if section in headers:
