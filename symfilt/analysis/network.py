@@ -20,31 +20,10 @@ from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
 from symfilt.errors import SingularCircuitError
-from symfilt.engine.rational import Ratio, cancel_exprs, cancel_pair, poly_to_sympy, tidy_quotient
+from symfilt.engine.rational import Ratio, cancel_pair, poly_to_sympy, tidy_quotient
 
 #: Quantities derive() knows, with the MNA mode that gives each.
 NETWORK_QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
-
-
-def cancel_ratio(num: sympy.Expr, den: sympy.Expr) -> tuple[sympy.Expr, sympy.Expr]:
-    """Cancel the common factor of two polynomial expressions exactly (python-flint).
-
-    Coefficients must be rational; the number pi may appear as a factor. The result
-    has integer coefficients without a common factor, and the denominator's trailing
-    coefficient is positive (:func:`symfilt.engine.rational.cancel_pair`).
-
-    Parameters
-    ----------
-    num, den : sympy.Expr
-        Polynomials with rational coefficients (pi allowed).
-
-    Examples
-    --------
-    >>> x, y = sympy.symbols("x y", positive=True)
-    >>> cancel_ratio(x**2 - y**2, 2*x + 2*y)
-    (x - y, 2)
-    """
-    return cancel_exprs(num, den)
 
 
 @dataclass(frozen=True, init=False, eq=False, repr=False)
