@@ -24,6 +24,7 @@ import flint
 import sympy
 
 from symfilt.model.circuit import Circuit, S, part_symbol
+from symfilt.model.opamp import PARAMETER
 from symfilt.model.stamps import MODES, PI, stamp_table
 
 __all__ = ["MODES", "PI", "MnaSystem", "build_system"]
@@ -83,7 +84,7 @@ class MnaSystem:
         return len(self.unknowns)
 
 
-def build_system(circuit: Circuit, mode: str = "transfer") -> MnaSystem:
+def build_system(circuit: Circuit, mode: str = "transfer", opamp: str | None = None) -> MnaSystem:
     """Stamp the circuit into an MNA system.
 
     The stamps are the records of :func:`symfilt.model.stamps.stamp_table`; here
@@ -99,6 +100,10 @@ def build_system(circuit: Circuit, mode: str = "transfer") -> MnaSystem:
         unknown is the input voltage, i.e. the input impedance. ``zout``: the
         source is set to zero (``R_s`` kept, load removed) and a unit current is
         injected into the output node; the unknown is the output impedance.
+        ``loop``: op-amp ``opamp``'s controlled source is replaced by a unit
+        voltage; the unknown is its V+ − V− (see :func:`symfilt.model.stamps.stamp_table`).
+    opamp : str, optional
+        The op-amp of mode ``loop``.
 
     Returns
     -------
@@ -111,7 +116,7 @@ def build_system(circuit: Circuit, mode: str = "transfer") -> MnaSystem:
     >>> sys.unknowns
     ('V(in)', 'V(out)', 'V(source)', 'I(source)')
     """
-    table = stamp_table(circuit, mode)
+    table = stamp_table(circuit, mode, opamp)
     ctx, factor, reciprocal, symbols = _ring(circuit, table.admittances)
     zero = ctx.from_dict({})
     index = {u: i for i, u in enumerate(table.unknowns)}
@@ -150,10 +155,12 @@ def _ring(circuit: Circuit, twos):
     for p in circuit.parts:
         if p.kind in ("vcvs", "vccs", "ccvs", "cccs"):
             gen(p.name, part_symbol(p.name, p.kind))
-        elif p.kind == "opamp" and p.model != "ideal":
-            gen(f"A_{p.name}", part_symbol(f"A_{p.name}"))
-            if p.model == "single-pole":
-                gen(f"GBW_{p.name}", part_symbol(f"GBW_{p.name}"))
+        elif p.kind == "opamp":
+            for key in ("gain", "gbw", "pole2"):
+                if p.model in PARAMETER[key].models:
+                    name = PARAMETER[key].symbol(p.name)
+                    gen(name, part_symbol(name))
+            if p.model in PARAMETER["gbw"].models:
                 gen(PI, sympy.pi)
     reciprocal: dict[str, dict[str, int]] = {}
     for name, kind, _a, _b in twos:

@@ -13,7 +13,8 @@ from dataclasses import replace
 from typing import Callable
 
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS, Ratio, solve
-from symfilt.engine.mna import MODES, build_system
+from symfilt.engine.mna import build_system
+from symfilt.model.stamps import DRIVES
 from symfilt.errors import UsageError
 from symfilt.model.circuit import Circuit
 
@@ -22,7 +23,7 @@ __all__ = ["solve_unknown"]
 
 def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = "transfer",
                   max_terms: int = DEFAULT_MAX_TERMS, progress: Callable[[str], None] | None = None,
-                  where: str | None = None) -> Ratio:
+                  where: str | None = None, opamp: str | None = None) -> Ratio:
     """One unknown of the circuit's MNA system as an exact, cancelled ratio.
 
     Parameters
@@ -34,17 +35,21 @@ def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = 
         or ``I(source)`` for the source's (from the input side into the source).
         Default: the drive mode's own unknown (output voltage for ``transfer``,
         input voltage for ``zin``, output voltage for ``zout``).
-    drive : {"transfer", "zin", "zout"}
+    drive : {"transfer", "zin", "zout", "loop"}
         How the circuit is driven (see :func:`symfilt.engine.mna.build_system`):
-        a unit voltage behind R_s, a unit current into the input (no source), or a
-        unit current into the output (source zeroed, no load). The ratio is the
-        unknown per unit of that drive.
+        a unit voltage behind R_s, a unit current into the input (no source), a
+        unit current into the output (source zeroed, no load), or a unit voltage
+        in place of op-amp ``opamp``'s controlled source (source zeroed, load kept;
+        its own unknown is that op-amp's V+ − V−). The ratio is the unknown per
+        unit of that drive.
     max_terms : int
         Size budget of the elimination.
     progress : callable, optional
         Receives stage names.
     where : str, optional
         Name used in error messages (default: the circuit's title, or "circuit").
+    opamp : str, optional
+        The op-amp whose loop ``drive="loop"`` breaks.
 
     Returns
     -------
@@ -64,9 +69,9 @@ def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = 
     >>> solve_unknown(c, "I(source)").to_sympy()
     (-C1*s, C1*R1*s + 1)
     """
-    if drive not in MODES:
-        raise ValueError(f"drive must be one of {MODES}")
-    system = build_system(circuit, drive)
+    if drive not in DRIVES:
+        raise ValueError(f"drive must be one of {DRIVES}")
+    system = build_system(circuit, drive, opamp)
     if unknown is not None:
         name = unknown if unknown.startswith(("I(", "V(")) else f"V({unknown})"
         if name not in system.unknowns:

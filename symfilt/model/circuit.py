@@ -27,6 +27,7 @@ import sympy
 from symfilt.errors import CircuitError, SizeLimitError
 from symfilt.model.fixture import Fixture
 from symfilt.model.names import GROUND, MAX_NAME, clip_name, is_ground, node_name
+from symfilt.model.opamp import OPAMP_MODELS, check_opamp_options, opamp_parameters, parameter_of_symbol
 from symfilt.model.values import parse_value
 
 #: Part kinds and their pins.
@@ -40,8 +41,6 @@ PART_PINS: dict[str, tuple[str, ...]] = {
     "ccvs": ("out+", "out-"),
     "cccs": ("out+", "out-"),
 }
-#: Op-amp models.
-OPAMP_MODELS = ("ideal", "gain", "single-pole")
 #: Kinds whose current can control a ccvs or cccs.
 CONTROL_KINDS = ("resistor", "capacitor", "inductor", "vcvs", "ccvs")
 #: Names of the fixture symbols.
@@ -94,13 +93,17 @@ class Part:
     value : sympy.Rational or None
         Resistance, capacitance, inductance, or a controlled source's gain; None keeps it symbolic.
     model : str
-        Op-amp model: ``ideal``, ``gain`` or ``single-pole``.
-    gain, gbw : sympy.Rational or None
-        Op-amp open-loop DC gain and gain-bandwidth product in Hz.
+        Op-amp model: ``ideal``, ``gain``, ``single-pole`` or ``two-pole``
+        (see :mod:`symfilt.model.opamp`).
+    gain, gbw, pole2 : sympy.Rational or None
+        Op-amp open-loop DC gain, gain-bandwidth product (Hz) and second pole (Hz).
     control : str or None
         For ccvs and cccs, the name of the part whose current controls it.
     iout_max, slew : sympy.Rational or None
         Op-amp output current limit (A) and slew rate (V/µs), for the drive check.
+    rout, rin, cin : Fixture
+        Op-amp output resistance, differential input resistance and input
+        capacitance to ground: absent, symbolic or with a value.
 
     Examples
     --------
@@ -120,6 +123,10 @@ class Part:
     control: str | None = None
     iout_max: sympy.Rational | None = None
     slew: sympy.Rational | None = None
+    pole2: sympy.Rational | None = None
+    rout: Fixture = field(default_factory=Fixture)
+    rin: Fixture = field(default_factory=Fixture)
+    cin: Fixture = field(default_factory=Fixture)
 
     # --- constructors -------------------------------------------------------
     @classmethod
@@ -178,7 +185,8 @@ class Part:
 
     @classmethod
     def opamp(cls, name: str, plus: str, minus: str, out: str, model: str = "ideal",
-              gain=None, gbw=None, iout_max=None, slew=None) -> "Part":
+              gain=None, gbw=None, iout_max=None, slew=None, *, pole2=None, rout=None, rin=None,
+              cin=None) -> "Part":
         """An op-amp with pins ``plus``, ``minus``, ``out`` (output against ground).
 
         Parameters
@@ -186,27 +194,36 @@ class Part:
         name, plus, minus, out : str
             Part name, non-inverting input, inverting input and output nodes.
         model : str
-            ``ideal``, ``gain`` or ``single-pole``.
+            ``ideal``, ``gain``, ``single-pole`` or ``two-pole``.
         gain, gbw, iout_max, slew : str, number or None
             DC gain, gain-bandwidth (Hz), output current limit (A), slew rate (V/µs).
+        pole2 : str, number or None
+            Second open-loop pole (Hz) of the ``two-pole`` model.
+        rout, rin, cin : str, number or None
+            Output resistance, differential input resistance, input capacitance to
+            ground: None or ``"none"`` (absent), ``"symbol"`` or a value.
 
         Examples
         --------
         >>> Part.opamp("U1", "a", "out", "out", model="gain", gain="100k").symbols()
         ['A_U1']
+        >>> Part.opamp("U1", "a", "out", "out", rout="symbol").symbols()
+        ['Rout_U1']
         """
         return cls.make(name, "opamp", (plus, minus, out), model=model, gain=gain, gbw=gbw,
-                        iout_max=iout_max, slew=slew)
+                        iout_max=iout_max, slew=slew, pole2=pole2, rout=rout, rin=rin, cin=cin)
 
     @classmethod
     def make(cls, name: str, kind: str, nodes: Iterable[str], *, value=None, model: str = "ideal",
-             gain=None, gbw=None, control: str | None = None, iout_max=None, slew=None) -> "Part":
+             gain=None, gbw=None, control: str | None = None, iout_max=None, slew=None, pole2=None,
+             rout=None, rin=None, cin=None) -> "Part":
         """Build and check any part, parsing values from text.
 
         Parameters
         ----------
-        name, kind, nodes, value, model, gain, gbw, control, iout_max, slew : object
-            As the fields of :class:`Part`; values may be text (``"22n"``) or numbers.
+        name, kind, nodes, value, model, gain, gbw, control, iout_max, slew, pole2, rout, rin, cin : object
+            As the fields of :class:`Part`; values may be text (``"22n"``) or numbers,
+            ``rout``, ``rin``, ``cin`` also ``"symbol"`` or ``"none"``.
 
         Raises
         ------
@@ -230,6 +247,7 @@ class Part:
         if name in _RESERVED or name.startswith(("A_", "GBW_")):
             raise CircuitError(where, f"the name {name} is reserved for a symbol of symfilt",
                                "rename the part (R_s, R_L, C_L, s, A_*, GBW_* are taken)")
+        extras = {"pole2": pole2, "rout": rout, "rin": rin, "cin": cin}
         if keyword.iskeyword(name):
             raise CircuitError(where, f"the name {name} is a reserved word of Python, which reads the formulas back",
                                "rename the part, e.g. R_" + name)
@@ -244,14 +262,7 @@ class Part:
             raise CircuitError(where, f"a {kind} has {len(PART_PINS[kind])} pins ({', '.join(PART_PINS[kind])}), got {len(nodes)}",
                                "list exactly those pins")
         nodes = tuple(node_name(n, where) for n in nodes)
-        if kind == "opamp":
-            if not isinstance(model, str) or model not in OPAMP_MODELS:
-                raise CircuitError(where, f"unknown op-amp model {clip_name(model)!r}", "use one of " + ", ".join(OPAMP_MODELS))
-            if value is not None:
-                raise CircuitError(where, "an op-amp has no value", "use gain = ... and gbw = ... for its model")
-        elif any(v is not None for v in (gain, gbw, iout_max, slew)) or model != "ideal":
-            raise CircuitError(where, f"model, gbw, iout_max and slew belong to op-amps, not to a {kind}",
-                               "remove them" + (", and give a controlled source's gain as gain" if kind in ("vcvs", "vccs", "ccvs", "cccs") else ""))
+        check_opamp_options(where, kind, model, value, (gain, gbw, iout_max, slew, *extras.values()))
         if kind in ("ccvs", "cccs"):
             if not control:
                 raise CircuitError(where, f"a {kind} needs control = \"<part whose current controls it>\"",
@@ -263,7 +274,9 @@ class Part:
             raise CircuitError(where, f"a {kind} takes no control part", "remove control")
         part = cls(name=name, kind=kind, nodes=nodes, value=_value(value, where), model=model,
                    gain=_value(gain, f"{where} gain"), gbw=_value(gbw, f"{where} gbw"), control=control,
-                   iout_max=_value(iout_max, f"{where} iout_max"), slew=_value(slew, f"{where} slew"))
+                   iout_max=_value(iout_max, f"{where} iout_max"), slew=_value(slew, f"{where} slew"),
+                   pole2=_value(pole2, f"{where} pole2"),
+                   **{k: Fixture.parse(extras[k], f"{where} {k}") for k in ("rout", "rin", "cin")})
         part.check_values()
         return part
 
@@ -300,7 +313,8 @@ class Part:
                 shown = format_value(self.value).replace(" ", "")
                 raise CircuitError(where, f"a negative {what} ({shown}) is not a real part", "give its magnitude")
         if self.kind == "opamp":
-            for label, v in (("gain", self.gain), ("gbw", self.gbw), ("iout_max", self.iout_max), ("slew", self.slew)):
+            for label in ("gain", "gbw", "pole2", "iout_max", "slew"):
+                v = getattr(self, label)
                 if v is not None and v <= 0:
                     raise CircuitError(where, f"the op-amp's {label} must be positive, got {format_value(v).replace(' ', '')}",
                                        f"give a positive {label}")
@@ -326,7 +340,7 @@ class Part:
         """
         if self.kind != "opamp":
             return [self.name]
-        return {"ideal": [], "gain": [f"A_{self.name}"], "single-pole": [f"A_{self.name}", f"GBW_{self.name}"]}[self.model]
+        return [name for name, _param, _value in opamp_parameters(self)]
 
 
 @dataclass(frozen=True)
@@ -458,10 +472,8 @@ class Circuit:
         out: dict[str, dict] = {}
         for p in self.parts:
             if p.kind == "opamp":
-                if p.model in ("gain", "single-pole"):
-                    out[f"A_{p.name}"] = {"role": "opamp", "value": p.gain, "symbol": part_symbol(f"A_{p.name}")}
-                if p.model == "single-pole":
-                    out[f"GBW_{p.name}"] = {"role": "opamp", "value": p.gbw, "symbol": part_symbol(f"GBW_{p.name}")}
+                for name, _param, value in opamp_parameters(p):
+                    out[name] = {"role": "opamp", "value": value, "symbol": part_symbol(name)}
             else:
                 out[p.name] = {"role": "part", "value": p.value, "symbol": p.symbol, "kind": p.kind}
         if self.source.present:
@@ -549,15 +561,17 @@ class Circuit:
             if name in keys:
                 fixtures[keys[name]] = Fixture.parse(v, name)
                 continue
-            if name.startswith(("A_", "GBW_")):
-                pname = name.split("_", 1)[1]
+            idx = next((i for i, p in enumerate(parts) if p.name == name), None)
+            amp = parameter_of_symbol(name)
+            if idx is None and amp is not None:
+                param, pname = amp
                 idx = next((i for i, p in enumerate(parts) if p.name == pname and p.kind == "opamp"), None)
                 if idx is None:
-                    raise CircuitError(name, "no op-amp of that name", "name an op-amp's A_ or GBW_ symbol")
-                attr = "gain" if name.startswith("A_") else "gbw"
-                parts[idx] = replace(parts[idx], **{attr: _value(v, name)})
+                    raise CircuitError(name, "no op-amp of that name", "name an op-amp's A_, GBW_, P2_, Rout_, Rin_ or Cin_ symbol")
+                new = Fixture.parse(v, name) if param.optional else _value(v, name)
+                parts[idx] = replace(parts[idx], **{param.key: new})
+                parts[idx].check_values()
                 continue
-            idx = next((i for i, p in enumerate(parts) if p.name == name), None)
             if idx is None:
                 raise CircuitError(name, "no such part or symbol", "use one of " + ", ".join(self.symbols()))
             parts[idx] = replace(parts[idx], value=_value(v, f"part {name}"))

@@ -32,7 +32,7 @@ _PART_KEYS = {
     "resistor": {"kind", "nodes", "value"},
     "capacitor": {"kind", "nodes", "value"},
     "inductor": {"kind", "nodes", "value"},
-    "opamp": {"kind", "plus", "minus", "out", "model", "gain", "gbw", "iout_max", "slew"},
+    "opamp": {"kind", "plus", "minus", "out", "model", "gain", "gbw", "pole2", "rout", "rin", "cin", "iout_max", "slew"},
     "vcvs": {"kind", "nodes", "gain"},
     "vccs": {"kind", "nodes", "gain"},
     "ccvs": {"kind", "nodes", "gain", "control"},
@@ -298,7 +298,8 @@ def _part(pname: str, spec, name: str) -> Part:
                 raise CircuitFileError(where, f"missing pin {missing[0]}", "give plus, minus and out")
             return Part.make(pname, kind, (spec["plus"], spec["minus"], spec["out"]),
                              model=spec.get("model", "ideal"), gain=spec.get("gain"), gbw=spec.get("gbw"),
-                             iout_max=spec.get("iout_max"), slew=spec.get("slew"))
+                             iout_max=spec.get("iout_max"), slew=spec.get("slew"), pole2=spec.get("pole2"),
+                             rout=spec.get("rout"), rin=spec.get("rin"), cin=spec.get("cin"))
         nodes = spec.get("nodes")
         if not isinstance(nodes, list):
             raise CircuitFileError(where, "no nodes list", f"write nodes = [{', '.join(repr(k) for k in PART_PINS[kind])}]")
@@ -412,9 +413,12 @@ def circuit_to_text(circuit: Circuit) -> str:
             fields += [f"plus = {_q(p.nodes[0])}", f"minus = {_q(p.nodes[1])}", f"out = {_q(p.nodes[2])}"]
             if p.model != "ideal":
                 fields.append(f"model = {_q(p.model)}")
-            for key in ("gain", "gbw", "iout_max", "slew"):
+            for key in ("gain", "gbw", "pole2", "iout_max", "slew"):
                 if getattr(p, key) is not None:
                     fields.append(f"{key} = {_v(getattr(p, key))}")
+            for key in ("rout", "rin", "cin"):
+                if getattr(p, key).present:
+                    fields.append(f"{key} = {_fixture(getattr(p, key))}")
         else:
             fields.append("nodes = [" + ", ".join(_q(n) for n in p.nodes) + "]")
             if p.value is not None:

@@ -12,7 +12,8 @@ Two things are made from the same records: the polynomial matrix of
 :func:`symfilt.model.solvability.structural_pattern` (which columns each row
 touches). Rows are Kirchhoff's current law at each non-ground node, then one
 constraint row per voltage-type part (the source, vcvs, ccvs, op-amp outputs);
-an ideal op-amp is a nullor.
+an ideal op-amp is a nullor, and its output resistance, input resistance and
+input capacitance (:mod:`symfilt.model.opamp`) are two-terminal admittances.
 
 The table lives in the model layer because :meth:`Circuit.check
 <symfilt.model.circuit.Circuit.check>` refuses structurally singular circuits
@@ -29,6 +30,8 @@ if TYPE_CHECKING:  # pragma: no cover
 
 #: The ways the circuit is driven (see :func:`stamp_table`).
 MODES = ("transfer", "zin", "zout")
+#: The drive modes and the broken loop of one op-amp.
+DRIVES = MODES + ("loop",)
 #: Internal node between the source and R_s (control characters are refused in names).
 SOURCE_NODE = "\x00source"
 #: Internal name of the source's branch current.
@@ -167,9 +170,12 @@ def admittances(circuit: "Circuit", mode: str) -> list[tuple[str, str, str, str]
     from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R
 
     items = [(p.name, p.kind, p.nodes[0], p.nodes[1]) for p in circuit.parts if p.kind in _TWO_TERMINAL]
-    if circuit.source.present and mode in ("transfer", "zout"):
+    for p in circuit.parts:
+        if p.kind == "opamp":
+            items += _opamp_admittances(p, GROUND)
+    if circuit.source.present and mode in ("transfer", "zout", "loop"):
         items.append((SOURCE_R, "resistor", SOURCE_NODE, circuit.input))
-    if mode in ("transfer", "zin"):
+    if mode in ("transfer", "zin", "loop"):
         if circuit.load_resistance.present:
             items.append((LOAD_R, "resistor", circuit.output, GROUND))
         if circuit.load_capacitance.present:
@@ -177,19 +183,39 @@ def admittances(circuit: "Circuit", mode: str) -> list[tuple[str, str, str, str]
     return items
 
 
-def stamp_table(circuit: "Circuit", mode: str = "transfer") -> StampTable:
+def _opamp_admittances(p, ground: str) -> list[tuple[str, str, str, str]]:
+    """The op-amp's own two-terminal parts: Rout to its output, Rin across its inputs, Cin on each."""
+    from symfilt.model.opamp import internal_node
+
+    plus, minus, out = p.nodes
+    items = []
+    if p.rout.present:
+        items.append((f"Rout_{p.name}", "resistor", internal_node(p.name), out))
+    if p.rin.present:
+        items.append((f"Rin_{p.name}", "resistor", plus, minus))
+    if p.cin.present:
+        items += [(f"Cin_{p.name}", "capacitor", node, ground) for node in (plus, minus) if node != ground]
+    return items
+
+
+def stamp_table(circuit: "Circuit", mode: str = "transfer", opamp: str | None = None) -> StampTable:
     """The MNA stamps of ``circuit`` driven as ``mode`` says.
 
     Parameters
     ----------
     circuit : Circuit
-    mode : {"transfer", "zin", "zout"}
+    opamp : str, optional
+        For ``loop``: the op-amp whose loop is broken.
+    mode : {"transfer", "zin", "zout", "loop"}
         ``transfer``: a unit voltage source behind ``R_s`` drives the input, the
         target is the output voltage. ``zin``: a unit current is injected into the
         input node (source and ``R_s`` removed, load kept); the target is the input
         voltage. ``zout``: the source is set to zero (``R_s`` kept, load removed) and
         a unit current is injected into the output node; the target is the output
-        voltage.
+        voltage. ``loop``: the loop of op-amp ``opamp`` is broken at its controlled
+        source, which is replaced by a unit voltage (source zeroed, ``R_s`` and the
+        load kept); the target is its input voltage V+ − V−, so the return ratio is
+        ``T(s) = −A(s)·target`` and the feedback factor ``β(s) = −target``.
 
     Returns
     -------
@@ -202,9 +228,11 @@ def stamp_table(circuit: "Circuit", mode: str = "transfer") -> StampTable:
     >>> t.target.label, len(t.stamps)
     ('V(out)', 12)
     """
-    if mode not in MODES:
-        raise ValueError(f"mode must be one of {MODES}")
-    unknowns, voltage = _unknowns(circuit, mode)
+    if mode not in DRIVES:
+        raise ValueError(f"mode must be one of {DRIVES}")
+    if (mode == "loop") != (opamp is not None):
+        raise ValueError("name the op-amp for mode 'loop', and only for it")
+    unknowns, voltage = _unknowns(circuit, mode, opamp)
     twos = admittances(circuit, mode)
     out: list[Stamp] = []
     for name, _kind, a, b in twos:
@@ -215,25 +243,29 @@ def stamp_table(circuit: "Circuit", mode: str = "transfer") -> StampTable:
             _stamp_current_source(out, p, voltage, control)
     for p in circuit.parts:
         if p.kind == "opamp":
-            _stamp_opamp(out, p, voltage)
+            _stamp_opamp(out, p, voltage, broken=p.name == opamp)
         elif p.kind in ("vcvs", "ccvs"):
             _stamp_voltage_source(out, p, voltage, control)
-    rhs, target = _stamp_drive(out, circuit, mode, voltage)
+    rhs, target = _stamp_drive(out, circuit, mode, voltage, opamp)
     return StampTable(unknowns=tuple(unknowns), stamps=tuple(out), rhs=tuple(rhs), target=target,
                       admittances=tuple(twos))
 
 
-def _unknowns(circuit: "Circuit", mode: str):
+def _unknowns(circuit: "Circuit", mode: str, opamp: str | None = None):
     """The unknowns in order, and node -> its voltage unknown (None for ground)."""
     from symfilt.model.circuit import GROUND
+    from symfilt.model.opamp import internal_node
 
     nodes = circuit.nodes()
-    if mode in ("transfer", "zout") and circuit.source.present:
+    nodes += [internal_node(p.name) for p in circuit.parts if p.kind == "opamp" and p.rout.present]
+    if mode in ("transfer", "zout", "loop") and circuit.source.present:
         nodes.append(SOURCE_NODE)
     unknowns = [Unknown("V", n) for n in nodes]
-    if mode in ("transfer", "zout"):
+    if mode in ("transfer", "zout", "loop"):
         unknowns.append(Unknown("I", SOURCE_BRANCH))
     unknowns += [Unknown("I", p.name) for p in circuit.parts if p.kind in _VOLTAGE_TYPE]
+    if mode == "loop":
+        unknowns.append(Unknown("V", loop_node(opamp)))
 
     def voltage(node: str) -> Unknown | None:
         return None if node == GROUND else Unknown("V", node)
@@ -293,23 +325,62 @@ def _stamp_current_source(out: list, p, voltage, control) -> None:
         _add(out, om, col, _scaled(coef, -1, (p.name,)))
 
 
-def _stamp_opamp(out: list, p, voltage) -> None:
-    """Output current into the op-amp's branch; its constraint row by model."""
+def loop_node(opamp: str) -> str:
+    """The pseudo-node whose unknown is the input voltage V+ − V− of a broken loop.
+
+    Parameters
+    ----------
+    opamp : str
+        The op-amp's part name.
+
+    Examples
+    --------
+    >>> Unknown("V", loop_node("U1")).name == "\\x00U1:d"
+    True
+    """
+    return f"\x00{opamp}:d"
+
+
+def _opamp_rows(p) -> tuple[tuple, tuple]:
+    """(entry on the controlled node, entry on V+ (V− takes minus it)) of the constraint row.
+
+    ``den(s)·V_e = num·(V+ − V−)`` with A(s) = num/den: gain A; single pole
+    (A s + 2πGBW) V_e = 2πGBW A (V+ − V−); two poles times (s + 2πP2) on the left
+    and 2πP2 on the right.
+    """
+    a0, gbw, p2 = f"A_{p.name}", f"GBW_{p.name}", f"P2_{p.name}"
+    if p.model == "gain":
+        return ONE, ((1, (a0,)),)
+    left, right = ((1, (a0, "s")), (2, (PI, gbw))), ((2, (a0, PI, gbw)),)
+    if p.model == "two-pole":
+        left = tuple((c * c2, f + f2) for c, f in left for c2, f2 in ((1, ("s",)), (2, (PI, p2))))
+        right = _scaled(right, 2, (PI, p2))
+    return left, right
+
+
+def _stamp_opamp(out: list, p, voltage, broken: bool = False) -> None:
+    """Output current into the op-amp's branch; its constraint row by model.
+
+    With an output resistance the controlled source sits at the internal node
+    behind ``Rout``. A broken op-amp (mode ``loop``) gets the row ``V_e = 1``.
+    """
+    from symfilt.model.opamp import internal_node
+
     k = Unknown("I", p.name)
     plus, minus, node = (voltage(x) for x in p.nodes)
+    if p.rout.present:
+        node = voltage(internal_node(p.name))
     _add(out, node, k, ONE)  # output current leaves the node into the op-amp's output branch
-    a0, gbw = f"A_{p.name}", f"GBW_{p.name}"
-    if p.model == "ideal":
+    if broken:
+        _add(out, k, node, ONE)
+    elif p.model == "ideal":
         _add(out, k, plus, ONE)
         _add(out, k, minus, ((-1, ()),))
-    elif p.model == "gain":
-        _add(out, k, node, ONE)
-        _add(out, k, plus, ((-1, (a0,)),))
-        _add(out, k, minus, ((1, (a0,)),))
-    else:  # single pole: (A s + 2 pi GBW) V_out = A 2 pi GBW (V+ - V-)
-        _add(out, k, node, ((1, (a0, "s")), (2, (PI, gbw))))
-        _add(out, k, plus, ((-2, (a0, PI, gbw)),))
-        _add(out, k, minus, ((2, (a0, PI, gbw)),))
+    else:
+        left, right = _opamp_rows(p)
+        _add(out, k, node, left)
+        _add(out, k, plus, _scaled(right, -1))
+        _add(out, k, minus, right)
 
 
 def _stamp_voltage_source(out: list, p, voltage, control) -> None:
@@ -328,10 +399,17 @@ def _stamp_voltage_source(out: list, p, voltage, control) -> None:
             _add(out, k, col, _scaled(coef, -1, (p.name,)))
 
 
-def _stamp_drive(out: list, circuit: "Circuit", mode: str, voltage):
+def _stamp_drive(out: list, circuit: "Circuit", mode: str, voltage, opamp: str | None = None):
     """The source branch and the right-hand side of the mode; returns (rhs, target)."""
     rhs = []
-    if mode in ("transfer", "zout"):
+    if mode == "loop":
+        amp = circuit.part(opamp)
+        diff = Unknown("V", loop_node(opamp))
+        _add(out, diff, diff, ONE)
+        _add(out, diff, voltage(amp.nodes[0]), ((-1, ()),))
+        _add(out, diff, voltage(amp.nodes[1]), ONE)
+        rhs.append((Unknown("I", opamp), ONE))
+    if mode in ("transfer", "zout", "loop"):
         k = Unknown("I", SOURCE_BRANCH)
         src = Unknown("V", SOURCE_NODE) if circuit.source.present else voltage(circuit.input)
         _add(out, src, k, ONE)
@@ -341,6 +419,8 @@ def _stamp_drive(out: list, circuit: "Circuit", mode: str, voltage):
     if mode == "zin":
         rhs.append((voltage(circuit.input), ONE))
         target = voltage(circuit.input)
+    elif mode == "loop":
+        target = Unknown("V", loop_node(opamp))
     else:
         target = voltage(circuit.output)
     if mode == "zout":

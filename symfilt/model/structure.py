@@ -86,7 +86,14 @@ def check_structure(circuit: "Circuit") -> None:
         if p.name in seen:
             raise CircuitError(f"part {p.name}", "the name is used twice", "give each part its own name")
         seen.add(p.name)
+    from symfilt.model.opamp import opamp_parameters
+
     by_name = {p.name: p for p in parts}
+    for p in parts:
+        for symbol, _param, _value in opamp_parameters(p):
+            if symbol in by_name:
+                raise CircuitError(f"part {symbol}", f"the name is also the symbol of op-amp {p.name}'s parameter",
+                                   "rename the part")
     for p in parts:
         _check_pins(p, GROUND)
         if p.control is not None:
