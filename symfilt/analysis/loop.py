@@ -1,0 +1,337 @@
+"""The loop around each op-amp: feedback factor, loop gain, margins and polarity.
+
+The loop is broken at the op-amp's controlled source (the return-ratio method):
+the source ``A(s)·(V+ − V−)`` is replaced by a unit test voltage, the signal
+source is zeroed (``R_s`` kept) and the load stays. The voltage that returns to
+the op-amp's inputs gives the feedback factor ``β(s) = −(V+ − V−)`` and the loop
+gain ``T(s) = A(s)·β(s)`` (:func:`symfilt.engine.solve.solve_unknown` with
+``drive="loop"``). The op-amp's output resistance and the load are inside the
+loop, which is how a capacitive load eats the phase margin.
+
+At the values: the crossover frequency (|T| = 1), the phase margin
+(180° + arg T there, the phase followed continuously from DC), the phase crossover
+(arg T = −180°) and the gain margin there.
+
+Polarity: with the op-amp's gain out of the picture, the sign of β at low
+frequency (β(0), or the first coefficient when β(0) = 0) says whether the
+feedback is negative. A negative β there is positive feedback: the stage latches
+instead of settling (:func:`check_polarity`).
+"""
+
+from __future__ import annotations
+
+import cmath
+import math
+from dataclasses import dataclass, field
+from typing import Mapping
+
+import sympy
+
+from symfilt.analysis.network import NetworkFunction
+from symfilt.analysis.numeric import magnitude_squared, positive_roots, trim
+from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+from symfilt.engine.solve import solve_unknown
+from symfilt.errors import CircuitError
+from symfilt.model.circuit import Circuit, Part, S, part_symbol
+
+__all__ = ["Loop", "LoopView", "open_loop_gain", "loops", "margins", "feedback_sign", "check_polarity",
+           "MARGIN_WARNING_DEG"]
+
+#: Phase margin below which a warning is given (common practice: 45° or more).
+MARGIN_WARNING_DEG = 45.0
+
+
+@dataclass(frozen=True)
+class LoopView:
+    """One view (loaded or ideal) of an op-amp's loop.
+
+    Parameters
+    ----------
+    beta : NetworkFunction
+        Feedback factor β(s): the fraction of the op-amp's own output that returns
+        as V− − V+.
+    loop_gain : NetworkFunction or None
+        T(s) = A(s)·β(s); None for an ideal op-amp (A -> oo).
+    numbers : dict
+        At the circuit's values: ``dc_loop_gain``, ``crossover_hz``,
+        ``phase_margin_deg``, ``phase_crossover_hz``, ``gain_margin_db`` (None when
+        there is no such point); empty when a value is missing.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> view = loops(catalogue.build("sallen-key-lowpass"))[0].ideal
+    >>> view.beta.dc_gain(), view.loop_gain is None
+    (1, True)
+    """
+
+    beta: NetworkFunction
+    loop_gain: NetworkFunction | None
+    numbers: dict = field(default_factory=dict)
+
+
+@dataclass(frozen=True)
+class Loop:
+    """The loop around one op-amp, loaded and ideal.
+
+    Parameters
+    ----------
+    opamp : str
+        The op-amp's name.
+    feedback : {"negative", "positive", "undecided"}
+        The polarity of the loaded loop at low frequency.
+    loaded, ideal : LoopView
+        With the source resistance and load, and with them at their ideal limits.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> loops(catalogue.build("sallen-key-lowpass"))[0].feedback
+    'negative'
+    """
+
+    opamp: str
+    feedback: str
+    loaded: LoopView
+    ideal: LoopView
+
+
+def open_loop_gain(part: Part) -> sympy.Expr | None:
+    """The op-amp's open-loop gain A(s) as its model says; None for the ideal model.
+
+    Parameters
+    ----------
+    part : Part
+        An op-amp.
+
+    Examples
+    --------
+    >>> open_loop_gain(Part.opamp("U1", "a", "b", "c", model="single-pole"))
+    2*pi*A_U1*GBW_U1/(A_U1*s + 2*pi*GBW_U1)
+    """
+    a0 = part_symbol(f"A_{part.name}")
+    if part.model == "ideal":
+        return None
+    if part.model == "gain":
+        return a0
+    wt = 2 * sympy.pi * part_symbol(f"GBW_{part.name}")
+    a = a0 * wt / (a0 * S + wt)
+    if part.model == "two-pole":
+        w2 = 2 * sympy.pi * part_symbol(f"P2_{part.name}")
+        a = a * w2 / (S + w2)
+    return a
+
+
+def loops(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS) -> tuple[Loop, ...]:
+    """The loop of every op-amp of the circuit, loaded and ideal, with numbers at the values.
+
+    Parameters
+    ----------
+    circuit : Circuit
+    max_terms : int
+        Size budget of the elimination.
+
+    Returns
+    -------
+    tuple of Loop
+        In the order of the parts.
+
+    Examples
+    --------
+    >>> from symfilt.model.circuit import Circuit, Part
+    >>> c = Circuit.build([Part.opamp("U1", "in", "out", "out", model="gain", rout="symbol"),
+    ...                    Part.resistor("R1", "out", "0")])
+    >>> loops(c)[0].loaded.loop_gain.as_expr()
+    A_U1*R1/(R1 + Rout_U1)
+    """
+    values = circuit.values()
+    out = []
+    for part in circuit.parts:
+        if part.kind != "opamp":
+            continue
+        num, den = solve_unknown(circuit, drive="loop", opamp=part.name, max_terms=max_terms).to_sympy()
+        beta = NetworkFunction(-num, den, quantity="transfer")
+        views = {}
+        for key, b in (("loaded", beta), ("ideal", beta.ideal())):
+            a = open_loop_gain(part)
+            t = None if a is None else NetworkFunction.from_expr(sympy.cancel(a * b.as_expr()))
+            views[key] = LoopView(b, t, margins(t, values) if t is not None else {})
+        out.append(Loop(part.name, feedback_sign(beta, values), views["loaded"], views["ideal"]))
+    return tuple(out)
+
+
+def feedback_sign(beta: NetworkFunction, values: Mapping) -> str:
+    """``negative``, ``positive`` or ``undecided``: the polarity of the feedback at low frequency.
+
+    β(s) ≈ c·s^k as s -> 0. For k = 0 (feedback at DC) and k = 1 (feedback through
+    a capacitor, as in an integrator) the sign of c decides: c > 0 is negative
+    feedback. Otherwise, or when the sign depends on values that are not given, it
+    is ``undecided``.
+
+    Parameters
+    ----------
+    beta : NetworkFunction
+        The feedback factor.
+    values : mapping
+        Symbol -> value (may be partial).
+
+    Examples
+    --------
+    >>> R1, R2 = sympy.symbols("R1 R2", positive=True)
+    >>> feedback_sign(NetworkFunction.from_expr(R1 / (R1 + R2)), {}), \\
+    ...     feedback_sign(NetworkFunction.from_expr(-R1 / (R1 + R2)), {})
+    ('negative', 'positive')
+    """
+    if beta.infinite:
+        return "undecided"
+    ncs, dcs = beta.coefficients()
+    k_num = next((k for k, c in enumerate(ncs) if c != 0), None)
+    k_den = next((k for k, c in enumerate(dcs) if c != 0), None)
+    if k_num is None or k_den is None or not 0 <= k_num - k_den <= 1:
+        return "undecided"
+    c = sympy.sympify(ncs[k_num] / dcs[k_den]).xreplace(dict(values))
+    if c.is_negative:
+        return "positive"
+    if c.is_positive:
+        return "negative"
+    return "undecided"
+
+
+def check_polarity(circuit: Circuit, found: tuple[Loop, ...]) -> None:
+    """Raise CircuitError for the first op-amp whose feedback is positive.
+
+    Parameters
+    ----------
+    circuit : Circuit
+    found : tuple of Loop
+        As :func:`loops` gives.
+
+    Raises
+    ------
+    CircuitError
+        Naming the op-amp, both inputs and the fix.
+
+    Examples
+    --------
+    >>> from symfilt.model.circuit import Circuit, Part
+    >>> c = Circuit.build([Part.opamp("U1", "fb", "in", "out"), Part.resistor("R1", "out", "fb"),
+    ...                    Part.resistor("R2", "fb", "0")])
+    >>> check_polarity(c, loops(c))
+    Traceback (most recent call last):
+    ...
+    symfilt.errors.CircuitError: part U1: the feedback is positive: the output returns to the + input (node fb) more than to the - input (node in), so the stage latches instead of settling, swap plus and minus, or take the feedback to the - input
+    """
+    for loop in found:
+        if loop.feedback == "positive":
+            plus, minus, _out = circuit.part(loop.opamp).nodes
+            raise CircuitError(
+                f"part {loop.opamp}",
+                f"the feedback is positive: the output returns to the + input (node {plus}) more than to "
+                f"the - input (node {minus}), so the stage latches instead of settling",
+                "swap plus and minus, or take the feedback to the - input")
+
+
+def margins(t: NetworkFunction, values: Mapping) -> dict:
+    """Crossover, phase margin and gain margin of a loop gain at the values.
+
+    Parameters
+    ----------
+    t : NetworkFunction
+        The loop gain T(s).
+    values : mapping
+        Symbol -> value for every symbol but s; otherwise the result is empty.
+
+    Returns
+    -------
+    dict
+        ``dc_loop_gain`` (None when infinite), ``crossover_hz`` (the highest
+        frequency where |T| falls through 1), ``phase_margin_deg``,
+        ``phase_crossover_hz`` (the lowest frequency where arg T = −180°),
+        ``gain_margin_db``; None where there is no such point.
+
+    Examples
+    --------
+    >>> A, w = sympy.symbols("A w", positive=True)
+    >>> m = margins(NetworkFunction.from_expr(A * w / (S + w)), {A: 100, w: 1})
+    >>> round(m["crossover_hz"] * 2 * math.pi, 3), round(m["phase_margin_deg"], 2), m["gain_margin_db"]
+    (99.995, 90.57, None)
+    """
+    cv = t.coefficient_values(values)
+    if cv is None:
+        return {}
+    num, den = trim(cv[0]), trim(cv[1])
+    out: dict = {"dc_loop_gain": num[0] / den[0] if den[0] != 0 else None}
+    diff = [a - b for a, b in zip(*_padded(magnitude_squared(num), magnitude_squared(den)))]
+    falls = [u for u in positive_roots(diff) if _abs_t(num, den, math.sqrt(u) * 1.001) < 1]
+    wc = math.sqrt(falls[-1]) if falls else None
+    out["crossover_hz"] = None if wc is None else wc / (2 * math.pi)
+    out["phase_margin_deg"] = None if wc is None else 180.0 + phase_deg(num, den, wc)
+    w180 = _phase_crossover(num, den)
+    out["phase_crossover_hz"] = None if w180 is None else w180 / (2 * math.pi)
+    g = None if w180 is None else _abs_t(num, den, w180)
+    out["gain_margin_db"] = None if not g else -20 * math.log10(g)
+    return out
+
+
+def _padded(a: list, b: list) -> tuple[list, list]:
+    n = max(len(a), len(b))
+    return a + [0.0] * (n - len(a)), b + [0.0] * (n - len(b))
+
+
+def _value_at(cs: list, w: float) -> complex:
+    return sum(c * (1j * w) ** k for k, c in enumerate(cs))
+
+
+def _abs_t(num: list, den: list, w: float) -> float:
+    return abs(_value_at(num, w) / _value_at(den, w))
+
+
+def phase_deg(num: list, den: list, w: float) -> float:
+    """arg T(jw) in degrees, followed continuously from DC (0° for a positive DC value).
+
+    Each root contributes its own continuous angle; the sum is then shifted by whole
+    turns so that the phase just above DC lies in (−180°, 180°].
+
+    Parameters
+    ----------
+    num, den : list of float
+        Coefficients, lowest power first.
+    w : float
+        Angular frequency (rad/s).
+
+    Examples
+    --------
+    >>> round(phase_deg([1.0], [1.0, 1.0, 0.25], 1e6), 1)  # two poles at s = -2
+    -180.0
+    """
+    import numpy as np
+
+    zeros, poles = np.roots(num[::-1]), np.roots(den[::-1])
+    lead = num[-1] / den[-1]
+
+    def raw(x: float) -> float:
+        total = math.degrees(cmath.phase(lead))
+        total += sum(math.degrees(cmath.phase(1j * x - z)) for z in zeros)
+        return total - sum(math.degrees(cmath.phase(1j * x - p)) for p in poles)
+
+    scale = min([abs(r) for r in list(zeros) + list(poles) if abs(r) > 0] or [1.0])
+    low = raw(scale * 1e-9)
+    shift = -360.0 * round(low / 360.0)
+    if low + shift <= -180.0:
+        shift += 360.0
+    return raw(w) + shift
+
+
+def _phase_crossover(num: list, den: list) -> float | None:
+    """The lowest w > 0 where T(jw) is real and negative with the continuous phase at −180°."""
+    # Im(N(jw)·conj(D(jw))) is odd in w: w·q(w^2); its positive roots are where T(jw) is real.
+    a, b = _padded(list(num), list(den))
+    im = [0.0] * (2 * len(a))
+    for i, x in enumerate(a):
+        for j, y in enumerate(b):
+            im[i + j] += x * y * (1j ** ((i - j) % 4)).imag
+    q = trim(im[1::2]) if any(im[1::2]) else []
+    for w in sorted(math.sqrt(u) for u in positive_roots(q)) if len(q) > 1 else []:
+        if abs(phase_deg(num, den, w) + 180.0) < 1.0:
+            return w
+    return None
