@@ -18,6 +18,7 @@ import warnings
 import click
 
 from symfilt.errors import SymfiltError, UsageError
+from symfilt.model.opamp import OPAMP_MODELS
 
 FORMATS = ("text", "latex", "mathml", "json")  # the names of symfilt.export.formats.DERIVE_FORMATS
 CLI_QUANTITIES = ("transfer", "dc-gain", "cutoff", "w0", "q", "zin", "zout", "sensitivity")
@@ -208,7 +209,7 @@ def cli():
 @click.option("--substitute", is_flag=True, help="Put the parts' values into the formulas.")
 @click.option("--load-limit", "load_limit", metavar="TOL",
               help="Report the smallest R_L and largest R_s keeping the cutoff within TOL (e.g. 2%) of ideal.")
-@click.option("--opamp-model", type=click.Choice(["ideal", "gain", "single-pole"]),
+@click.option("--opamp-model", type=click.Choice(list(OPAMP_MODELS)),
               help="Switch every op-amp to this model.")
 @click.option("--max-terms", type=click.IntRange(min=10), default=None,
               help="Size budget of the elimination (terms per polynomial).")
@@ -388,7 +389,7 @@ def _frequency(text, where: str):
               help="Note file: .html (standalone page), .md (with the plot as <name>-bode.svg beside it) or .tex.")
 @click.option("--fmin", metavar="HZ", help="Lowest frequency of the Bode plot (e.g. 10 or 1k).")
 @click.option("--fmax", metavar="HZ", help="Highest frequency of the Bode plot.")
-@click.option("--opamp-model", type=click.Choice(["ideal", "gain", "single-pole"]),
+@click.option("--opamp-model", type=click.Choice(list(OPAMP_MODELS)),
               help="Switch every op-amp to this model.")
 def note(circuit, output, fmin, fmax, opamp_model):
     """Write a design note for CIRCUIT (a file or @name): parts, equations, loaded vs ideal, sensitivities, Bode plot."""
@@ -414,7 +415,7 @@ def note(circuit, output, fmin, fmax, opamp_model):
 @click.option("--fmax", metavar="HZ", help="Highest frequency; default two decades above the cutoff.")
 @click.option("--points", type=click.IntRange(min=2, max=100_000), default=400, show_default=True,
               help="Number of frequencies, logarithmically spaced.")
-@click.option("--opamp-model", type=click.Choice(["ideal", "gain", "single-pole"]),
+@click.option("--opamp-model", type=click.Choice(list(OPAMP_MODELS)),
               help="Switch every op-amp to this model.")
 def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
     """Draw the Bode plot of CIRCUIT (a file or @name), loaded and ideal overlaid."""

@@ -35,7 +35,7 @@ from symfilt.errors import CircuitError
 from symfilt.model.circuit import Circuit, Part, S, part_symbol
 
 __all__ = ["Loop", "LoopView", "open_loop_gain", "loops", "margins", "feedback_sign", "check_polarity",
-           "MARGIN_WARNING_DEG"]
+           "substitute_loop", "MARGIN_WARNING_DEG"]
 
 #: Phase margin below which a warning is given (common practice: 45° or more).
 MARGIN_WARNING_DEG = 45.0
@@ -69,6 +69,19 @@ class LoopView:
     loop_gain: NetworkFunction | None
     numbers: dict = field(default_factory=dict)
 
+    @property
+    def margin_low(self) -> bool:
+        """True when the phase margin at the values is below :data:`MARGIN_WARNING_DEG`.
+
+        Examples
+        --------
+        >>> from symfilt import catalogue
+        >>> loops(catalogue.build("sallen-key-lowpass"))[0].loaded.margin_low
+        False
+        """
+        pm = self.numbers.get("phase_margin_deg")
+        return pm is not None and pm < MARGIN_WARNING_DEG
+
 
 @dataclass(frozen=True)
 class Loop:
@@ -82,6 +95,8 @@ class Loop:
         The polarity of the loaded loop at low frequency.
     loaded, ideal : LoopView
         With the source resistance and load, and with them at their ideal limits.
+    model : str
+        The op-amp's model.
 
     Examples
     --------
@@ -94,6 +109,7 @@ class Loop:
     feedback: str
     loaded: LoopView
     ideal: LoopView
+    model: str = "ideal"
 
 
 def open_loop_gain(part: Part) -> sympy.Expr | None:
@@ -122,7 +138,7 @@ def open_loop_gain(part: Part) -> sympy.Expr | None:
     return a
 
 
-def loops(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS) -> tuple[Loop, ...]:
+def loops(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS, progress=None) -> tuple[Loop, ...]:
     """The loop of every op-amp of the circuit, loaded and ideal, with numbers at the values.
 
     Parameters
@@ -130,6 +146,8 @@ def loops(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS) -> tuple[Loop
     circuit : Circuit
     max_terms : int
         Size budget of the elimination.
+    progress : callable, optional
+        Receives stage names.
 
     Returns
     -------
@@ -149,15 +167,38 @@ def loops(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS) -> tuple[Loop
     for part in circuit.parts:
         if part.kind != "opamp":
             continue
-        num, den = solve_unknown(circuit, drive="loop", opamp=part.name, max_terms=max_terms).to_sympy()
+        num, den = solve_unknown(circuit, drive="loop", opamp=part.name, max_terms=max_terms,
+                                 progress=progress).to_sympy()
         beta = NetworkFunction(-num, den, quantity="transfer")
         views = {}
         for key, b in (("loaded", beta), ("ideal", beta.ideal())):
             a = open_loop_gain(part)
-            t = None if a is None else NetworkFunction.from_expr(sympy.cancel(a * b.as_expr()))
+            t = None if a is None else NetworkFunction.from_expr(a * b.as_expr())
             views[key] = LoopView(b, t, margins(t, values) if t is not None else {})
-        out.append(Loop(part.name, feedback_sign(beta, values), views["loaded"], views["ideal"]))
+        out.append(Loop(part.name, feedback_sign(beta, values), views["loaded"], views["ideal"], part.model))
     return tuple(out)
+
+
+def substitute_loop(loop: Loop, values: Mapping) -> Loop:
+    """The loop with values put into its formulas (numbers unchanged).
+
+    Parameters
+    ----------
+    loop : Loop
+    values : mapping
+        Symbol -> exact value.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> c = catalogue.build("sallen-key-lowpass")
+    >>> substitute_loop(loops(c)[0], c.values()).loaded.beta.free_symbols() <= {S}
+    True
+    """
+    def view(v: LoopView) -> LoopView:
+        return LoopView(v.beta.subs(values), None if v.loop_gain is None else v.loop_gain.subs(values), v.numbers)
+
+    return Loop(loop.opamp, loop.feedback, view(loop.loaded), view(loop.ideal), loop.model)
 
 
 def feedback_sign(beta: NetworkFunction, values: Mapping) -> str:

@@ -15,6 +15,7 @@ from typing import Callable
 import sympy
 
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit
+from symfilt.model.opamp import opamp_parameters
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.analysis.network import NetworkFunction, derive
 from symfilt.analysis.sensitivity import product_sensitivities, sum_rules
@@ -22,6 +23,10 @@ from symfilt.analysis.forms import RESPONSE_KINDS, Cutoff, StandardForm, cutoff,
 from symfilt.analysis.numbers import numeric_sensitivities, numeric_values, stability
 from symfilt.analysis.findings import Finding, finding
 from symfilt.analysis.numeric import numeric_cutoff, tidy as _tidy
+from symfilt.analysis.loop import check_polarity, loops, substitute_loop
+
+#: Numbers left out of a view whose poles are in the right half-plane.
+UNSTABLE_DROPS = ("cutoff_hz", "low_edge_hz", "high_edge_hz")
 
 
 @dataclass(frozen=True)
@@ -96,6 +101,8 @@ class Analysis:
         Sum-rule self-checks on the loaded w0 and Q sensitivities (empty when they do not apply).
     rules_note : Finding or None
         Why the sum rules do not apply, when they do not.
+    loops : tuple of Loop
+        The loop around each op-amp (:mod:`symfilt.analysis.loop`), loaded and ideal.
 
     Examples
     --------
@@ -111,6 +118,7 @@ class Analysis:
     numeric: dict
     rules: tuple = ()
     rules_note: Finding | None = None
+    loops: tuple = ()
 
     def ratio(self, key: str) -> float | None:
         """Loaded over ideal of a numeric quantity (``cutoff_hz``, ``dc_gain``, ``f0_hz``, ``q``).
@@ -203,6 +211,8 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     h = derive(circuit, "transfer", max_terms=max_terms, progress=progress)
     zin = derive(circuit, "zin", max_terms=max_terms, progress=progress)
     zout = derive(circuit, "zout", max_terms=max_terms, progress=progress)
+    found = loops(circuit, max_terms=max_terms, progress=progress)
+    check_polarity(circuit, found)
     if progress:
         progress("standard forms and sensitivities")
     table = circuit.symbol_table()
@@ -211,22 +221,29 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     ideal = _stage(h.ideal(), zin.ideal(), zout.ideal(), symbols, sensitivity)
     values = circuit.values()
     numeric = {"loaded": numeric_values(loaded, values), "ideal": numeric_values(ideal, values)}
+    for numbers in numeric.values():
+        if numbers.get("stability") == "unstable":  # a cutoff of a circuit that does not settle means nothing
+            for key in UNSTABLE_DROPS:
+                numbers.pop(key, None)
     if sensitivity:
         for key, st in (("loaded", loaded), ("ideal", ideal)):
             numeric[key]["sensitivity"] = numeric_sensitivities(st, values)
     rules: tuple = ()
     note = None
     if sensitivity:
-        blockers = [p.name for p in circuit.parts if p.kind == "inductor" or (p.kind == "opamp" and p.model == "single-pole")]
+        blockers = [p.name for p in circuit.parts if p.kind == "inductor" or (p.kind == "opamp" and p.model in ("single-pole", "two-pole"))]
         if blockers:
             note = finding("sum-rules-own-frequency", parts=tuple(blockers))
         elif loaded.form.w0 is None:
             note = finding("sum-rules-no-w0")
         else:
+            amp = [(n, param.unit) for p in circuit.parts for n, param, _v in opamp_parameters(p)]
             res = [p.name for p in circuit.parts if p.kind == "resistor"] + [n for n in (SOURCE_R, LOAD_R) if n in table]
+            res += [n for n, unit in amp if unit == "Ω"]
             caps = [p.name for p in circuit.parts if p.kind == "capacitor"] + [n for n in (LOAD_C,) if n in table]
+            caps += [n for n, unit in amp if unit == "F"]
             rules = sum_rules(loaded.sensitivity, res, caps)
-    return Analysis(circuit, loaded, ideal, numeric, rules, note)
+    return Analysis(circuit, loaded, ideal, numeric, rules, note, found)
 
 
 def substitute(analysis: Analysis) -> Analysis:
@@ -268,7 +285,7 @@ def substitute(analysis: Analysis) -> Analysis:
         return StageResult(st.transfer.subs(values), st.zin.subs(values), st.zout.subs(values), form, cut, sens)
 
     return Analysis(analysis.circuit, stage(analysis.loaded), stage(analysis.ideal), analysis.numeric,
-                    analysis.rules, analysis.rules_note)
+                    analysis.rules, analysis.rules_note, tuple(substitute_loop(x, values) for x in analysis.loops))
 
 
 __all__ = ["RESPONSE_KINDS", "Analysis", "Cutoff", "StageResult", "StandardForm", "analyse", "cutoff",

@@ -24,9 +24,8 @@ from symfilt.design.opamp_error import OpampError, opamp_error
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.errors import UsageError
 from symfilt.model.circuit import Circuit
+from symfilt.model.opamp import OPAMP_MODELS
 from symfilt.model.structure import structure_warnings
-
-OPAMP_MODELS = ("ideal", "gain", "single-pole")
 
 
 @dataclass(frozen=True)
@@ -71,7 +70,7 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     circuit : Circuit
     load_limit : float, optional
         Tolerance of the cutoff for the load limits, as a fraction (0.02 for 2%).
-    opamp_model : {"ideal", "gain", "single-pole"}, optional
+    opamp_model : {"ideal", "gain", "single-pole", "two-pole"}, optional
         Switch every op-amp to this model; the non-ideal ones also give the
         op-amp error section (real against ideal op-amps).
     substitute : bool
@@ -95,7 +94,7 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     (['A_U1'], True)
     """
     if opamp_model is not None and opamp_model not in OPAMP_MODELS:
-        raise UsageError("opamp_model", f"{opamp_model!r} is not an op-amp model", "use ideal, gain or single-pole")
+        raise UsageError("opamp_model", f"{opamp_model!r} is not an op-amp model", "use " + ", ".join(OPAMP_MODELS))
     if load_limit is not None and not 0 < load_limit < 1:
         raise UsageError("load_limit", f"{load_limit!r} is outside 0..1", "give a fraction such as 0.02")
     shown = circuit.with_opamp_model(opamp_model) if opamp_model else circuit

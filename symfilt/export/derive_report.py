@@ -14,6 +14,7 @@ from __future__ import annotations
 from typing import Any
 
 from symfilt.export.findings import describe
+from symfilt.export.loop_report import loop_dict, loop_text
 
 QUANTITY_KEYS = {"transfer": "transfer", "dc-gain": "dc_gain", "cutoff": "cutoff", "w0": "w0", "q": "q",
                  "zin": "input_impedance", "zout": "output_impedance", "sensitivity": "sensitivity"}
@@ -74,6 +75,8 @@ def derive_dict(report, quantity: str | None = None) -> dict:
         extra["load_limit"] = load_limit_dicts(report.load_limits)
     if report.opamp_error is not None:
         extra["opamp_error"] = design_report.opamp_error_dict(report.opamp_error)
+    if report.analysis.loops:
+        extra["loops"] = loop_dict(report.analysis.loops)
     data = jx.analysis_dict(report.analysis, extra)
     return _select_json(data, quantity) if quantity else data
 
@@ -124,6 +127,8 @@ def derive_text(report, quantity: str | None = None) -> str:
     from symfilt.export import design_report, text
 
     out = text.render(report.analysis, quantity, report.load_limits)
+    if report.analysis.loops and not quantity:
+        out += "\n" + loop_text(report.analysis.loops)
     if report.opamp_error is not None:
         out += "\n" + design_report.opamp_error_text(report.opamp_error)
     return out

@@ -15,7 +15,7 @@ from symfilt.analysis.findings import Finding
 def _own_frequency(d: dict) -> str:
     parts = d["parts"]
     own = "has a frequency of its" if len(parts) == 1 else "have frequencies of their"
-    return f"sum rules not checked: {', '.join(parts)} {own} own (an inductor or a single-pole op-amp)"
+    return f"sum rules not checked: {', '.join(parts)} {own} own (an inductor or an op-amp with a gain-bandwidth)"
 
 
 def _dc_gain_sign(d: dict) -> str:
@@ -72,7 +72,7 @@ def describe(finding: Finding | None) -> str:
     >>> describe(finding("notch-has-no-cutoff"))
     'a notch is described by w0 and Q'
     >>> describe(finding("sum-rules-own-frequency", parts=("L1", "L2")))
-    'sum rules not checked: L1, L2 have frequencies of their own (an inductor or a single-pole op-amp)'
+    'sum rules not checked: L1, L2 have frequencies of their own (an inductor or an op-amp with a gain-bandwidth)'
     """
     if finding is None:
         return ""

@@ -289,7 +289,11 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
         out += [""] + _stage_formulas(st)
     rows = _numbers(a)
     if rows:
-        out += ["", "Numbers at the given values"] + rows
+        out += ["", "Numbers at the given values"]
+        out += [f"  UNSTABLE ({key}): poles in the right half-plane; the numbers below do not describe a working "
+                "circuit, and no cutoff is given" for key in ("loaded", "ideal")
+                if a.numeric.get(key, {}).get("stability") == "unstable"]
+        out += rows
     for key, st in (("loaded", a.loaded), ("ideal", a.ideal)):
         table = _sens_table(a, st, key)
         if table:
