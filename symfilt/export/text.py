@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import sympy
 
-from symfilt.analysis.stage import Analysis, StageResult
+from symfilt.analysis.stage import UNSTABLE_DROPS, Analysis, StageResult
 from symfilt.model.values import format_value
 from symfilt.engine.polybridge import smaller_than
 from symfilt.export.common import impedance_display, parallel_display, transfer_parts
@@ -158,8 +158,12 @@ def _numbers(a: Analysis) -> list[str]:
         if key not in lo and key not in hi:
             return
 
-        def f(d):
+        def f(d, st):
             if key not in d:
+                if d.get("stability") == "unstable" and key in UNSTABLE_DROPS:
+                    return "unstable"
+                if (key, None) in (("f0_hz", st.form.w0), ("q", st.form.q)):
+                    return "—"
                 return "needs values"
             v = d[key]
             if v is None:
@@ -167,7 +171,7 @@ def _numbers(a: Analysis) -> list[str]:
             return f"{v:.6g}" if raw else format_value(v, unit)
 
         ratio = a.ratio(key)
-        rows.append(f"  {label:<14}{f(lo):>16}{f(hi):>16}{'' if ratio is None else f'{ratio:.4f}':>15}")
+        rows.append(f"  {label:<14}{f(lo, a.loaded):>16}{f(hi, a.ideal):>16}{'' if ratio is None else f'{ratio:.4f}':>15}")
 
     add("cutoff", "cutoff_hz", "Hz")
     add("low edge", "low_edge_hz", "Hz")
@@ -188,9 +192,8 @@ def _numbers(a: Analysis) -> list[str]:
     if missing and any(k not in d for d in (lo, hi) for k in ("cutoff_hz", "dc_gain") if k in lo or k in hi):
         rows.append("  needs values: give " + ", ".join(missing) + " a value for these numbers")
     for key, d in (("loaded", lo), ("ideal", hi)):
-        if d.get("stability") in ("unstable", "marginal"):
-            where = "in the right half-plane" if d["stability"] == "unstable" else "on the jω axis"
-            rows.append(f"  WARNING ({key}): poles {where}: the stage oscillates or latches at these values")
+        if d.get("stability") == "marginal":
+            rows.append(f"  WARNING ({key}): poles on the jω axis: the stage oscillates at these values")
     return rows
 
 
