@@ -82,8 +82,8 @@ def show_number(x: float | None, unit: str = "") -> str:
     """
     if x is None or (isinstance(x, float) and not math.isfinite(x)):
         return "—"
-    if unit in ("", "dB"):
-        return plain_number(float(x)) + (f" {unit}" if unit else "")
+    if unit in ("", "dB", "°"):
+        return plain_number(float(x)) + ("" if unit in ("", "°") else f" {unit}") + ("°" if unit == "°" else "")
     return format_value(x, unit)
 
 
@@ -257,6 +257,24 @@ def number_rows(a: Analysis) -> list[dict]:
         row["ratio"] = {"value": r if ok else None, "text": plain_number(r) if ok else "—",
                         "key": f"ratios.{key}" if ok else None}
         rows.append(row)
+    return rows + _margin_rows(a)
+
+
+def _margin_rows(a: Analysis) -> list[dict]:
+    """Phase margin and crossover of each op-amp's loop, loaded and ideal (finite-gain models with values)."""
+    rows = []
+    for loop in a.loops:
+        for key, label, tex, unit in (("phase_margin_deg", f"phase margin of {loop.opamp}", r"\varphi_m", "°"),
+                                      ("crossover_hz", f"loop crossover of {loop.opamp}", r"f_{t}", "Hz")):
+            cells = {view: getattr(loop, view).numbers.get(key) for view in ("loaded", "ideal")}
+            if all(v is None for v in cells.values()):
+                continue
+            row = {"key": key, "label": label, "tex": tex, "unit": unit,
+                   "ratio": {"value": None, "text": "—", "key": None}}
+            for view, v in cells.items():
+                row[view] = {"value": v, "text": show_number(v, unit),
+                             "key": f"loops.{loop.opamp}.{view}.numbers.{key}" if v is not None else None}
+            rows.append(row)
     return rows
 
 
@@ -460,6 +478,11 @@ def cautions(a: Analysis) -> list[str]:
     if shaky:
         out.append("At these values the " + " and ".join(shaky) + " stage has poles on or to the right of the "
                    "jω axis: it would oscillate or latch, and its gains and cutoff do not describe a filter.")
+    for loop in a.loops:
+        if loop.loaded.margin_low or loop.ideal.margin_low:
+            pm = min(v.numbers["phase_margin_deg"] for v in (loop.loaded, loop.ideal) if v.margin_low)
+            out.append(f"{loop.opamp}'s loop has a phase margin of {pm:.1f}°, below the 45° of common practice: "
+                       "expect peaking and ringing, or oscillation at 0° or less.")
     out.append("Verify the stage on the bench, with the real source and load, before committing the design.")
     if amps:
         out.append("Respect each op-amp's supply range, output swing and output current limit: a heavy "

@@ -102,7 +102,7 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
 
 
 def _tex_number(x: float, unit: str) -> str:
-    text = show_number(x, unit)
+    text = show_number(x, unit).replace("°", "^{\\circ}")
     if " " not in text:
         return text
     num, unit_text = text.split(" ", 1)
