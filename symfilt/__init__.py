@@ -12,6 +12,7 @@ from symfilt.model import catalogue
 from symfilt.analysis.forms import StandardForm, standard_form
 from symfilt.analysis.stage import Analysis, analyse, substitute
 from symfilt.analysis.loading import LoadLimit, load_limits
+from symfilt.analysis.loop import Loop, loops
 from symfilt.model.circuit import Circuit, Fixture, Part
 from symfilt.claims.judge import Equivalence, equivalent, parse_claim
 from symfilt.export.check_report import assert_equivalent
@@ -44,6 +45,7 @@ __all__ = [
     "ClaimError",
     "Fixture",
     "LoadLimit",
+    "Loop",
     "NetworkFunction",
     "OutputError",
     "Part",
@@ -64,6 +66,7 @@ __all__ = [
     "format_value",
     "load_circuit",
     "load_limits",
+    "loops",
     "parse_circuit_text",
     "parse_claim",
     "parse_value",
