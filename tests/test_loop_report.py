@@ -136,3 +136,10 @@ def test_substitute_puts_values_into_the_loop_formulas(run_cli, tmp_path):
     assert code == 0
     loop = json.loads(out)["loops"]["U1"]["loaded"]
     assert "Rout_U1" not in loop["beta"] and "C_L" not in loop["loop_gain"]
+
+
+def test_margins_that_need_values_name_the_missing_symbol(run_cli, tmp_path):
+    code, out, _err = run_cli("derive", _file(tmp_path, cl="10n"), "--opamp-model", "two-pole")
+    assert code == 0
+    assert "U1 (two-pole model): negative feedback" in out
+    assert "margins need values: give P2_U1 a value" in out

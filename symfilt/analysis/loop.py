@@ -56,6 +56,8 @@ class LoopView:
         At the circuit's values: ``dc_loop_gain``, ``crossover_hz``,
         ``phase_margin_deg``, ``phase_crossover_hz``, ``gain_margin_db`` (None when
         there is no such point); empty when a value is missing.
+    missing : tuple of str
+        The symbols of T(s) without a value (why ``numbers`` is empty).
 
     Examples
     --------
@@ -68,6 +70,7 @@ class LoopView:
     beta: NetworkFunction
     loop_gain: NetworkFunction | None
     numbers: dict = field(default_factory=dict)
+    missing: tuple = ()
 
     @property
     def margin_low(self) -> bool:
@@ -174,7 +177,8 @@ def loops(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS, progress=None
         for key, b in (("loaded", beta), ("ideal", beta.ideal())):
             a = open_loop_gain(part)
             t = None if a is None else NetworkFunction.from_expr(a * b.as_expr())
-            views[key] = LoopView(b, t, margins(t, values) if t is not None else {})
+            missing = () if t is None else tuple(sorted(x.name for x in t.free_symbols() - {S} - set(values)))
+            views[key] = LoopView(b, t, margins(t, values) if t is not None else {}, missing)
         out.append(Loop(part.name, feedback_sign(beta, values), views["loaded"], views["ideal"], part.model))
     return tuple(out)
 
@@ -196,7 +200,8 @@ def substitute_loop(loop: Loop, values: Mapping) -> Loop:
     True
     """
     def view(v: LoopView) -> LoopView:
-        return LoopView(v.beta.subs(values), None if v.loop_gain is None else v.loop_gain.subs(values), v.numbers)
+        return LoopView(v.beta.subs(values), None if v.loop_gain is None else v.loop_gain.subs(values), v.numbers,
+                        v.missing)
 
     return Loop(loop.opamp, loop.feedback, view(loop.loaded), view(loop.ideal), loop.model)
 

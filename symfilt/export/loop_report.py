@@ -72,7 +72,8 @@ def loop_text(loops) -> str:
             continue
         lo, hi = loop.loaded.numbers, loop.ideal.numbers
         if not lo and not hi:
-            out.append("    margins need values: give every part and op-amp parameter a value")
+            names = sorted(set(loop.loaded.missing) | set(loop.ideal.missing))
+            out.append("    margins need values: give " + ", ".join(names) + " a value")
             continue
         out.append(f"    {'':<18}{'loaded':>14}{'ideal':>14}")
         for k, label, unit in LOOP_NUMBERS:
