@@ -143,3 +143,13 @@ def test_margins_that_need_values_name_the_missing_symbol(run_cli, tmp_path):
     assert code == 0
     assert "U1 (two-pole model): negative feedback" in out
     assert "margins need values: give P2_U1 a value" in out
+
+
+def test_an_open_loop_op_amp_is_said_to_have_no_feedback(run_cli, tmp_path):
+    path = tmp_path / "open.toml"
+    path.write_text('[parts]\nR1 = { kind = "resistor", nodes = ["out", "0"], value = "1k" }\n'
+                    'U1 = { kind = "opamp", plus = "in", minus = "0", out = "out", model = "gain", gain = "1k" }\n')
+    code, out, _err = run_cli("derive", str(path))
+    assert code == 0
+    assert "U1 (gain model): no feedback: nothing of the output returns to the inputs (open loop)" in out
+    assert "crossover                   none" in out

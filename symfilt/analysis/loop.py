@@ -94,7 +94,7 @@ class Loop:
     ----------
     opamp : str
         The op-amp's name.
-    feedback : {"negative", "positive", "undecided"}
+    feedback : {"negative", "positive", "undecided", "none"}
         The polarity of the loaded loop at low frequency.
     loaded, ideal : LoopView
         With the source resistance and load, and with them at their ideal limits.
@@ -207,12 +207,12 @@ def substitute_loop(loop: Loop, values: Mapping) -> Loop:
 
 
 def feedback_sign(beta: NetworkFunction, values: Mapping) -> str:
-    """``negative``, ``positive`` or ``undecided``: the polarity of the feedback at low frequency.
+    """``negative``, ``positive``, ``undecided`` or ``none``: the polarity of the feedback at low frequency.
 
     β(s) ≈ c·s^k as s -> 0. For k = 0 (feedback at DC) and k = 1 (feedback through
     a capacitor, as in an integrator) the sign of c decides: c > 0 is negative
     feedback. Otherwise, or when the sign depends on values that are not given, it
-    is ``undecided``.
+    is ``undecided``; ``none`` when nothing returns (β = 0, an open loop).
 
     Parameters
     ----------
@@ -230,6 +230,8 @@ def feedback_sign(beta: NetworkFunction, values: Mapping) -> str:
     """
     if beta.infinite:
         return "undecided"
+    if beta.ratio.num == 0:
+        return "none"
     ncs, dcs = beta.coefficients()
     k_num = next((k for k, c in enumerate(ncs) if c != 0), None)
     k_den = next((k for k, c in enumerate(dcs) if c != 0), None)

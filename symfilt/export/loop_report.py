@@ -16,7 +16,8 @@ LOOP_NUMBERS = (("dc_loop_gain", "DC loop gain", ""), ("crossover_hz", "crossove
                 ("phase_margin_deg", "phase margin", "°"), ("phase_crossover_hz", "phase crossover", "Hz"),
                 ("gain_margin_db", "gain margin", "dB"))
 _FEEDBACK = {"negative": "negative feedback", "positive": "POSITIVE feedback",
-             "undecided": "feedback polarity not decided at low frequency (it depends on the values or the loop is open at DC)"}
+             "undecided": "feedback polarity not decided at low frequency (it depends on the values or the loop is open at DC)",
+             "none": "no feedback: nothing of the output returns to the inputs (open loop)"}
 
 
 def _number(key: str, v, unit: str) -> str:
