@@ -268,3 +268,14 @@ def test_drawing_leaves_the_users_matplotlib_backend_alone(tmp_path, run_cli):
     finally:
         matplotlib.use(before)
     assert matplotlib.get_backend() == before
+
+
+def test_demo_shows_the_real_op_amps_limits(run_cli):
+    # The follower U2 drives the ADC's 100 pF through its 50 Ω output resistance: the load
+    # pole sits at 1/(2π·50 Ω·100 pF) = 31.8 MHz, far above the 1 MHz crossover, so the
+    # margin stays near 90° − atan(1 MHz/31.8 MHz) ≈ 88.2° (one pole plus the load pole;
+    # common practice, tests/REFERENCES.md "Loop gain and stability").
+    code, out, _ = run_cli("demo")
+    assert code == 0
+    line = next(x for x in out.splitlines() if "phase margin loaded" in x)
+    assert "U1 90.0°" in line and "U2 88.2°" in line

@@ -403,13 +403,25 @@ def render_demo(results) -> str:
         shift = a.ratio("cutoff_hz")
         name = a.circuit.title.split(", ")[-1]
         out.append(f"  {name:<34}{_fmt_num(hi.get('cutoff_hz'), 'Hz'):>14}{_fmt_num(lo.get('cutoff_hz'), 'Hz'):>15}"
-                   f"{'' if shift is None else f'{(shift - 1) * 100:+.1f}%':>9}"
+                   f"{_demo_shift(shift):>9}"
                    f"{hi.get('dc_gain', 0):>15.4f}{lo.get('dc_gain', 0):>9.4f}")
     out.append("")
     for a in results:
         name = a.circuit.title.split(", ")[-1]
-        out.append(f"  {name}: ωc loaded = {one_line(a.loaded.cutoff.value)}")
+        margins = [(x.opamp, x.loaded.numbers["phase_margin_deg"]) for x in a.loops
+                   if x.loaded.numbers.get("phase_margin_deg") is not None]
+        if margins:
+            out.append(f"  {name}: phase margin loaded " + ", ".join(f"{n} {pm:.1f}°" for n, pm in margins))
+        else:
+            out.append(f"  {name}: ωc loaded = {one_line(a.loaded.cutoff.value)}")
     out += ["",
             "  The passive stage's cutoff and gain depend on the probe and the ADC; the buffered one holds",
-            "  its response (within its op-amps' limits). Try: symfilt derive @rc-lowpass, symfilt catalogue."]
+            "  its response, within its op-amps' limits: finite gain and bandwidth, and an output resistance",
+            "  that meets the ADC's capacitance inside the loop. Try: symfilt derive @rc-lowpass, symfilt catalogue."]
     return "\n".join(out) + "\n"
+
+
+def _demo_shift(shift: float | None) -> str:
+    if shift is None:
+        return ""
+    return f"{(shift - 1) * 100:+.1f}%"
