@@ -803,7 +803,8 @@ def test_json_other_circuits_read_back(name):
         assert equal(sympy.sympify(d[key]["cutoff"], locals=syms), st.cutoff.value)
         if st.form.q is None:
             assert d[key]["q"] is None
-        assert set(d["numeric"][key]) <= NUMERIC_KEYS | {"sensitivity", "low_edge_hz", "high_edge_hz", "stability"}
+        assert set(d["numeric"][key]) <= NUMERIC_KEYS | {"sensitivity", "low_edge_hz", "high_edge_hz", "stability",
+                                                         "zout_dc_ohm", "zout_cutoff_ohm"}
 
 
 QUANTITY_KEYS = {"transfer": "transfer", "dc-gain": "dc_gain", "cutoff": "cutoff", "w0": "w0", "q": "q",

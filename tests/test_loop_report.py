@@ -153,3 +153,19 @@ def test_an_open_loop_op_amp_is_said_to_have_no_feedback(run_cli, tmp_path):
     assert code == 0
     assert "U1 (gain model): no feedback: nothing of the output returns to the inputs (open loop)" in out
     assert "crossover                   none" in out
+
+
+def test_zout_numbers_of_a_real_follower(run_cli, tmp_path):
+    # Closed-loop output resistance of a follower: Rout/(1 + A·β) with β = 1 at DC (a standard
+    # feedback result; Sedra & Smith, Microelectronic Circuits, feedback chapter, from memory;
+    # tests/REFERENCES.md "Loop gain and stability"). Here 50/(1 + 100k).
+    code, out, _err = run_cli("derive", _file(tmp_path, rl="10k"), "--format", "json")
+    assert code == 0
+    numeric = json.loads(out)["numeric"]
+    assert numeric["ideal"]["zout_dc_ohm"] == pytest.approx(50 / (1 + 1e5), rel=1e-9)
+    # Derived by hand: with A(s) = A0·ωa/(s + ωa), ωa = 2π·GBW/A0, the follower alone has
+    # H = A/(1 + A) = A0·ωa/(s + ωc), ωc = ωa·(1 + A0), and Zout = Rout/(1 + A) = Rout·(s + ωa)/(s + ωc),
+    # so at its cutoff |Zout(jωc)| = Rout·√(ωc² + ωa²)/(√2·ωc).
+    wa = 2 * math.pi * 1e6 / 1e5
+    wc = wa * (1 + 1e5)
+    assert numeric["ideal"]["zout_cutoff_ohm"] == pytest.approx(50 * math.hypot(wc, wa) / (math.sqrt(2) * wc), rel=1e-6)

@@ -71,9 +71,51 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
         g = num(dc)
         out["dc_gain"] = g
         out["dc_gain_db"] = 20 * math.log10(abs(g)) if g not in (None, 0) else None
+    out.update(output_impedance_values(stage.zout, values, out.get("cutoff_hz")))
     stab = stability(stage.transfer, values)
     if stab is not None:
         out["stability"] = stab
+    return out
+
+
+def output_impedance_values(zout: NetworkFunction, values: Mapping, cutoff_hz: float | None) -> dict:
+    """Zout at DC and |Zout| at the cutoff, in ohms, when every symbol of Zout has a value.
+
+    An op-amp stage's output impedance is small at DC (Rout/(1 + A·β)) and rises as the
+    loop gain falls, so the two numbers say how firmly the stage holds its output.
+
+    Parameters
+    ----------
+    zout : NetworkFunction
+        The output impedance.
+    values : mapping
+        Symbol -> exact number.
+    cutoff_hz : float or None
+        The cutoff at the values, when there is one.
+
+    Returns
+    -------
+    dict
+        ``zout_dc_ohm`` (None when infinite, e.g. a series capacitor) and
+        ``zout_cutoff_ohm``; empty when a value is missing.
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> z = NetworkFunction.from_expr(R / (1 + S * R * C), "zout")
+    >>> d = output_impedance_values(z, {R: 1000, C: sympy.Rational(1, 10**6)}, 1000 / (2 * math.pi))
+    >>> d["zout_dc_ohm"], round(d["zout_cutoff_ohm"], 3)
+    (1000.0, 707.107)
+    """
+    cv = zout.coefficient_values(values)
+    if cv is None:
+        return {}
+    num, den = cv
+    out = {"zout_dc_ohm": None if den[0] == 0 else abs(num[0] / den[0]) if num[0] != 0 or den[0] != 0 else None}
+    if cutoff_hz is not None and cutoff_hz > 0:
+        s = 2j * math.pi * cutoff_hz
+        d = sum(c * s**k for k, c in enumerate(den))
+        out["zout_cutoff_ohm"] = None if d == 0 else abs(sum(c * s**k for k, c in enumerate(num)) / d)
     return out
 
 

@@ -31,6 +31,8 @@ NUMBER_ROWS = (
     ("q", "quality factor", "Q", ""),
     ("dc_gain", "DC gain", "H(0)", ""),
     ("dc_gain_db", "DC gain", "20 \\log_{10} \\left|H(0)\\right|", "dB"),
+    ("zout_dc_ohm", "output impedance at DC", "Z_{out}(0)", "Ω"),
+    ("zout_cutoff_ohm", "output impedance at the cutoff", "\\left|Z_{out}(j\\omega_c)\\right|", "Ω"),
 )
 #: Quantities whose loaded/ideal ratio the analysis reports.
 RATIO_KEYS = ("cutoff_hz", "f0_hz", "q", "dc_gain")

@@ -182,6 +182,8 @@ def _numbers(a: Analysis) -> list[str]:
     if "dc_gain_db" in lo or "dc_gain_db" in hi:
         f = lambda v: "—" if v is None else f"{v:.3f} dB"
         rows.append(f"  {'DC gain (dB)':<14}{f(lo.get('dc_gain_db')):>16}{f(hi.get('dc_gain_db')):>16}")
+    add("Zout at DC", "zout_dc_ohm", "Ω")
+    add("|Zout| at fc", "zout_cutoff_ohm", "Ω")
     if "stability" in lo or "stability" in hi:
         rows.append(f"  {'poles':<14}{lo.get('stability', '—'):>16}{hi.get('stability', '—'):>16}")
     if len(rows) == 1:
