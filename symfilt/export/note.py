@@ -19,6 +19,7 @@ from __future__ import annotations
 import math
 
 from symfilt.analysis.stage import Analysis, StageResult
+from symfilt.model.opamp import opamp_parameters
 from symfilt.model.values import format_value
 from symfilt.export.latex import stage_equations
 
@@ -116,7 +117,7 @@ def _symbol_unit(name: str, info: dict) -> str:
         return "F"
     if info["role"] in ("source", "load"):
         return "Ω"
-    return "Hz" if name.startswith("GBW_") else ""
+    return info.get("unit", "") if info["role"] == "opamp" else ""
 
 
 def node_name(n: str) -> str:
@@ -172,9 +173,8 @@ def part_rows(a: Analysis) -> list[dict]:
             else:
                 rows.append({"name": p.name, "kind": f"op-amp, {p.model} model", "connection": conn,
                              "value": "", "key": None, "exact": None})
-                value_row(f"A_{p.name}", f"open-loop gain of {p.name}", "—")
-                if p.model == "single-pole":
-                    value_row(f"GBW_{p.name}", f"gain-bandwidth of {p.name}", "—")
+            for name, param, _value in opamp_parameters(p):
+                value_row(name, f"{param.meaning} of {p.name}", "—")
         elif p.kind in ("resistor", "capacitor", "inductor"):
             value_row(p.name, p.kind, " → ".join(node_name(n) for n in p.nodes))
         else:
@@ -434,13 +434,20 @@ def assumptions(a: Analysis) -> list[str]:
         out.append("Passive stage: no op-amps.")
     for p in amps:
         if p.model == "ideal":
-            out.append(f"{p.name} is an ideal op-amp: infinite open-loop gain and bandwidth, no input current, "
-                       "zero output impedance, and no supply, swing, current or slew limits.")
+            plain = not any(param.optional for _n, param, _v in opamp_parameters(p))
+            out.append(f"{p.name} is an ideal op-amp: infinite open-loop gain and bandwidth, "
+                       + ("no input current, zero output impedance, " if plain else "")
+                       + "and no supply, swing, current or slew limits.")
         elif p.model == "gain":
             out.append(f"{p.name} has a finite open-loop gain A_{p.name}, flat with frequency; otherwise ideal.")
         else:
-            out.append(f"{p.name} has a single-pole open-loop gain A(s) = A0·2π·GBW/(A0·s + 2π·GBW), "
+            second = f" · 2π·P2/(s + 2π·P2), P2 = P2_{p.name}" if p.model == "two-pole" else ""
+            out.append(f"{p.name} has a {p.model} open-loop gain A(s) = A0·2π·GBW/(A0·s + 2π·GBW){second}, "
                        f"with A0 = A_{p.name} and GBW = GBW_{p.name}; otherwise ideal.")
+        extras = [f"{param.meaning} {name}" for name, param, _v in opamp_parameters(p) if param.optional]
+        if extras:
+            out.append(f"{p.name} also has its " + ", ".join(extras) + " (the output resistance sits between "
+                       "the op-amp's internal source and its output pin, inside the feedback loop).")
     fixtures = [name for name, on in (("source resistance R_s", c.source.present),
                                       ("load resistance R_L", c.load_resistance.present),
                                       ("load capacitance C_L", c.load_capacitance.present)) if on]

@@ -143,8 +143,8 @@ def _symbol_rows(a: Analysis) -> list[str]:
         unit = {"source": "Ω", "load": "F" if name == "C_L" else "Ω"}.get(info["role"], "")
         if info["role"] == "part":
             unit = _UNITS.get(info.get("kind", ""), "")
-        if name.startswith("GBW_"):
-            unit = "Hz"
+        if info["role"] == "opamp":
+            unit = info.get("unit", "")
         value = "symbolic" if info["value"] is None else format_value(info["value"], unit)
         rows.append(f"  {name:<10} {info['role']:<7} {value}")
     return rows

@@ -472,8 +472,8 @@ class Circuit:
         out: dict[str, dict] = {}
         for p in self.parts:
             if p.kind == "opamp":
-                for name, _param, value in opamp_parameters(p):
-                    out[name] = {"role": "opamp", "value": value, "symbol": part_symbol(name)}
+                for name, param, value in opamp_parameters(p):
+                    out[name] = {"role": "opamp", "value": value, "symbol": part_symbol(name), "unit": param.unit}
             else:
                 out[p.name] = {"role": "part", "value": p.value, "symbol": p.symbol, "kind": p.kind}
         if self.source.present:
