@@ -152,7 +152,7 @@ def stability(h: NetworkFunction, values: Mapping) -> str | None:
     poly = sympy.Poly(den, S)
     if poly.degree() < 1:
         return "stable"
-    roots = [complex(r) for r in poly.nroots(n=30, maxsteps=200)]
+    roots = pole_values(poly)
     scale = max(1.0, max(abs(r) for r in roots))
     worst = max(r.real for r in roots)
     if worst > 1e-12 * scale:
@@ -160,6 +160,49 @@ def stability(h: NetworkFunction, values: Mapping) -> str | None:
     if worst > -1e-12 * scale:
         return "marginal"
     return "stable"
+
+
+def pole_values(poly: sympy.Poly) -> list[complex]:
+    """The roots of an exact polynomial in s, found on a scaled variable.
+
+    Circuit coefficients span many decades (picofarads against megohms), which can stop
+    sympy's root finder; the variable is scaled by the geometric mean root size
+    (|a0/an|^(1/n)) first, with 30 digits and a numpy fallback.
+
+    Parameters
+    ----------
+    poly : sympy.Poly
+        A polynomial in s with numeric coefficients, degree 1 or more.
+
+    Returns
+    -------
+    list of complex
+
+    Examples
+    --------
+    >>> sorted(round(r.real, 9) for r in pole_values(sympy.Poly(S**2 + 3 * S + 2, S)))
+    [-2.0, -1.0]
+    """
+    import mpmath
+
+    coeffs = [sympy.Rational(c) if c.is_Rational else sympy.Float(c, 40) for c in poly.all_coeffs()]
+    n = len(coeffs) - 1
+    while coeffs[-1] == 0:  # roots at s = 0
+        coeffs.pop()
+    zeros = [0j] * (n - (len(coeffs) - 1))
+    n = len(coeffs) - 1
+    if n < 1:
+        return zeros
+    k = sympy.Float(abs(coeffs[-1] / coeffs[0]), 40) ** sympy.Rational(1, n)
+    scaled = [c * k ** (n - i) / coeffs[0] for i, c in enumerate(coeffs)]
+    try:
+        with mpmath.workdps(40):
+            found = mpmath.polyroots([mpmath.mpf(str(c)) for c in scaled], maxsteps=400, extraprec=200)
+        return zeros + [complex(r) * float(k) for r in found]
+    except mpmath.libmp.libhyper.NoConvergence:
+        import numpy as np
+
+        return zeros + [complex(r) * float(k) for r in np.roots([float(c) for c in scaled])]
 
 
 def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
