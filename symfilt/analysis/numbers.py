@@ -185,7 +185,7 @@ def pole_values(poly: sympy.Poly) -> list[complex]:
     """
     import mpmath
 
-    coeffs = [sympy.Rational(c) if c.is_Rational else sympy.Float(c, 40) for c in poly.all_coeffs()]
+    coeffs = [c if c.is_Rational else sympy.N(c, 45) for c in poly.all_coeffs()]
     n = len(coeffs) - 1
     while coeffs[-1] == 0:  # roots at s = 0
         coeffs.pop()
@@ -197,7 +197,7 @@ def pole_values(poly: sympy.Poly) -> list[complex]:
     scaled = [c * k ** (n - i) / coeffs[0] for i, c in enumerate(coeffs)]
     try:
         with mpmath.workdps(40):
-            found = mpmath.polyroots([mpmath.mpf(str(c)) for c in scaled], maxsteps=400, extraprec=200)
+            found = mpmath.polyroots([mpmath.mpf(str(sympy.N(c, 45))) for c in scaled], maxsteps=400, extraprec=200)
         return zeros + [complex(r) * float(k) for r in found]
     except mpmath.libmp.libhyper.NoConvergence:
         import numpy as np
