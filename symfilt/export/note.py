@@ -31,6 +31,9 @@ NUMBER_ROWS = (
     ("q", "quality factor", "Q", ""),
     ("dc_gain", "DC gain", "H(0)", ""),
     ("dc_gain_db", "DC gain", "20 \\log_{10} \\left|H(0)\\right|", "dB"),
+    ("hf_gain", "stop-band floor", "\\left|H(j\\infty)\\right|", ""),
+    ("hf_gain_db", "stop-band floor", "20 \\log_{10} \\left|H(j\\infty)\\right|", "dB"),
+    ("hf_slope_db_per_decade", "slope far above the poles", "\\mathrm{slope}_{\\infty}", "dB/decade"),
 )
 #: Quantities whose loaded/ideal ratio the analysis reports.
 RATIO_KEYS = ("cutoff_hz", "f0_hz", "q", "dc_gain")
@@ -73,7 +76,7 @@ def show_number(x: float | None, unit: str = "") -> str:
     x : float or None
         The number (None, infinity or NaN shows ``—``).
     unit : str
-        Its unit; ``""`` and ``"dB"`` take no prefix.
+        Its unit; ``""``, ``"dB"`` and ``"dB/decade"`` take no prefix.
 
     Examples
     --------
@@ -82,7 +85,7 @@ def show_number(x: float | None, unit: str = "") -> str:
     """
     if x is None or (isinstance(x, float) and not math.isfinite(x)):
         return "—"
-    if unit in ("", "dB"):
+    if unit in ("", "dB", "dB/decade"):
         return plain_number(float(x)) + (f" {unit}" if unit else "")
     return format_value(x, unit)
 
