@@ -720,7 +720,7 @@ def test_numeric_load_limits_second_order(build, tol):
 
 STAGE_KEYS = {"transfer", "numerator", "denominator", "order", "kind", "dc_gain", "hf_gain", "w0", "q",
               "cutoff", "input_impedance", "output_impedance", "sensitivity"}
-NUMERIC_KEYS = {"cutoff_hz", "f0_hz", "q", "dc_gain", "dc_gain_db"}
+NUMERIC_KEYS = {"cutoff_hz", "f0_hz", "q", "dc_gain", "dc_gain_db", "hf_slope_db_per_decade", "hf_gain", "hf_gain_db"}
 
 
 def _run(args):

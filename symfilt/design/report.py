@@ -22,7 +22,7 @@ from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.analysis.stage import Analysis, analyse, substitute as put_values
 from symfilt.design.opamp_error import OpampError, needs_opamp_error, opamp_error
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
-from symfilt.errors import UsageError
+from symfilt.errors import SingularCircuitError, SizeLimitError, UsageError
 from symfilt.model.circuit import Circuit
 from symfilt.model.structure import structure_warnings
 
@@ -105,7 +105,10 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     if opamp_model in ("gain", "single-pole") and any(p.kind == "opamp" for p in circuit.parts):
         error = opamp_error(circuit, opamp_model, max_terms=max_terms or DEFAULT_MAX_TERMS)
     elif opamp_model is None and needs_opamp_error(circuit):
-        error = opamp_error(circuit, None, max_terms=max_terms or DEFAULT_MAX_TERMS)
+        try:
+            error = opamp_error(circuit, None, max_terms=max_terms or DEFAULT_MAX_TERMS)
+        except (UsageError, SingularCircuitError, SizeLimitError):
+            error = None  # no ideal-op-amp form to compare with (no negative feedback), or too large
     warnings = tuple(structure_warnings(shown))
     a = analyse(shown, sensitivity=sensitivity, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress)
     limits = tuple(load_limits(a, load_limit)) if load_limit is not None else None

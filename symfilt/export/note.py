@@ -499,3 +499,38 @@ def sweep(a: Analysis, fmin=None, fmax=None, points=None):
     if missing:
         return None, "no value for " + ", ".join(missing)
     return bode_data(a, None, fmin, fmax, points or DEFAULT_POINTS), ""
+
+
+def opamp_error_lines(e) -> list[str]:
+    """The op-amp error as sentences for a note: DC gain and cutoff, real against ideal, errors in % (ppm when tiny).
+
+    Parameters
+    ----------
+    e : OpampError or None
+        The result of :func:`symfilt.design.opamp_error.opamp_error` (None gives no lines).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.design.opamp_error import opamp_error
+    >>> c = catalogue.build("inverting-lowpass").with_opamp_model("gain", gain="100k")
+    >>> opamp_error_lines(opamp_error(c, None))[1]
+    'DC gain: -2.075 with real op-amps against -2.075 with ideal ones, error -30.75 ppm (first-order estimate -30.75 ppm).'
+    """
+    from symfilt.export.design_report import relative_error_text
+    from symfilt.export.findings import describe_all
+
+    if e is None:
+        return []
+    what = "the op-amps as given" if e.model == "as given" else f"every op-amp on the {e.model} model"
+    out = [f"Real against ideal op-amps ({what} against ideal op-amps without rout, rin or cin), loaded."]
+    for key, label, unit in (("dc_gain", "DC gain", ""), ("cutoff_hz", "Cutoff", "Hz")):
+        n = e.numeric.get(key)
+        if not n:
+            continue
+        fo = "" if n.get("first_order") is None else f" (first-order estimate {relative_error_text(n['first_order'])})"
+        out.append(f"{label}: {show_number(n['real'], unit)} with real op-amps against {show_number(n['ideal'], unit)} "
+                   f"with ideal ones, error {relative_error_text(n['error'])}{fo}.")
+    out += [x[:1].upper() + x[1:] + "." for x in describe_all(e.notes)]
+    return out
+
