@@ -97,3 +97,15 @@ def test_percent_and_ppm():
     assert cut["error_percent"] == pytest.approx(100 * cut["error"])
     assert cut["first_order_percent"] == pytest.approx(100 * cut["first_order"])
     assert d["model"] == "as given"
+
+
+def test_note_has_a_real_opamps_section(tmp_path):
+    from symfilt.export.note_write import write_note
+
+    written = write_note(_follower_lowpass(Rout_U1="100"), tmp_path / "sk.md")
+    md = written[-1].read_text(encoding="utf-8")
+    assert "## Real op-amps" in md
+    # derived by hand above (test_rout_gives_the_exact_error_only): -10.1 ppm DC error
+    assert "error -10.1 ppm" in md and "exact one, real against ideal" in md
+    plain = write_note(catalogue.build("sallen-key-lowpass"), tmp_path / "plain.md")[-1].read_text(encoding="utf-8")
+    assert "Real op-amps" not in plain
