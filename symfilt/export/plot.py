@@ -56,6 +56,9 @@ def _figure(data):
     if finite:
         top = max(finite)
         bottom = max(min(finite), top - DEPTH_DB)
+        floors = list(getattr(data, "floors", {}).values())
+        if floors:
+            bottom = min(bottom, min(floors) - 6.0)  # the floor line stays in view
         pad = max(1.0, 0.05 * (top - bottom))
         mag.set_ylim(bottom - pad, top + pad)
     mag.set_ylabel("|H| / dB")
