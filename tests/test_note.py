@@ -299,9 +299,10 @@ def test_latex_fragment_is_balanced_and_its_numbers_are_derive_numbers(analyses,
     pool = json_numbers(derive_json(a))
     numbers = 0
     for line in body.splitlines():
-        m = re.fullmatch(r"\s*(f_\{[^}]*\}|Q|H\(0\)|20 \\log_\{10\} \\left\|H\(0\)\\right\||Z_\{out\}\(0\)|"
-                         r"\\left\|Z_\{out\}\(j\\omega_c\)\\right\|) &\\approx (-?[\d.e+-]+)"
-                         r"(?:\\,\\mathrm\{(\\mu |[pnmkMG])?(Hz|dB|\\Omega)\})?( \\\\)?", line)
+        m = re.fullmatch(r"\s*(f_\{[^}]*\}|Q|H\(0\)|20 \\log_\{10\} \\left\|H\(0\)\\right\|"
+                         r"|(?:20 \\log_\{10\} )?\\left\|H\(j\\infty\)\\right\||\\mathrm\{slope\}_\{\\infty\}"
+                         r"|Z_\{out\}\(0\)|\\left\|Z_\{out\}\(j\\omega_c\)\\right\|) "
+                         r"&\\approx (-?[\d.e+-]+)(?:\\,\\mathrm\{(\\mu |[pnmkMG])?(Hz|dB/decade|dB|\\Omega)\})?( \\\\)?", line)
         if m:
             numbers += 1
             prefix = {"\\mu ": 1e-6}.get(m.group(3), PREFIX.get(m.group(3) or "", 1.0))

@@ -38,6 +38,9 @@ class BodeData:
         for ``loaded`` and ``ideal``: ``{"loaded": {...}, "ideal": {...}}``.
     title : str
         The circuit's title (empty for a bare transfer function).
+    floors : dict
+        The stop-band floor 20 log10 |H(j oo)| in dB of each view that has one
+        (``numeric[view]["hf_gain_db"]`` of the analysis), ``{"ideal": -36.8}``.
 
     Examples
     --------
@@ -54,6 +57,7 @@ class BodeData:
     ideal_phase: object
     marks: dict = field(default_factory=dict)
     title: str = ""
+    floors: dict = field(default_factory=dict)
 
 
 def missing_values(h, values: Mapping) -> list[str]:
@@ -149,7 +153,9 @@ def bode_data(source, values: Mapping | None = None, fmin: float | None = None, 
         Symbol (or name) -> number for every symbol but ``s``. Default: the circuit's
         values (an analysis) or none.
     fmin, fmax : float, optional
-        Sweep range in Hz; default two decades either side of the marked frequencies.
+        Sweep range in Hz; default two decades either side of the marked frequencies, and
+        when a view has a stop-band floor, up to a decade past the frequency where
+        that view flattens (its largest pole or zero) so that the floor shows.
     points : int
         Number of frequencies, logarithmically spaced.
 
@@ -173,21 +179,60 @@ def bode_data(source, values: Mapping | None = None, fmin: float | None = None, 
     """
     import numpy as np
 
-    loaded, ideal, vals, marks, title = _sweep_inputs(source, values)
+    loaded, ideal, vals, marks, title, floors = _sweep_inputs(source, values)
     missing = missing_values(loaded, vals)
     if missing:
         raise UsageError("bode", "no value for " + ", ".join(missing),
                          "give every part, source and load a value to plot the response")
     n = _point_count(points)
     lo, hi = _sweep_range(marks, fmin, fmax)
+    if floors and fmax is None:
+        flat = [flattening_hz(h, vals) for key, h in (("loaded", loaded), ("ideal", ideal)) if key in floors]
+        flat = [x for x in flat if x is not None]
+        if flat:
+            hi = max(hi, 10.0 ** (math.ceil(math.log10(max(flat))) + 1))
     f = np.geomspace(lo, hi, n)
     l_db, l_ph = _response(loaded, vals, f)
     i_db, i_ph = _response(ideal, vals, f)
-    return BodeData(f, l_db, l_ph, i_db, i_ph, marks, title)
+    return BodeData(f, l_db, l_ph, i_db, i_ph, marks, title, floors)
+
+
+def flattening_hz(h, values: Mapping) -> float | None:
+    """The frequency (Hz) of the largest pole or zero of ``h`` at the values: above it the
+    response follows its high-frequency asymptote. None when a value is missing or there is none.
+
+    Parameters
+    ----------
+    h : NetworkFunction
+        The transfer function.
+    values : mapping
+        Symbol (or name) -> number for every symbol but ``s``.
+
+    Returns
+    -------
+    float or None
+
+    Examples
+    --------
+    >>> import sympy
+    >>> from symfilt.analysis.network import NetworkFunction
+    >>> from symfilt.model.circuit import S
+    >>> round(flattening_hz(NetworkFunction((S + 1) * (S + 2000 * sympy.pi), S + 10), {}), 6)
+    1000.0
+    """
+    import numpy as np
+
+    coeffs = h.coefficient_values(values)
+    if coeffs is None:
+        return None
+    roots = [float(abs(r)) for c in coeffs if len(c) > 1 and any(c[1:]) for r in np.roots(np.trim_zeros(c[::-1], "f"))]
+    roots = [r for r in roots if math.isfinite(r) and r > 0]
+    return max(roots) / (2 * math.pi) if roots else None
 
 
 def _sweep_inputs(source, values: Mapping | None) -> tuple:
-    """(loaded, ideal, values, marks, title) of an analysis or of a loaded transfer function."""
+    """(loaded, ideal, values, marks, title, floors) of an analysis or of a loaded transfer function
+    (floors only for an analysis at its own values)."""
     from symfilt.analysis.numeric import numeric_cutoff
     from symfilt.analysis.stage import Analysis
 
@@ -195,14 +240,16 @@ def _sweep_inputs(source, values: Mapping | None) -> tuple:
         vals = dict(source.circuit.values()) if values is None else dict(values)
         marks = {"loaded": _marks_of(source.numeric.get("loaded", {})),
                  "ideal": _marks_of(source.numeric.get("ideal", {}))}
-        return source.loaded.transfer, source.ideal.transfer, vals, marks, source.circuit.title
+        floors = {key: float(source.numeric[key]["hf_gain_db"]) for key in ("loaded", "ideal")
+                  if values is None and source.numeric.get(key, {}).get("hf_gain_db") is not None}
+        return source.loaded.transfer, source.ideal.transfer, vals, marks, source.circuit.title, floors
     loaded, ideal = source, source.ideal()
     vals = dict(values or {})
     marks = {}
     for key, h in (("loaded", loaded), ("ideal", ideal)):
         w = numeric_cutoff(h, vals) if not missing_values(h, vals) else None
         marks[key] = {} if w is None else {"cutoff": w / (2 * math.pi)}
-    return loaded, ideal, vals, marks, ""
+    return loaded, ideal, vals, marks, "", {}
 
 
 def _point_count(points) -> int:

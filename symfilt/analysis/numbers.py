@@ -1,4 +1,5 @@
-"""Numbers of a stage at the circuit's values: cutoff, f0, Q, gains, stability, sensitivities."""
+"""Numbers of a stage at the circuit's values: cutoff, f0, Q, gains, output impedance, stability,
+sensitivities, and the high-frequency end of the response (its stop-band floor or its slope)."""
 
 from __future__ import annotations
 
@@ -72,6 +73,7 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
         out["dc_gain"] = g
         out["dc_gain_db"] = 20 * math.log10(abs(g)) if g not in (None, 0) else None
     out.update(output_impedance_values(stage.zout, values, out.get("cutoff_hz")))
+    out.update(high_frequency(stage, values))
     stab = stability(stage.transfer, values)
     if stab is not None:
         out["stability"] = stab
@@ -117,6 +119,84 @@ def output_impedance_values(zout: NetworkFunction, values: Mapping, cutoff_hz: f
         d = sum(c * s**k for k, c in enumerate(den))
         out["zout_cutoff_ohm"] = None if d == 0 else abs(sum(c * s**k for k, c in enumerate(num)) / d)
     return out
+
+
+#: Response kinds whose high-frequency gain is their pass band, not a floor.
+PASSBAND_AT_HF = ("highpass", "allpass", "notch")
+#: A level at s -> oo this far below the peak of |H| (dB) is a floor, not a pass band.
+FLOOR_BELOW_PEAK_DB = 3.0
+
+
+def high_frequency(stage: StageResult, values: Mapping) -> dict:
+    """The high-frequency end of a view: its stop-band floor |H(j oo)|, or its slope.
+
+    With numerator degree m and denominator degree n (in s), |H| falls as
+    -20 (n - m) dB/decade far above the last pole or zero (``hf_slope_db_per_decade``;
+    0 when m = n). When m = n the response levels off at |H(j oo)| = |hf_gain|. That
+    level is a *floor* (``hf_gain``, ``hf_gain_db``) when it is not the response's own
+    pass band: the kind is not high-pass, all-pass or notch and, at the values, the
+    level lies more than :data:`FLOOR_BELOW_PEAK_DB` below the peak of |H| (as when an
+    op-amp's output resistance lets the input feed through a low-pass).
+
+    Parameters
+    ----------
+    stage : StageResult
+        One view (loaded or ideal) of an analysis.
+    values : mapping
+        Symbol -> exact number, as :meth:`Circuit.values` gives.
+
+    Returns
+    -------
+    dict
+        ``hf_slope_db_per_decade`` (when the order is at least 1), and ``hf_gain`` and
+        ``hf_gain_db`` when there is a floor and every symbol has a value.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> c = catalogue.build("sallen-key-lowpass")
+    >>> high_frequency(analyse(c, sensitivity=False).ideal, c.values())
+    {'hf_slope_db_per_decade': -40}
+    >>> c = c.with_opamp_model("single-pole", gain="100k", gbw="1M").with_values({"Rout_U1": "100"})
+    >>> hf = high_frequency(analyse(c, sensitivity=False).ideal, c.values())
+    >>> hf["hf_slope_db_per_decade"], round(hf["hf_gain_db"], 2)
+    (0, -36.83)
+    """
+    h = stage.transfer
+    if h.infinite or h.order() < 1:
+        return {}
+    n, m = sympy.degree(h.den, S), sympy.degree(h.num, S)
+    if h.num == 0:
+        return {}
+    out: dict = {"hf_slope_db_per_decade": int(-20 * (n - m))}
+    if n != m or stage.form.kind in PASSBAND_AT_HF or h.free_symbols() - {S} - set(values):
+        return out
+    level = finite_float(h.hf_gain(), values)
+    level = None if level is None else abs(level)
+    peak = _peak_magnitude(h, values)
+    if level in (None, 0) or peak is None or 20 * math.log10(peak / level) <= FLOOR_BELOW_PEAK_DB:
+        return out
+    out["hf_gain"] = level
+    out["hf_gain_db"] = 20 * math.log10(level)
+    return out
+
+
+def _peak_magnitude(h: NetworkFunction, values: Mapping) -> float | None:
+    """The largest |H(jw)| on a log grid three decades past the poles and zeros (None if not finite)."""
+    import numpy as np
+
+    coeffs = h.coefficient_values(values)
+    if coeffs is None:
+        return None
+    roots = [float(abs(r)) for c in coeffs if len(c) > 1 for r in np.roots(np.trim_zeros(c[::-1], "f")) if abs(r) > 0]
+    if not roots:
+        return None
+    w = np.geomspace(min(roots) / 1e3, max(roots) * 1e3, 4000)
+    with np.errstate(all="ignore"):
+        mag = np.abs(np.polyval(coeffs[0][::-1], 1j * w) / np.polyval(coeffs[1][::-1], 1j * w))
+    mag = mag[np.isfinite(mag)]
+    return float(mag.max()) if mag.size else None
 
 
 def stability(h: NetworkFunction, values: Mapping) -> str | None:

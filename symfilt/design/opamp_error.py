@@ -1,9 +1,10 @@
 """The error a real op-amp adds: DC gain and cutoff against the ideal op-amp.
 
 Every op-amp is switched to the ``gain`` model (open-loop gain A_U) or the
-``single-pole`` model (A(s) = A0 2 pi GBW / (A0 s + 2 pi GBW)), the circuit is
+``single-pole`` model (A(s) = A0 2 pi GBW / (A0 s + 2 pi GBW)), or (``model=None``)
+each op-amp keeps its own model and its own ``rout``/``rin``/``cin``; the circuit is
 derived again, and the DC gain and the cutoff are compared with the ideal-op-amp
-circuit, loaded both times:
+circuit (every op-amp ideal, its ``rout``/``rin``/``cin`` removed), loaded both times:
 
 * exactly, as the relative error ``real/ideal - 1`` in closed form (where the
   cutoff has one: order <= 2);
@@ -12,7 +13,12 @@ circuit, loaded both times:
   eps = 0 of H(0) with A_U = 1/eps, over the ideal H(0). For the cutoff (pass band
   at DC), the cutoff solves F(u, eps) = 2 |N(jw)|^2 D(0)^2 - N(0)^2 |D(jw)|^2 = 0
   with u = w^2; implicit differentiation at the ideal cutoff u0 gives
-  d(ln w_c)/d eps = -F_eps / (2 u0 F_u).
+  d(ln w_c)/d eps = -F_eps / (2 u0 F_u). The small parameters are 1/A_U, and
+  1/GBW_U and 1/P2_U for the models that have them.
+
+An op-amp's ``rout``, ``rin`` or ``cin`` does not vanish as A_U grows, so with any
+of them present there are no first-order terms: the exact error (closed form, and
+at the values) is all that is given, and a note says so.
 
 Reference for the check in the tests: an inverting amplifier with open-loop gain A
 has G = -(R2/R1) / (1 + (1 + R2/R1)/A), whose first-order relative error is
@@ -31,7 +37,7 @@ Examples
 from __future__ import annotations
 
 import math
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 
 import sympy
 
@@ -40,6 +46,8 @@ from symfilt.analysis.forms import standard_form
 from symfilt.analysis.findings import finding
 from symfilt.analysis.numeric import finite_float, magnitude_squared, numeric_cutoff, tidy
 from symfilt.model.circuit import Circuit, S
+from symfilt.model.fixture import Fixture
+from symfilt.model.opamp import model_parameters
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.errors import UsageError
 from symfilt.analysis.network import NetworkFunction, derive
@@ -55,7 +63,7 @@ class OpampError:
     Parameters
     ----------
     model : str
-        ``gain`` or ``single-pole``.
+        ``gain``, ``single-pole``, or ``as given`` (each op-amp its own model and parameters).
     dc_ideal, dc_real : sympy.Expr
         H(0) with ideal and with real op-amps.
     dc_error : sympy.Expr or None
@@ -131,7 +139,54 @@ def _second_order_coefficient(f_real, f_ideal, sym, e):
     return tidy(a) + sign * tidy(b) * g if b != 0 else tidy(a)
 
 
-def opamp_error(circuit: Circuit, model: str = "gain", *, gain=None, gbw=None,
+#: The ``model`` of an :class:`OpampError` of the circuit as given.
+AS_GIVEN = "as given"
+
+
+def needs_opamp_error(circuit: Circuit) -> bool:
+    """True when an op-amp of the circuit is not ideal: a finite model, or ``rout``/``rin``/``cin`` present.
+
+    Parameters
+    ----------
+    circuit : Circuit
+        Any circuit.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> c = catalogue.build("sallen-key-lowpass")
+    >>> needs_opamp_error(c), needs_opamp_error(c.with_values({"Rout_U1": "50"}))
+    (False, True)
+    """
+    return any(p.kind == "opamp" and (p.model != "ideal" or _extras(p)) for p in circuit.parts)
+
+
+def _extras(part) -> list[str]:
+    """The op-amp parameters of ``part`` that stay as A grows: rout, rin, cin when present."""
+    return [k for k in ("rout", "rin", "cin") if getattr(part, k).present]
+
+
+def ideal_opamps(circuit: Circuit) -> Circuit:
+    """Every op-amp ideal, with its ``rout``, ``rin`` and ``cin`` removed.
+
+    Parameters
+    ----------
+    circuit : Circuit
+        Any circuit.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> c = catalogue.build("sallen-key-lowpass").with_values({"Rout_U1": "50"})
+    >>> ideal_opamps(c).part("U1").rout.present
+    False
+    """
+    parts = tuple(replace(p, model="ideal", rout=Fixture(), rin=Fixture(), cin=Fixture())
+                  if p.kind == "opamp" else p for p in circuit.parts)
+    return replace(circuit, parts=parts)
+
+
+def opamp_error(circuit: Circuit, model: str | None = "gain", *, gain=None, gbw=None,
                 max_terms: int = DEFAULT_MAX_TERMS) -> OpampError:
     """DC gain and cutoff error of real op-amps against ideal ones, exact and to first order.
 
@@ -139,7 +194,9 @@ def opamp_error(circuit: Circuit, model: str = "gain", *, gain=None, gbw=None,
     ----------
     circuit : Circuit
         With at least one op-amp.
-    model : {"gain", "single-pole"}
+    model : {"gain", "single-pole"} or None
+        Switch every op-amp to this model; None keeps the circuit as given (each
+        op-amp's own model, gain, gbw, pole2, rout, rin and cin).
     gain, gbw : value, optional
         Open-loop gain and gain-bandwidth product (Hz) for op-amps that have none.
     max_terms : int
@@ -158,23 +215,27 @@ def opamp_error(circuit: Circuit, model: str = "gain", *, gain=None, gbw=None,
     >>> abs(n["first_order"] / n["error"] - 1) < 0.01
     True
     """
-    if model not in ("gain", "single-pole"):
+    if model is not None and model not in ("gain", "single-pole"):
         raise UsageError("--opamp-model", f"{model!r} is not a non-ideal model", "use gain or single-pole")
     opamps = [p for p in circuit.parts if p.kind == "opamp"]
     if not opamps:
         raise UsageError("opamp error", "the circuit has no op-amp", "add one, or leave out --opamp-model")
-    real = circuit.with_opamp_model(model, gain=gain, gbw=gbw)
-    ideal = circuit.with_opamp_model("ideal")
+    real = circuit if model is None else circuit.with_opamp_model(model, gain=gain, gbw=gbw)
+    ideal = ideal_opamps(circuit)
     h_real = derive(real, max_terms=max_terms)
     h_ideal = derive(ideal, max_terms=max_terms)
-    notes: list[str] = []
-    eps = _eps_symbols(opamps, model)
+    notes: list = []
+    extras = sorted({k for p in real.parts if p.kind == "opamp" for k in _extras(p)})
+    if extras:
+        notes.append(finding("opamp-error-exact-only", parameters=tuple(extras)))
+    eps = {} if extras else _eps_symbols([p for p in real.parts if p.kind == "opamp"])
     at_zero = {e: 0 for e in eps.values()}
     n_e, d_e = _eps_polys(h_real, eps)
     n0, d0 = n_e.xreplace(at_zero), d_e.xreplace(at_zero)
-    if d0 == 0 or sympy.expand(n0 * h_ideal.den - d0 * h_ideal.num) != 0:
+    if not extras and (d0 == 0 or sympy.expand(n0 * h_ideal.den - d0 * h_ideal.num) != 0):
         raise UsageError("opamp error", "the circuit does not tend to its ideal-op-amp form as A grows",
                          "check every op-amp has negative feedback")
+    model = AS_GIVEN if model is None else model
     dc_ideal, dc_real = h_ideal.dc_gain(), h_real.dc_gain()
     dc_error, dc_first = _dc_terms(dc_ideal, dc_real, (n_e, d_e), eps, notes)
     f_real, f_ideal = standard_form(h_real), standard_form(h_ideal)
@@ -187,7 +248,9 @@ def opamp_error(circuit: Circuit, model: str = "gain", *, gain=None, gbw=None,
         notes.append(finding("no-closed-form-real-cutoff", model=model, order=h_real.order()))
     values = dict(real.values())
     cut_first = cut_first_num = None
-    if dc_ideal not in (0, sympy.oo, sympy.zoo):
+    if extras:
+        pass
+    elif dc_ideal not in (0, sympy.oo, sympy.zoo):
         u = sympy.Symbol("u", positive=True)
         big_f = 2 * _mag2(n_e, u) * d_e.xreplace({S: 0}) ** 2 - n_e.xreplace({S: 0}) ** 2 * _mag2(d_e, u)
         f_u = sympy.diff(big_f, u).xreplace(at_zero)
@@ -205,13 +268,13 @@ def opamp_error(circuit: Circuit, model: str = "gain", *, gain=None, gbw=None,
                       tuple(notes))
 
 
-def _eps_symbols(opamps, model: str) -> dict:
-    """Each op-amp symbol (A_U, and GBW_U for single-pole) -> the small parameter e = 1/symbol."""
+def _eps_symbols(opamps) -> dict:
+    """Each op-amp symbol of its model (A_U; GBW_U; P2_U) -> the small parameter e = 1/symbol."""
     eps = {}
     for p in opamps:
-        eps[sympy.Symbol(f"A_{p.name}", positive=True)] = sympy.Symbol(f"eps_A_{p.name}", positive=True)
-        if model == "single-pole":
-            eps[sympy.Symbol(f"GBW_{p.name}", positive=True)] = sympy.Symbol(f"eps_GBW_{p.name}", positive=True)
+        for param in model_parameters(p.model):
+            name = param.symbol(p.name)
+            eps[sympy.Symbol(name, positive=True)] = sympy.Symbol(f"eps_{name}", positive=True)
     return eps
 
 
@@ -279,7 +342,7 @@ def _numbers(dc: tuple, cut: tuple, cut_first_num, eps: dict, values: dict) -> d
     dci, dcr = finite_float(dc_ideal, values), finite_float(dc_real, values)
     if dci is not None and dcr is not None and dci != 0:
         fo = None
-        if all(sym in values for sym in eps):
+        if eps and all(sym in values for sym in eps):
             fo = sum(finite_float(c, values) / float(values[sympy.Symbol(k, positive=True)]) for k, c in dc_first.items())
         numeric["dc_gain"] = {"ideal": dci, "real": dcr, "error": dcr / dci - 1, "first_order": fo}
     wi = finite_float(c_ideal, values) if c_ideal is not None else numeric_cutoff(h_ideal, values)
@@ -290,4 +353,4 @@ def _numbers(dc: tuple, cut: tuple, cut_first_num, eps: dict, values: dict) -> d
     return numeric
 
 
-__all__ = ["OpampError", "opamp_error"]
+__all__ = ["AS_GIVEN", "OpampError", "ideal_opamps", "needs_opamp_error", "opamp_error"]

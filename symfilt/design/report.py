@@ -20,9 +20,9 @@ from typing import Callable
 
 from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.analysis.stage import Analysis, analyse, substitute as put_values
-from symfilt.design.opamp_error import OpampError, opamp_error
+from symfilt.design.opamp_error import OpampError, needs_opamp_error, opamp_error
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
-from symfilt.errors import UsageError
+from symfilt.errors import SingularCircuitError, SizeLimitError, UsageError
 from symfilt.model.circuit import Circuit
 from symfilt.model.opamp import OPAMP_MODELS
 from symfilt.model.structure import structure_warnings
@@ -41,8 +41,9 @@ class Report:
     load_limits : tuple of LoadLimit or None
         The fixture bounds, when a load limit was asked for.
     opamp_error : OpampError or None
-        Real against ideal op-amps, for the ``gain`` and ``single-pole`` models
-        of a circuit with op-amps.
+        Real against ideal op-amps: for the ``gain`` and ``single-pole`` models
+        of a circuit with op-amps, and without a model asked for whenever an op-amp
+        of the circuit is not ideal (a finite model, or rout/rin/cin present).
     warnings : tuple
         Structural warnings about the circuit (legal but suspicious), in order.
 
@@ -72,7 +73,8 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
         Tolerance of the cutoff for the load limits, as a fraction (0.02 for 2%).
     opamp_model : {"ideal", "gain", "single-pole", "two-pole"}, optional
         Switch every op-amp to this model; the non-ideal ones also give the
-        op-amp error section (real against ideal op-amps).
+        op-amp error section (real against ideal op-amps). Without it, a circuit
+        with a non-ideal op-amp gets that section for the circuit as given.
     substitute : bool
         Put the parts' values into the formulas shown.
     sensitivity : bool
@@ -100,7 +102,12 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     shown = circuit.with_opamp_model(opamp_model) if opamp_model else circuit
     error = None
     if opamp_model in ("gain", "single-pole") and any(p.kind == "opamp" for p in circuit.parts):
-        error = opamp_error(circuit, opamp_model)
+        error = opamp_error(circuit, opamp_model, max_terms=max_terms or DEFAULT_MAX_TERMS)
+    elif opamp_model is None and needs_opamp_error(circuit):
+        try:
+            error = opamp_error(circuit, None, max_terms=max_terms or DEFAULT_MAX_TERMS)
+        except (UsageError, SingularCircuitError, SizeLimitError):
+            error = None  # no ideal-op-amp form to compare with (no negative feedback), or too large
     warnings = tuple(structure_warnings(shown))
     a = analyse(shown, sensitivity=sensitivity, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress)
     limits = tuple(load_limits(a, load_limit)) if load_limit is not None else None

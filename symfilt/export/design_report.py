@@ -395,9 +395,19 @@ def opamp_error_dict(e) -> dict:
     >>> d = opamp_error_dict(opamp_error(catalogue.build("inverting-lowpass"), "gain"))
     >>> d["dc_gain"]["first_order"]
     {'A_U1': '-(R1 + R2 + R_s)/(R1 + R_s)'}
+    >>> e = opamp_error(catalogue.build("inverting-lowpass"), "gain", gain="100k")
+    >>> n = opamp_error_dict(e)["numeric"]["dc_gain"]
+    >>> round(n["error_percent"], 6), round(n["error"], 8)
+    (-0.003075, -3.075e-05)
     """
     def block(numeric):
-        return None if numeric is None else {k: _num(v) for k, v in numeric.items()}
+        if numeric is None:
+            return None
+        out = {k: _num(v) for k, v in numeric.items()}
+        for k in ("error", "first_order"):
+            if k in numeric:
+                out[f"{k}_percent"] = None if numeric[k] is None else _num(100 * numeric[k])
+        return out
 
     return {
         "model": e.model,
@@ -417,6 +427,26 @@ def _series_line(terms: dict | None) -> str:
     if not terms:
         return "0"
     return " + ".join(f"({one_line(c)})/{k}" for k, c in terms.items())
+
+
+def relative_error_text(x: float | None) -> str:
+    """A relative error for display: in % to 4 digits, in ppm when below 0.01 % in size; ``—`` for None.
+
+    Parameters
+    ----------
+    x : float or None
+        The relative error (real/ideal - 1).
+
+    Examples
+    --------
+    >>> relative_error_text(-0.0123456), relative_error_text(3.075e-5), relative_error_text(None)
+    ('-1.235 %', '30.75 ppm', '—')
+    """
+    if x is None:
+        return "—"
+    if abs(x) < 1e-4:
+        return f"{x * 1e6:.4g} ppm"
+    return f"{x * 100:.4g} %"
 
 
 def opamp_error_text(e) -> str:
@@ -439,17 +469,18 @@ def opamp_error_text(e) -> str:
       at the values  ideal -2.075, real -2.075, error -30.75 ppm, first-order estimate -30.75 ppm
     ...
     """
-    def ppm(x):
-        return "—" if x is None else f"{x * 1e6:.4g} ppm"
-
-    lines = [f"Op-amp error ({e.model} model against ideal op-amps, loaded; relative)", "DC gain",
-             f"  exact          {one_line(e.dc_error)}", f"  first order    {_series_line(e.dc_first_order)}"]
+    ppm = relative_error_text
+    what = "op-amps as given" if e.model == "as given" else f"{e.model} model"
+    exact_only = any(n.kind == "opamp-error-exact-only" for n in e.notes)
+    series = (lambda terms: "— (exact error only, see the note)") if exact_only else _series_line
+    lines = [f"Op-amp error ({what} against ideal op-amps, loaded; relative)", "DC gain",
+             f"  exact          {one_line(e.dc_error)}", f"  first order    {series(e.dc_first_order)}"]
     n = e.numeric.get("dc_gain")
     if n:
         lines.append(f"  at the values  ideal {_fmt(n['ideal'])}, real {_fmt(n['real'])}, error {ppm(n['error'])}, "
                      f"first-order estimate {ppm(n['first_order'])}")
     lines += ["Cutoff", f"  exact          {one_line(e.cutoff_error) if e.cutoff_error is not None else '—'}",
-              f"  first order    {_series_line(e.cutoff_first_order)}"]
+              f"  first order    {series(e.cutoff_first_order)}"]
     n = e.numeric.get("cutoff_hz")
     if n:
         lines.append(f"  at the values  ideal {_fmt(n['ideal'], 'Hz')}, real {_fmt(n['real'], 'Hz')}, "
@@ -460,4 +491,5 @@ def opamp_error_text(e) -> str:
 
 
 __all__ = ["drive_dict", "drive_text", "drive_warnings", "opamp_error_dict", "opamp_error_text", "progress_line",
+           "relative_error_text",
            "size_dict", "size_text", "spread_dict", "spread_text", "write_histogram"]

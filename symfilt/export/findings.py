@@ -49,9 +49,13 @@ _WORDS: dict[str, Callable[[dict], str]] = {
     "quantity-undefined": lambda d: f"{d['quantity']}: not defined at these values",
     "ideal-dc-gain-zero": lambda d: "the ideal DC gain is zero: no relative DC error",
     "cutoff-error-too-large": lambda d: "the exact cutoff error is too large to show: first-order terms and numbers only",
-    "no-closed-form-real-cutoff": lambda d: f"no closed-form cutoff with {d['model']} op-amps (order {d['order']}): numeric only",
+    "no-closed-form-real-cutoff": lambda d: f"no closed-form cutoff with {'the given' if d['model'] == 'as given' else d['model']} op-amps "
+                                                  f"(order {d['order']}): numeric only",
     "first-order-cutoff-too-large": lambda d: "the first-order cutoff coefficients are too large to show: numeric only",
     "first-order-needs-dc-passband": lambda d: "first-order cutoff terms need a pass band at DC",
+    "opamp-error-exact-only": lambda d: ("the op-amps' " + ", ".join(d["parameters"]) + " stay as the open-loop "
+                                         "gain grows, so there are no first-order terms in 1/A and 1/GBW: "
+                                         "the error shown is the exact one, real against ideal"),
 }
 
 

@@ -34,6 +34,9 @@ NUMBER_ROWS = (
     ("dc_gain_db", "DC gain", "20 \\log_{10} \\left|H(0)\\right|", "dB"),
     ("zout_dc_ohm", "output impedance at DC", "Z_{out}(0)", "Ω"),
     ("zout_cutoff_ohm", "output impedance at the cutoff", "\\left|Z_{out}(j\\omega_c)\\right|", "Ω"),
+    ("hf_gain", "stop-band floor", "\\left|H(j\\infty)\\right|", ""),
+    ("hf_gain_db", "stop-band floor", "20 \\log_{10} \\left|H(j\\infty)\\right|", "dB"),
+    ("hf_slope_db_per_decade", "slope far above the poles", "\\mathrm{slope}_{\\infty}", "dB/decade"),
 )
 #: Quantities whose loaded/ideal ratio the analysis reports.
 RATIO_KEYS = ("cutoff_hz", "f0_hz", "q", "dc_gain")
@@ -76,7 +79,7 @@ def show_number(x: float | None, unit: str = "") -> str:
     x : float or None
         The number (None, infinity or NaN shows ``—``).
     unit : str
-        Its unit; ``""`` and ``"dB"`` take no prefix.
+        Its unit; ``""``, ``"dB"`` and ``"dB/decade"`` take no prefix.
 
     Examples
     --------
@@ -85,7 +88,7 @@ def show_number(x: float | None, unit: str = "") -> str:
     """
     if x is None or (isinstance(x, float) and not math.isfinite(x)):
         return "—"
-    if unit in ("", "dB", "°"):
+    if unit in ("", "dB", "dB/decade", "°"):
         return plain_number(float(x)) + ("" if unit in ("", "°") else f" {unit}") + ("°" if unit == "°" else "")
     return format_value(x, unit)
 
@@ -528,3 +531,38 @@ def sweep(a: Analysis, fmin=None, fmax=None, points=None):
     if missing:
         return None, "no value for " + ", ".join(missing)
     return bode_data(a, None, fmin, fmax, points or DEFAULT_POINTS), ""
+
+
+def opamp_error_lines(e) -> list[str]:
+    """The op-amp error as sentences for a note: DC gain and cutoff, real against ideal, errors in % (ppm when tiny).
+
+    Parameters
+    ----------
+    e : OpampError or None
+        The result of :func:`symfilt.design.opamp_error.opamp_error` (None gives no lines).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.design.opamp_error import opamp_error
+    >>> c = catalogue.build("inverting-lowpass").with_opamp_model("gain", gain="100k")
+    >>> opamp_error_lines(opamp_error(c, None))[1]
+    'DC gain: -2.075 with real op-amps against -2.075 with ideal ones, error -30.75 ppm (first-order estimate -30.75 ppm).'
+    """
+    from symfilt.export.design_report import relative_error_text
+    from symfilt.export.findings import describe_all
+
+    if e is None:
+        return []
+    what = "the op-amps as given" if e.model == "as given" else f"every op-amp on the {e.model} model"
+    out = [f"Real against ideal op-amps ({what} against ideal op-amps without rout, rin or cin), loaded."]
+    for key, label, unit in (("dc_gain", "DC gain", ""), ("cutoff_hz", "Cutoff", "Hz")):
+        n = e.numeric.get(key)
+        if not n:
+            continue
+        fo = "" if n.get("first_order") is None else f" (first-order estimate {relative_error_text(n['first_order'])})"
+        out.append(f"{label}: {show_number(n['real'], unit)} with real op-amps against {show_number(n['ideal'], unit)} "
+                   f"with ideal ones, error {relative_error_text(n['error'])}{fo}.")
+    out += [x[:1].upper() + x[1:] + "." for x in describe_all(e.notes)]
+    return out
+

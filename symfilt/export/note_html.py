@@ -16,7 +16,8 @@ from symfilt.analysis.stage import Analysis
 from symfilt.export.findings import describe
 from symfilt.export.latex import sensitivity_rows
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, has_fixtures, kind_words, node_name, number_rows,
-                   part_rows, plain_number, sensitivity_table, stability_row, standard_form_tex, sweep, views)
+                   opamp_error_lines, part_rows, plain_number, sensitivity_table, stability_row, standard_form_tex,
+                   sweep, views)
 
 _CSS = """
 :root { --ink: #1d2433; --muted: #5b6475; --rule: #d9dde5; --loaded: #a23b2a; --ideal: #2f5d8a;
@@ -214,7 +215,15 @@ def _html_plot(a: Analysis, fmin=None, fmax=None, points=None) -> list[str]:
             "band edges or natural frequency.</figcaption>", "</figure>"]
 
 
-def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=None) -> str:
+def _html_real_opamps(e) -> list[str]:
+    lines = opamp_error_lines(e)
+    if not lines:
+        return []
+    return ['<section id="real-opamps"><h2>Real op-amps</h2><ul>', *[f"<li>{_html_prose(x)}</li>" for x in lines],
+            "</ul></section>"]
+
+
+def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=None, opamp_error=None) -> str:
     """The design note as one standalone HTML page (MathML equations, inline SVG plot, no scripts).
 
     Parameters
@@ -227,6 +236,8 @@ def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=Non
         Range of the Bode plot in Hz.
     points : int, optional
         Frequencies in the Bode plot.
+    opamp_error : OpampError, optional
+        Real against ideal op-amps, shown as a "Real op-amps" section.
 
     Examples
     --------
@@ -247,6 +258,7 @@ def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=Non
         f"<title>{escape(title)} — design note</title>", f"<style>{_CSS}</style>", "</head>", "<body>", "<main>",
         f'<header><p class="kicker">Design note</p><h1>{escape(title)}</h1><p class="lede">{escape(lede)}</p></header>',
         '<section id="numbers"><h2>Loaded and ideal</h2>', *_html_numbers(a), "</section>",
+        *_html_real_opamps(opamp_error),
         '<section id="parts"><h2>Parts</h2>', *_html_parts(a), "</section>",
         '<section id="equations"><h2>Equations</h2>', *_html_equations(a), "</section>",
         '<section id="bode"><h2>Frequency response</h2>', *_html_plot(a, fmin, fmax, points), "</section>",

@@ -22,14 +22,14 @@ from symfilt.export.latex import stage_equations
 from symfilt.export.outfile import write_bytes_atomic, write_text_atomic
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, kind_words, node_name,
                                  number_rows, part_rows, sensitivity_table, show_number, stability_row,
-                                 standard_form_tex, sweep, views)
+                                 opamp_error_lines, standard_form_tex, sweep, views)
 
 
 def _md_cell(text: str) -> str:
     return text.replace("|", "\\|")
 
 
-def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = "") -> str:
+def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = "", opamp_error=None) -> str:
     """The design note as Markdown: tables, ``$$`` LaTeX equations, and a link to the plot file.
 
     Parameters
@@ -39,6 +39,8 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
         Relative path of the SVG plot written beside the note (no plot when None).
     source : str
         Where the circuit came from, for the footer.
+    opamp_error : OpampError, optional
+        Real against ideal op-amps, shown under "Real op-amps".
 
     Examples
     --------
@@ -66,6 +68,9 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
             out.append(f"| {label} | {r['loaded']['text']} | {r['ideal']['text']} | {r['ratio']['text']} |")
     else:
         out.append("No numbers: some parts have no value.")
+    real = opamp_error_lines(opamp_error)
+    if real:
+        out += ["", "## Real op-amps", "", *[f"- {x}" for x in real]]
     out += ["", "## Parts", "", "| Part | Kind | Connection | Value |", "|---|---|---|---:|"]
     for r in part_rows(a):
         out.append(f"| {r['name']} | {_md_cell(r['kind'])} | {_md_cell(r['connection'])} | {r['value']} |")
@@ -189,22 +194,36 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
     p = Path(path)
     write = _WRITERS[note_kind(p)]
     a = circuit if isinstance(circuit, Analysis) else analyse(circuit, progress=progress)
-    return write(a, p, protect=protect, source=source, fmin=fmin, fmax=fmax, points=points)
+    return write(a, p, protect=protect, source=source, fmin=fmin, fmax=fmax, points=points, error=_opamp_error(a))
 
 
-def _write_html(a: Analysis, p: Path, *, protect, source, fmin, fmax, points) -> list[Path]:
+def _opamp_error(a: Analysis):
+    """The op-amp error of the circuit as given, when an op-amp is not ideal (None when it has no ideal form)."""
+    from symfilt.design.opamp_error import needs_opamp_error, opamp_error
+    from symfilt.errors import SingularCircuitError, SizeLimitError, UsageError
+
+    if not needs_opamp_error(a.circuit):
+        return None
+    try:
+        return opamp_error(a.circuit, None)
+    except (UsageError, SingularCircuitError, SizeLimitError):
+        return None
+
+
+def _write_html(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None) -> list[Path]:
     from symfilt.export.note_html import note_html
 
-    write_text_atomic(p, note_html(a, source=source, fmin=fmin, fmax=fmax, points=points), protect=protect)
+    write_text_atomic(p, note_html(a, source=source, fmin=fmin, fmax=fmax, points=points, opamp_error=error),
+                      protect=protect)
     return [p]
 
 
-def _write_latex(a: Analysis, p: Path, *, protect, source, fmin, fmax, points) -> list[Path]:
+def _write_latex(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None) -> list[Path]:
     write_text_atomic(p, note_latex(a), protect=protect)
     return [p]
 
 
-def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points) -> list[Path]:
+def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None) -> list[Path]:
     from symfilt.export.plot import render_bode
 
     data, _ = sweep(a, fmin, fmax, points)
@@ -215,7 +234,7 @@ def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points
         write_bytes_atomic(svg_path, render_bode(data, "svg"), protect=protect)
         written.append(svg_path)
         plot_name = svg_path.name
-    write_text_atomic(p, note_markdown(a, plot_file=plot_name, source=source), protect=protect)
+    write_text_atomic(p, note_markdown(a, plot_file=plot_name, source=source, opamp_error=error), protect=protect)
     written.append(p)
     return written
 

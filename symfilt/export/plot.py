@@ -49,10 +49,16 @@ def _figure(data):
             for ax in (mag, ph):
                 ax.axvline(hz, color=COLOURS[key], linestyle=":", linewidth=1.1,
                            label=text if ax is mag else None)
+    for key, db in getattr(data, "floors", {}).items():
+        mag.axhline(db, color=COLOURS[key], linestyle="--", linewidth=0.8,
+                    label=f"{key} floor {db:.1f} dB")
     finite = _finite(data.loaded_db) + _finite(data.ideal_db)
     if finite:
         top = max(finite)
         bottom = max(min(finite), top - DEPTH_DB)
+        floors = list(getattr(data, "floors", {}).values())
+        if floors:
+            bottom = min(bottom, min(floors) - 6.0)  # the floor line stays in view
         pad = max(1.0, 0.05 * (top - bottom))
         mag.set_ylim(bottom - pad, top + pad)
     mag.set_ylabel("|H| / dB")
@@ -71,7 +77,8 @@ def _figure(data):
 
 
 def render_bode(data, fmt: str = "svg") -> bytes:
-    """Draw a sweep (magnitude over phase, loaded and ideal overlaid, marks dotted) as SVG or PNG bytes.
+    """Draw a sweep (magnitude over phase, loaded and ideal overlaid, marks dotted, a stop-band
+    floor as a thin dashed line) as SVG or PNG bytes.
 
     Parameters
     ----------

@@ -184,11 +184,12 @@ def _numbers(a: Analysis) -> list[str]:
         rows.append(f"  {'DC gain (dB)':<14}{f(lo.get('dc_gain_db')):>16}{f(hi.get('dc_gain_db')):>16}")
     add("Zout at DC", "zout_dc_ohm", "Ω")
     add("|Zout| at fc", "zout_cutoff_ohm", "Ω")
+    rows += _hf_rows(lo, hi)
     if "stability" in lo or "stability" in hi:
         rows.append(f"  {'poles':<14}{lo.get('stability', '—'):>16}{hi.get('stability', '—'):>16}")
     if len(rows) == 1:
         return []
-    if any(v is None for d in (lo, hi) for k, v in d.items() if k != "dc_gain_db"):
+    if any(v is None for d in (lo, hi) for k, v in d.items() if k not in ("dc_gain_db", "hf_gain_db")):
         rows.append("  undefined: the formula divides by zero at these values (the formulas above still hold)")
     missing = [n for n, info in a.circuit.symbols().items() if info["value"] is None and info["role"] != "laplace"]
     if missing and any(k not in d for d in (lo, hi) for k in ("cutoff_hz", "dc_gain") if k in lo or k in hi):
@@ -196,6 +197,20 @@ def _numbers(a: Analysis) -> list[str]:
     for key, d in (("loaded", lo), ("ideal", hi)):
         if d.get("stability") == "marginal":
             rows.append(f"  WARNING ({key}): poles on the jω axis: the stage oscillates at these values")
+    return rows
+
+
+def _hf_rows(lo: dict, hi: dict) -> list[str]:
+    """The high-frequency end: the stop-band floor |H(j∞)| (plain and in dB) and the slope far above the poles."""
+    rows = []
+    if "hf_gain" in lo or "hf_gain" in hi:
+        f = lambda d: f"{d['hf_gain']:.6g}" if "hf_gain" in d else "no floor"
+        rows.append(f"  {'HF floor':<14}{f(lo):>16}{f(hi):>16}")
+        f = lambda d: f"{d['hf_gain_db']:.3f} dB" if "hf_gain_db" in d else "—"
+        rows.append(f"  {'HF floor (dB)':<14}{f(lo):>16}{f(hi):>16}")
+    if "hf_slope_db_per_decade" in lo or "hf_slope_db_per_decade" in hi:
+        f = lambda d: "—" if "hf_slope_db_per_decade" not in d else f"{d['hf_slope_db_per_decade']} dB/dec"
+        rows.append(f"  {'HF slope':<14}{f(lo):>16}{f(hi):>16}")
     return rows
 
 
