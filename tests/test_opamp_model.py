@@ -278,3 +278,123 @@ def test_sallen_key_high_frequency_feedthrough():
     ideal = Circuit.build(parts + [Part.opamp("U1", "b", "out", "out")], source="50", load="10k")
     hi = derive(ideal)
     assert hi.hf_gain() == 0 and NetworkFunction(S * hi.num, hi.den).hf_gain() == 0
+
+
+# --- loop gain and margins ------------------------------------------------------------------------
+
+def numeric_margins(desc: dict) -> dict:
+    """Crossover, phase margin, phase crossover and gain margin from the own loop break."""
+    f = np.logspace(0, 10, 20001)
+    t = np.array([solve(desc, "loop", 1j * TWO_PI * x) for x in f])
+    mag, ph = np.abs(t), np.degrees(np.unwrap(np.angle(t)))
+    i = np.nonzero((mag[:-1] >= 1) & (mag[1:] < 1))[0][-1]
+    out = {"crossover_hz": f[i], "phase_margin_deg": 180 + ph[i]}
+    j = np.nonzero(ph <= -180)[0]
+    out["phase_crossover_hz"] = f[j[0]] if len(j) else None
+    out["gain_margin_db"] = -20 * math.log10(mag[j[0]]) if len(j) else None
+    return out
+
+
+def test_single_pole_follower_driving_capacitance_phase_margin():
+    # One pole plus the load pole (Franco, "Design with Operational Amplifiers and Analog
+    # Integrated Circuits", ch. "Stability" (from memory); common practice; REFERENCES.md
+    # "Op-amp loop gain"): T ≈ ωt/s · 1/(1 + s·Rout·C_L) for A0 large, PM = 90° − atan(ωc·Rout·C_L).
+    gbw, ro, cl = 1e6, 100.0, 10e-9
+    c = Circuit.build([Part.opamp("U1", "in", "out", "out", model="single-pole", gain="1e6", gbw="1M",
+                                  rout="100")], source="50", load="none", load_capacitance="10n")
+    got = loops(c)[0].loaded.numbers
+    desc = {"parts": [], "opamps": [{"plus": "in", "minus": "out", "out": "out", "model": "single-pole",
+                                     "gain": 1e6, "gbw": gbw, "rout": ro}], "rs": 50.0, "cl": cl}
+    own = numeric_margins(desc)
+    assert abs(got["crossover_hz"] - own["crossover_hz"]) < 1e-3 * own["crossover_hz"]
+    assert abs(got["phase_margin_deg"] - own["phase_margin_deg"]) < 0.05
+    wt, tau = TWO_PI * gbw, ro * cl
+    # |T| = 1: (ωt/ω)^2 = 1 + (ω τ)^2  ->  ω^2 = (−1 + sqrt(1 + 4 (ωt τ)^2)) / (2 τ^2)
+    wc = math.sqrt((-1 + math.sqrt(1 + 4 * (wt * tau) ** 2)) / (2 * tau**2))
+    assert abs(got["crossover_hz"] - wc / TWO_PI) < 1e-4 * wc / TWO_PI
+    assert abs(got["phase_margin_deg"] - (90 - math.degrees(math.atan(wc * tau)))) < 0.01
+    assert got["gain_margin_db"] is None  # two poles never reach −180°
+
+
+def test_two_pole_follower_gain_margin():
+    # A second open-loop pole and the load pole: three poles, the phase reaches −180° and
+    # a gain margin exists (common practice). Against the own loop break.
+    c = Circuit.build([Part.opamp("U1", "in", "out", "out", model="two-pole", gain="1e5", gbw="1M",
+                                  pole2="3M", rout="100")], source="50", load="10k", load_capacitance="1n")
+    got = loops(c)[0].loaded.numbers
+    desc = {"parts": [], "opamps": [{"plus": "in", "minus": "out", "out": "out", "model": "two-pole",
+                                     "gain": 1e5, "gbw": 1e6, "pole2": 3e6, "rout": 100.0}],
+            "rs": 50.0, "rl": 1e4, "cl": 1e-9}
+    own = numeric_margins(desc)
+    for key in ("crossover_hz", "phase_crossover_hz"):
+        assert abs(got[key] - own[key]) < 2e-3 * own[key], key
+    assert abs(got["phase_margin_deg"] - own["phase_margin_deg"]) < 0.1
+    assert got["gain_margin_db"] > 0 and abs(got["gain_margin_db"] - own["gain_margin_db"]) < 0.05
+
+
+# --- polarity --------------------------------------------------------------------------------------
+
+@pytest.mark.parametrize("swap", [False, True])
+def test_polarity_of_sallen_key_and_inverting_amplifier(swap):
+    # Feedback to the − input is negative, to the + input positive (common practice).
+    sk = [Part.resistor("R1", "in", "a", "6k8"), Part.resistor("R2", "a", "b", "15k"),
+          Part.capacitor("C1", "a", "out", "10n"), Part.capacitor("C2", "b", "0", "3n3"),
+          Part.opamp("U1", *(("out", "b") if swap else ("b", "out")), "out", model="gain", gain="1e5")]
+    inv = [Part.resistor("R1", "in", "n", "10k"), Part.resistor("R2", "n", "out", "22k"),
+           Part.opamp("U1", *(("n", "0") if swap else ("0", "n")), "out", model="single-pole", gain="1e5",
+                      gbw="1M", rout="50")]
+    for parts in (sk, inv):
+        c = Circuit.build(parts, source="50", load="2k")
+        found = loops(c)
+        assert found[0].feedback == ("positive" if swap else "negative")
+        if not swap:
+            check_polarity(c, found)
+            continue
+        plus, minus, _ = c.part("U1").nodes
+        with pytest.raises(CircuitError) as err:
+            check_polarity(c, found)
+        text = str(err.value)
+        assert "U1" in text and f"node {plus}" in text and f"node {minus}" in text and "\n" not in text
+
+
+# --- circuit-file keys ------------------------------------------------------------------------------
+
+HEAD = '[ports]\ninput = "in"\noutput = "out"\n[parts]\nR1 = { kind = "resistor", nodes = ["out", "0"], value = "1k" }\n'
+
+
+def opamp_line(**keys) -> str:
+    body = ", ".join(f'{k} = "{v}"' for k, v in keys.items())
+    return HEAD + f'U1 = {{ kind = "opamp", plus = "in", minus = "out", out = "out", {body} }}\n'
+
+
+def test_circuit_file_opamp_keys_round_trip():
+    c = parse_circuit_text(opamp_line(model="two-pole", gain="1e5", gbw="1M", pole2="8M", rout="symbol",
+                                      rin="2M", cin="none"))
+    assert {"A_U1", "GBW_U1", "P2_U1", "Rout_U1"} <= {str(x) for x in derive(c, "zout").as_expr().free_symbols} | {
+        str(k) for k in c.values()} | {"Rout_U1"}
+    back = parse_circuit_text(circuit_to_text(c))
+    assert circuit_to_text(back) == circuit_to_text(c)
+    for q in ("transfer", "zout"):
+        assert sympy.simplify(derive(back, q).as_expr() - derive(c, q).as_expr()) == 0
+    z = derive(c, "zout").as_expr()
+    assert "Rout_U1" in {str(x) for x in z.free_symbols} and "Cin_U1" not in {str(x) for x in z.free_symbols}
+    valued = c.with_values({"Rout_U1": "50"})
+    assert any(str(k) == "Rout_U1" and v == 50 for k, v in valued.values().items())
+
+
+@pytest.mark.parametrize("key,bad", [("rout", "0"), ("rout", "-5"), ("rin", "abc"), ("cin", "-1p"),
+                                     ("pole2", "0")])
+def test_circuit_file_bad_opamp_values(key, bad):
+    keys = {"model": "two-pole", "gain": "1e5", "gbw": "1M", "pole2": "8M", key: bad}
+    with pytest.raises(SymfiltError) as err:
+        parse_circuit_text(opamp_line(**keys), "stage.toml")
+    text = str(err.value)
+    assert "U1" in text and key in text and "\n" not in text
+
+
+def test_resistor_named_like_an_opamp_parameter_collides():
+    text = opamp_line(model="gain", gain="1e5", rout="symbol") + \
+        'Rout_U1 = { kind = "resistor", nodes = ["in", "0"], value = "1k" }\n'
+    with pytest.raises(SymfiltError) as err:
+        parse_circuit_text(text, "stage.toml")
+    assert "Rout_U1" in str(err.value)
