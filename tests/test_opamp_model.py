@@ -395,3 +395,20 @@ def test_resistor_named_like_an_opamp_parameter_collides():
     with pytest.raises(SymfiltError) as err:
         parse_circuit_text(text, "stage.toml")
     assert "Rout_U1" in str(err.value)
+
+
+def test_adc_driver_matches_the_numeric_solve():
+    # The catalogue's adc-driver (our own scenario) against the own solve: follower in->drv,
+    # Rout 40 Ω, R_iso 22 Ω drv->out, C_res 1 nF and C_L 30 pF out->ground, R_s 50 Ω.
+    c = catalogue.build("adc-driver")
+    amp = {"plus": "in", "minus": "drv", "out": "drv", "model": "single-pole", "gain": 1e6, "gbw": 50e6,
+           "rout": 40.0}
+    desc = {"parts": [("R", "drv", "out", 22.0), ("C", "out", "0", 1e-9)], "opamps": [amp], "rs": 50.0,
+            "cl": 30e-12}
+    for quantity in ("transfer", "zout"):
+        h = derive(c, quantity)
+        for f in (1e3, 1e6, 2e7):
+            sv = 1j * TWO_PI * f
+            ref = solve(dict(desc, opamps=[dict(amp)]), quantity, sv)
+            assert abs(complex(h.evaluate(c.values(), [sv])[0]) - ref) <= 1e-8 * abs(ref)
+    assert loops(c)[0].feedback == "negative"
