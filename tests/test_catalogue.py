@@ -37,6 +37,7 @@ EXPECTED_KIND = {
     "mfb-lowpass": (2, "lowpass"), "sallen-key-highpass": (2, "highpass"),
     "sallen-key-lowpass-gain": (2, "lowpass"), "mfb-bandpass": (2, "bandpass"),
     "twin-t-notch": (3, "general"), "rc-ladder": (3, "general"), "state-variable": (2, "lowpass"),
+    "adc-driver": (2, "lowpass"),
 }
 
 

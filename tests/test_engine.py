@@ -134,7 +134,9 @@ def test_rc_ladder_two_sections_at_dc():
     assert same(h.dc_gain(), rl / (rs + r1 + r2 + rl))
 
 
-@pytest.mark.parametrize("name", catalogue.names())
+# plain() has no op-amp output resistance: adc-driver (with Rout) is checked against an
+# own numeric nodal solve in tests/test_opamp_model.py instead.
+@pytest.mark.parametrize("name", [n for n in catalogue.names() if n != "adc-driver"])
 def test_catalogue_equals_plain_approach(name):
     c = catalogue.build(name)
     assert same(network.derive(c).as_expr(), plain(c))

@@ -1,7 +1,8 @@
 """The symbolic engine against an independent numeric nodal solve, on random circuits.
 
 hypothesis draws small connected circuits of resistors, capacitors, inductors,
-controlled sources (vcvs, vccs, ccvs, cccs) and op-amps (ideal, gain, single-pole),
+controlled sources (vcvs, vccs, ccvs, cccs) and op-amps (ideal, gain, single-pole,
+two-pole; some with Rout, Rin across the inputs and Cin from each input to ground),
 with a source resistance and a load. symfilt derives H(s), Zin and Zout with every
 part symbolic; the values are put in afterwards and the result is evaluated exactly at
 s = jw. The reference is a plain complex modified nodal analysis written here in numpy,
@@ -14,7 +15,8 @@ symfilt's Circuit.
 Conventions (README, the circuit file): a controlled current flows from out+ through the source to
 out-; vcvs: V(out+) - V(out-) = gain (V(ctrl+) - V(ctrl-)); a controlling current flows
 through its control part from the part's first node to its second (for a vcvs or ccvs:
-from out+ through it to out-); op-amp A(s) = A0 2 pi GBW / (A0 s + 2 pi GBW); transfer is
+from out+ through it to out-); op-amp A(s) = A0 2 pi GBW / (A0 s + 2 pi GBW), times
+2 pi P2 / (s + 2 pi P2) for two-pole, at a node behind Rout (README "The op-amp model"); transfer is
 V(output)/V(source) with the source behind R_s; Zin is seen by the source behind R_s
 (load kept); Zout is seen by the load (source set to zero, R_s kept).
 """
@@ -102,10 +104,13 @@ def circuits(draw):
             if style == "follower":
                 minus = out
                 plus = draw(st.sampled_from([n for n in nodes if n != out]))
-            model = draw(st.sampled_from(("ideal", "gain", "single-pole")))
+            model = draw(st.sampled_from(("ideal", "gain", "single-pole", "two-pole")))
+            optional = st.one_of(st.none(), st.none(), magnitudes)  # rout, rin, cin: mostly absent
             parts.append({"name": name(kind), "kind": kind, "nodes": (plus, minus, out), "model": model,
                           "gain": Fraction(draw(st.integers(10, 10_000))) if model != "ideal" else None,
-                          "gbw": draw(magnitudes) if model == "single-pole" else None})
+                          "gbw": draw(magnitudes) if model in ("single-pole", "two-pole") else None,
+                          "pole2": draw(magnitudes) if model == "two-pole" else None,
+                          "rout": draw(optional), "rin": draw(optional), "cin": draw(optional)})
             if style == "feedback" and minus != out:
                 passive(out, minus)
     for p in parts:
@@ -124,9 +129,9 @@ def to_circuit(parts, fixtures) -> Circuit:
     built = []
     for p in parts:
         if p["kind"] == "opamp":
-            built.append(Part.opamp(p["name"], *p["nodes"], model=p["model"],
-                                    gain=None if p["gain"] is None else decimal_text(p["gain"]),
-                                    gbw=None if p["gbw"] is None else decimal_text(p["gbw"])))
+            text = {k: None if p.get(k) is None else decimal_text(p[k])
+                    for k in ("gain", "gbw", "pole2", "rout", "rin", "cin")}
+            built.append(Part.opamp(p["name"], *p["nodes"], model=p["model"], **text))
         else:
             built.append(Part.make(p["name"], p["kind"], p["nodes"], value=decimal_text(p["value"]),
                                    control=p.get("control")))
@@ -147,6 +152,21 @@ def mna_matrix(parts, fixtures, quantity: str, sv: complex):
     node_names = sorted({n for p in parts for n in p["nodes"]} - {"0"})
     two = [(p["name"], p["kind"], p["nodes"][0], p["nodes"][1], float(p["value"]))
            for p in parts if p["kind"] in PASSIVE]
+    internal = {}  # op-amp name -> the node of its controlled source (behind Rout)
+    for p in parts:
+        if p["kind"] != "opamp":
+            continue
+        plus, minus, out = p["nodes"]
+        internal[p["name"]] = out
+        if p.get("rout") is not None:
+            internal[p["name"]] = f"e_{p['name']}"
+            node_names.append(internal[p["name"]])
+            two.append((f"Rout_{p['name']}", "resistor", internal[p["name"]], out, float(p["rout"])))
+        if p.get("rin") is not None:
+            two.append((f"Rin_{p['name']}", "resistor", plus, minus, float(p["rin"])))
+        if p.get("cin") is not None:
+            two += [(f"Cin+_{p['name']}", "capacitor", plus, "0", float(p["cin"])),
+                    (f"Cin-_{p['name']}", "capacitor", minus, "0", float(p["cin"]))]
     source_present = fixtures["source"] is not None and quantity in ("transfer", "zout")
     if source_present:
         node_names.append("src")
@@ -216,7 +236,8 @@ def mna_matrix(parts, fixtures, quantity: str, sv: complex):
                     put(k, col, -g * coef)
         elif kind == "opamp":
             k = bidx[p["name"]]
-            plus, minus, out = (node(n) for n in p["nodes"])
+            plus, minus = (node(n) for n in p["nodes"][:2])
+            out = node(internal[p["name"]])  # the controlled source's node: behind Rout if any
             put(out, k, 1)
             if p["model"] == "ideal":  # nullor: V+ = V-, output current free
                 put(k, plus, 1)
@@ -228,6 +249,9 @@ def mna_matrix(parts, fixtures, quantity: str, sv: complex):
                 else:
                     wb = 2 * np.pi * float(p["gbw"])
                     a = a0 * wb / (a0 * sv + wb)
+                if p["model"] == "two-pole":
+                    wp = 2 * np.pi * float(p["pole2"])
+                    a = a * wp / (sv + wp)
                 put(k, out, 1)
                 put(k, plus, -a)
                 put(k, minus, a)

@@ -280,6 +280,42 @@ def twin_t_notch(R="10k", C="15n", source="50", load="100k", load_capacitance=No
                          source=source, load=load, load_capacitance=load_capacitance, title="Twin-T notch, passive")
 
 
+def adc_driver(R_iso="22", C_res="1n", gain="1M", gbw="50M", rout="40", source="50", load=None,
+               load_capacitance="30p") -> Circuit:
+    """Op-amp follower driving a converter input: U1 (single-pole, with Rout) -> R_iso -> out.
+
+    U1 follower in->drv; R_iso drv->out; C_res (charge reservoir) out->ground. The load
+    capacitance C_L is the converter's sample capacitor; the default load resistance is
+    open (a switched-capacitor input draws no DC current). Our own scenario: a 24-bit
+    converter's driver with a 1 nF reservoir behind 22 Ω; R_iso keeps the op-amp stable
+    into the capacitance.
+
+    Parameters
+    ----------
+    R_iso, C_res : str, number or None
+        Isolation resistor and reservoir capacitor; None keeps the part symbolic.
+    gain, gbw, rout : str, number or None
+        The op-amp's DC gain, gain-bandwidth (Hz) and output resistance (``"symbol"`` or
+        ``"none"`` allowed for ``rout``).
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
+
+    Examples
+    --------
+    >>> c = adc_driver()
+    >>> c.part("U1").model, c.part("R_iso").nodes
+    ('single-pole', ('drv', 'out'))
+    """
+    return Circuit.build([U("U1", "in", "drv", "drv", model="single-pole", gain=gain, gbw=gbw, rout=rout),
+                          R("R_iso", "drv", "out", R_iso), C("C_res", "out", "0", C_res)], source=source,
+                         load=load, load_capacitance=load_capacitance,
+                         title="ADC driver: follower, isolation resistor, reservoir capacitor")
+
+
 #: Largest number of sections of :func:`rc_ladder`.
 MAX_LADDER = 12
 
@@ -406,6 +442,8 @@ CATALOGUE: dict[str, Entry] = {e.name: e for e in [
     Entry("rc-ladder", rc_ladder, "passive RC ladder of n equal sections (n = 3 by default)"),
     Entry("state-variable", state_variable,
           "three-op-amp state-variable filter; output = lp, bp or hp (lp by default)"),
+    Entry("adc-driver", adc_driver,
+          "op-amp follower (single-pole, Rout) into a converter's input through R_iso and a reservoir C"),
 ]}
 
 

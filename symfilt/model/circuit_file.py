@@ -308,7 +308,10 @@ def _part(pname: str, spec, name: str) -> Part:
     except CircuitFileError:
         raise
     except SymfiltError as exc:
-        raise type(exc)(where, exc.what, exc.fix) from None
+        # keep the key the part's own message names (``part U1 rout`` -> ``[parts] U1 rout``)
+        head = f"part {clip_name(pname)}"
+        tail = exc.where[len(head):] if exc.where.startswith(head + " ") else ""
+        raise type(exc)(where + tail, exc.what, exc.fix) from None
 
 
 def load_circuit(path) -> Circuit:

@@ -109,7 +109,7 @@ def _check_voltage_loops(circuit: "Circuit", mode: str) -> None:
     for p in circuit.parts:
         if p.kind in ("vcvs", "ccvs"):
             sources.append((p.name, p.nodes[0], p.nodes[1]))
-        elif p.kind == "opamp":
+        elif p.kind == "opamp" and not p.rout.present:  # behind Rout the source is at its own node
             sources.append((p.name, p.nodes[2], GROUND))
     # a ccvs or cccs controlled by a loop's current may pin that current: leave those to the matching
     controls = {p.control for p in circuit.parts if p.control is not None}
