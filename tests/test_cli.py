@@ -274,7 +274,7 @@ def test_demo_shows_the_real_op_amps_limits(run_cli):
     # The follower U2 drives the ADC's 100 pF through its 50 Ω output resistance: the load
     # pole sits at 1/(2π·50 Ω·100 pF) = 31.8 MHz, far above the 1 MHz crossover, so the
     # margin stays near 90° − atan(1 MHz/31.8 MHz) ≈ 88.2° (one pole plus the load pole;
-    # common practice, tests/REFERENCES.md "Loop gain and stability").
+    # common practice, tests/REFERENCES.md "Real op-amps", op-amp loop gain).
     code, out, _ = run_cli("demo")
     assert code == 0
     line = next(x for x in out.splitlines() if "phase margin loaded" in x)

@@ -4,7 +4,7 @@ The loop is broken at the op-amp's controlled source (the return-ratio method);
 the phase margin is 180° + arg T(jωc) at |T(jωc)| = 1 (common practice: the
 definition in every feedback textbook, e.g. Franco, *Design with Operational
 Amplifiers and Analog Integrated Circuits*, stability chapter, from memory; see
-tests/REFERENCES.md, "Loop gain and stability").
+tests/REFERENCES.md, "Real op-amps", op-amp loop gain).
 """
 
 from __future__ import annotations
@@ -158,7 +158,7 @@ def test_an_open_loop_op_amp_is_said_to_have_no_feedback(run_cli, tmp_path):
 def test_zout_numbers_of_a_real_follower(run_cli, tmp_path):
     # Closed-loop output resistance of a follower: Rout/(1 + A·β) with β = 1 at DC (a standard
     # feedback result; Sedra & Smith, Microelectronic Circuits, feedback chapter, from memory;
-    # tests/REFERENCES.md "Loop gain and stability"). Here 50/(1 + 100k).
+    # tests/REFERENCES.md "Real op-amps", op-amp output resistance). Here 50/(1 + 100k).
     code, out, _err = run_cli("derive", _file(tmp_path, rl="10k"), "--format", "json")
     assert code == 0
     numeric = json.loads(out)["numeric"]
