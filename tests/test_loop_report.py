@@ -169,3 +169,10 @@ def test_zout_numbers_of_a_real_follower(run_cli, tmp_path):
     wa = 2 * math.pi * 1e6 / 1e5
     wc = wa * (1 + 1e5)
     assert numeric["ideal"]["zout_cutoff_ohm"] == pytest.approx(50 * math.hypot(wc, wa) / (math.sqrt(2) * wc), rel=1e-6)
+
+
+def test_one_quantity_asked_for_prints_only_that(run_cli, tmp_path):
+    # The automatic op-amp error and the loop section belong to the full report only.
+    code, out, _err = run_cli("derive", _file(tmp_path, cl="10n"), "--quantity", "zout")
+    assert code == 0
+    assert out.startswith("Zout, loaded = ") and "Op-amp error" not in out and "Loop gain" not in out

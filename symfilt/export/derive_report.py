@@ -13,6 +13,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from symfilt.design.opamp_error import AS_GIVEN
 from symfilt.export.findings import describe
 from symfilt.export.loop_report import loop_dict, loop_text
 
@@ -129,7 +130,7 @@ def derive_text(report, quantity: str | None = None) -> str:
     out = text.render(report.analysis, quantity, report.load_limits)
     if report.analysis.loops and not quantity:
         out += "\n" + loop_text(report.analysis.loops)
-    if report.opamp_error is not None:
+    if report.opamp_error is not None and not (quantity and report.opamp_error.model == AS_GIVEN):
         out += "\n" + design_report.opamp_error_text(report.opamp_error)
     return out
 
