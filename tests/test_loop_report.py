@@ -176,3 +176,10 @@ def test_one_quantity_asked_for_prints_only_that(run_cli, tmp_path):
     code, out, _err = run_cli("derive", _file(tmp_path, cl="10n"), "--quantity", "zout")
     assert code == 0
     assert out.startswith("Zout, loaded = ") and "Op-amp error" not in out and "Loop gain" not in out
+
+
+def test_a_negative_op_amp_parameter_is_named_with_its_key_and_shown_as_written(run_cli, tmp_path):
+    path = _file(tmp_path, extra=', cin = "-1p"')
+    code, out, err = run_cli("derive", path)
+    assert code == 2 and out == ""
+    assert err.startswith("error: ") and "U1 cin: value -1p must be positive" in err and err.count("\n") == 1

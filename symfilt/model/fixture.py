@@ -17,7 +17,7 @@ import sympy
 
 from symfilt.errors import CircuitError, ValueParseError
 from symfilt.model.names import clip_name
-from symfilt.model.values import parse_value
+from symfilt.model.values import format_value, parse_value
 
 
 @dataclass(frozen=True)
@@ -70,5 +70,6 @@ class Fixture:
             raise ValueParseError(where, f"value {clip_name(str(text))} is not finite", hint)
         value = parse_value(text, where=where)
         if value <= 0:
-            raise CircuitError(where, f"value {value} must be positive", hint)
+            shown = format_value(value).replace(" ", "")
+            raise CircuitError(where, f"value {shown} must be positive", hint)
         return cls(True, value)
