@@ -213,7 +213,9 @@ def cli():
               help="Switch every op-amp to this model.")
 @click.option("--max-terms", type=click.IntRange(min=10), default=None,
               help="Size budget of the elimination (terms per polynomial).")
-def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_terms):
+@click.option("--at", "at", metavar="FREQ",
+              help="Also the sensitivities of |H(jw)| at this frequency in Hz (e.g. 10k).")
+def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_terms, at):
     """Derive H(s), gains, w0, Q, cutoff, Zin, Zout and sensitivities of CIRCUIT (a file or @name)."""
     from symfilt.design.report import report
     from symfilt.export.formats import derive_renderer
@@ -223,7 +225,7 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     tol = _percent(load_limit, "--load-limit") if load_limit else None
     r = report(c, load_limit=tol, opamp_model=opamp_model, substitute=substitute,
                sensitivity=quantity in (None, "sensitivity"), max_terms=max_terms,
-               progress=_progress_from_first_stage())
+               progress=_progress_from_first_stage(), at=at)
     for w in r.warnings:
         _say(f"warning: {w}")
     _emit(render(r, quantity))

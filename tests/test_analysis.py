@@ -483,46 +483,63 @@ def test_butterworth_sallen_key_against_scipy():
 
 # --- sensitivities ------------------------------------------------------------------------------
 
-def _circuit_rules_apply(c: Circuit) -> bool:
-    return not any(p.kind == "inductor" or (p.kind == "opamp" and p.model == "single-pole") for p in c.parts)
+#: Impedance and frequency scaling exponents by class (REFERENCES.md, "Sensitivity and tolerances"):
+#: R, L, Rout, Rin and transresistances scale with impedance, C against it; C and L with time,
+#: bandwidths (GBW, P2) against it.
+_SCALING = {"R": (1, 0), "C": (-1, 1), "L": (1, 1), "BW": (0, -1), "G": (0, 0)}
+
+
+def _scaling_class(name: str, info: dict) -> str:
+    """The test's own classification of a symbol, from its kind or op-amp parameter prefix."""
+    if name in ("R_s", "R_L"):
+        return "R"
+    if name == "C_L":
+        return "C"
+    kind = info.get("kind")
+    if kind in ("resistor", "ccvs"):
+        return "R"
+    if kind == "capacitor":
+        return "C"
+    if kind == "inductor":
+        return "L"
+    for prefix, cls in (("Rout_", "R"), ("Rin_", "R"), ("Cin_", "C"), ("GBW_", "BW"), ("P2_", "BW"), ("A_", "G")):
+        if name.startswith(prefix):
+            return cls
+    return "G"
+
+
+def _check_scaling_sums(c: Circuit, view) -> int:
+    """Form both scaling sums from the per-symbol sensitivities; return how many were checked."""
+    classes = {n: _scaling_class(n, info) for n, info in c.symbols().items() if info["role"] != "laplace"}
+    checked = 0
+    for quantity, freq_sum in (("w0", -1), ("cutoff", -1), ("q", 0), ("gain", 0), ("dc_gain", 0)):
+        table = view.sensitivity.get(quantity)
+        if not table:
+            continue
+        for k, expected in ((0, 0), (1, freq_sum)):
+            total = sum((_SCALING[classes[n]][k] * e for n, e in table.items()), sympy.Integer(0))
+            assert equal(total, expected), (c.title, quantity, k, total)
+            checked += 1
+    return checked
 
 
 @pytest.mark.parametrize("name", catalogue.names())
 def test_sum_rules_on_every_catalogue_circuit(name):
     # Schaumann & Van Valkenburg, Design of Analog Filters, sensitivity chapter (from memory):
-    # for RC circuits with ideal op-amps, impedance and frequency scaling give
-    # sum_R S_R^w0 = -1, sum_C S_C^w0 = -1, and the Q sums 0, counting every resistor
-    # (R_s, R_L, gain-setting ones) and every capacitor (C_L). The sums are formed here from the
-    # per-symbol sensitivities, not taken from the analysis's own self-check.
+    # impedance scaling leaves a voltage transfer unchanged and frequency scaling turns H(s)
+    # into H(ks), so sum of e_imp S_x^y = 0 and sum of e_freq S_x^y = -1 for w0 and the cutoff,
+    # 0 for Q and gains, counting every resistor (R_s, R_L, gain-setting ones, Rout), every
+    # capacitor (C_L) and, with real op-amps, every bandwidth. For RC circuits with dimensionless
+    # gains this is the classical pair sum_R S_R^w0 = sum_C S_C^w0 = -1. The sums are formed here
+    # from the per-symbol sensitivities, not taken from the analysis's own self-check.
     c = catalogue.build(name)
-    if not _circuit_rules_apply(c):
-        pytest.skip("inductor or single-pole op-amp: the classical sum rules do not apply")
     a = analyse(c)
-    kinds = {n: info.get("kind") for n, info in c.symbols().items()}
-    resistors = [n for n, k in kinds.items() if k == "resistor"] + [n for n in ("R_s", "R_L") if n in kinds]
-    capacitors = [n for n, k in kinds.items() if k == "capacitor"] + [n for n in ("C_L",) if n in kinds]
-    if a.loaded.form.w0 is None:
-        # No w0 (order 3 or more, or no standard form): the analysis must say why it did not check.
-        assert a.rules == () and "w0" in a.rules_note
-    else:
-        assert a.rules and all(r.holds for r in a.rules)
+    checked = sum(_check_scaling_sums(c, view) for view in (a.loaded, a.ideal))
+    assert checked >= 4
+    assert a.rules and all(r.holds for r in a.rules)
+    assert {r.quantity for r in a.rules} >= {"gain"}
+    if a.loaded.form.w0 is not None:
         assert {r.quantity for r in a.rules} >= {"w0"}
-    views = [v for v in (a.loaded, a.ideal) if v.form.w0 is not None]
-    for view in views:
-        sens = view.sensitivity
-        for quantity, expected in (("w0", -1), ("q", 0)):
-            table = sens.get(quantity)
-            if quantity == "q" and view.form.q is None:
-                assert table is None
-                continue
-            for group in (resistors, capacitors):
-                total = sum((table.get(n, 0) for n in group), sympy.Integer(0))
-                assert same(total, expected), (name, quantity, group, total)
-        # Impedance scaling alone (same source): a dimensionless DC gain has sum_R S_R = 0.
-        if sens.get("dc_gain"):
-            assert same(sum((sens["dc_gain"].get(n, 0) for n in resistors), sympy.Integer(0)), 0)
-    if not views:
-        pytest.skip("no w0 loaded or ideal: nothing to sum (the note was checked)")
 
 
 def test_sum_rules_with_a_finite_gain_opamp():
@@ -539,13 +556,42 @@ def test_sum_rules_with_a_finite_gain_opamp():
     assert a.rules and all(r.holds for r in a.rules)
 
 
-def test_sum_rules_not_claimed_for_single_pole_opamp():
-    # REFERENCES.md cautions: a single-pole op-amp's bandwidth is itself a frequency, so the
-    # classical sums do not hold; the analysis must not claim them, and must say why.
-    c = sallen_key_lowpass("6k8", "15k", "10n", "3n3").with_opamp_model("single-pole", gain="100k", gbw="1M")
+@pytest.mark.parametrize("model", ["single-pole", "integrator", "two-pole"])
+def test_sum_rules_with_op_amp_bandwidths(model):
+    # The op-amp's GBW (and P2) is itself a frequency: frequency scaling gives
+    # sum_C S_C^w0 - sum_GBW S^w0 = -1 (REFERENCES.md, "Sensitivity and tolerances"). With a second
+    # pole the response is third order, so only the gains are checked there.
+    # Inverting low-pass: R1 in->n, R2 and C1 in parallel n->out, op-amp + at ground, - at n;
+    # with an op-amp pole it is second order (w0 and Q exist), with two poles third order.
+    c = Circuit.build([Part.resistor("R1", "in", "n", "10k"), Part.resistor("R2", "n", "out", "22k"),
+                       Part.capacitor("C1", "n", "out", "4n7"), Part.opamp("U1", "0", "n", "out")],
+                      source="600", load="2k")
+    c = c.with_opamp_model(model, gain="100k", gbw="1M")
+    if model == "two-pole":
+        c = c.with_values({"P2_U1": "5M"})
     a = analyse(c)
-    assert a.rules == ()
-    assert "U1" in a.rules_note
+    assert a.rules and all(r.holds for r in a.rules)
+    assert any("bandwidths" in r.group for r in a.rules)
+    assert _check_scaling_sums(c, a.loaded) >= 2
+    if model != "two-pole":
+        t = a.loaded.sensitivity["w0"]
+        assert equal(t["C1"] - t["GBW_U1"], -1)
+        assert not same(t["GBW_U1"], 0)
+
+
+def test_sum_rules_with_an_inductor():
+    # Series RLC low-pass (R1 in->a, L1 a->out, C1 out->ground): w0 = 1/sqrt(L1 C1),
+    # Q = sqrt(L1/C1)/R1 (common practice). Impedance scaling: S_R + S_L - S_C = 0; frequency
+    # scaling: S_L + S_C = -1 for w0 and 0 for Q.
+    c = Circuit.build([Part.resistor("R1", "in", "a", "100"), Part.inductor("L1", "a", "out", "10m"),
+                       Part.capacitor("C1", "out", "0", "1u")])
+    a = analyse(c)
+    t = a.ideal.sensitivity
+    assert same(t["w0"]["L1"], V(-1, 2)) and same(t["w0"]["C1"], V(-1, 2))
+    assert same(t["q"]["R1"], -1) and same(t["q"]["L1"], V(1, 2)) and same(t["q"]["C1"], V(-1, 2))
+    assert [r.group for r in a.rules][:2] == ["resistors + inductors − capacitors", "capacitors + inductors"]
+    assert a.rules and all(r.holds for r in a.rules)
+    assert _check_scaling_sums(c, a.ideal) >= 6
 
 
 def test_sum_rules_count_the_fixtures():

@@ -118,7 +118,9 @@ def standard_form(h: NetworkFunction) -> StandardForm:
             return make("highpass", [(b[1], 1), (a[1], -1)], w0_f, None, tau_f)
         if _zero(b[0] * a[1] + b[1] * a[0]):
             return make("allpass", [(b[0], 1), (a[0], -1)], w0_f, None, tau_f)
-        return make("general", None, w0_f, None, tau_f)
+        form = make("general", None, w0_f, None, tau_f)
+        form.factors["zero"] = [(b[0], 1), (b[1], -1)]
+        return form
     if order == 2 and a[0] != 0 and a[1] != 0 and a[2] != 0:
         w0_f = [(a[0], half), (a[2], -half)]
         q_f = [(a[0], half), (a[2], half), (a[1], -1)]
@@ -188,10 +190,37 @@ def second_order_root(q):
     return sympy.sqrt(x + sympy.sqrt(x**2 + 1))
 
 
+def first_order_zero_cutoff(wp, wz):
+    """-3 dB point of a first order with a zero, H = K (1 + s/wz)/(1 + s/wp), below its DC gain.
+
+    |H(jw)|^2/K^2 = (1 + w^2/wz^2)/(1 + w^2/wp^2) = 1/2 gives
+    w = wp/sqrt(1 - 2 wp^2/wz^2), the same as w^2 = a0^2 b0^2/(a1^2 b0^2 - 2 a0^2 b1^2) for
+    (b0 + b1 s)/(a0 + a1 s). It exists while |wz| > sqrt(2)·wp, that is while the gain at high
+    frequencies stays more than 3 dB below the DC gain (at other values the expression is not
+    real and there is no -3 dB point). The pass band is at DC, as in the numeric rule of
+    :func:`symfilt.analysis.numeric.passband_gain`.
+
+    Parameters
+    ----------
+    wp, wz : sympy.Expr
+        The pole a0/a1 and the zero b0/b1 (rad/s; the zero may be negative, a right-half-plane zero).
+
+    Returns
+    -------
+    sympy.Expr
+
+    Examples
+    --------
+    >>> first_order_zero_cutoff(sympy.Integer(1000), sympy.Integer(-100000))
+    50000*sqrt(9998)/4999
+    """
+    return wp / sympy.sqrt(1 - 2 * wp**2 / wz**2)
+
+
 def cutoff(form: StandardForm) -> Cutoff:
     """Closed-form -3 dB cutoff from a standard form.
 
-    First order: w0. Second-order low-pass: w0 * sqrt(x + sqrt(x^2 + 1)) with
+    First order: w0; first order with a zero: :func:`first_order_zero_cutoff`. Second-order low-pass: w0 * sqrt(x + sqrt(x^2 + 1)) with
     x = 1 - 1/(2 Q^2), valid for every Q (peaking included); high-pass: w0 divided
     by the same root; band-pass: edges w0 (sqrt(1 + 4Q^2) -+ 1)/(2Q).
 
@@ -213,6 +242,9 @@ def cutoff(form: StandardForm) -> Cutoff:
     """
     if form.order == 1 and form.kind in ("lowpass", "highpass"):
         return Cutoff(form.w0)
+    if form.order == 1 and form.kind == "general" and "zero" in form.factors:
+        (b0, _), (b1, _) = form.factors["zero"]
+        return Cutoff(first_order_zero_cutoff(form.w0, _tidy(b0 / b1, cancel_below=0)))
     if form.order == 2 and form.kind in ("lowpass", "highpass"):
         root = second_order_root(form.q)
         value = form.w0 * root if form.kind == "lowpass" else form.w0 / root

@@ -134,6 +134,8 @@ def open_loop_gain(part: Part) -> sympy.Expr | None:
     if part.model == "gain":
         return a0
     wt = 2 * sympy.pi * part_symbol(f"GBW_{part.name}")
+    if part.model == "integrator":
+        return wt / S
     a = a0 * wt / (a0 * S + wt)
     if part.model == "two-pole":
         w2 = 2 * sympy.pi * part_symbol(f"P2_{part.name}")

@@ -383,10 +383,11 @@ class NetworkFunction:
         import flint
 
         ctx, ncs, dcs = self._coefficient_polys_q
+        used = self._coefficient_names_used
         point = []
-        for name in ctx.names():
+        for k, name in enumerate(ctx.names()):
             sym = self.ratio.symbols.get(name)
-            if name == "s" or sym == S:
+            if name == "s" or sym == S or not used[k]:
                 point.append(flint.fmpq(0))
             elif sym is sympy.pi:
                 point.append(flint.fmpq(*math.pi.as_integer_ratio()))
@@ -401,6 +402,20 @@ class NetworkFunction:
                 return None
         conv = lambda cs: [_fmpq_float(c(*point)) for c in cs]
         return conv(ncs), conv(dcs)
+
+    @cached_property
+    def _coefficient_names_used(self) -> tuple[bool, ...]:
+        """Per name of the coefficients' context: whether any coefficient depends on it.
+
+        The context holds every name of the circuit (the ideal view still carries R_s and
+        R_L as names of degree 0), so a name no coefficient uses needs no value.
+        """
+        ctx, ncs, dcs = self._coefficient_polys_q
+        used = [False] * len(ctx.names())
+        for c in (*ncs, *dcs):
+            for k, d in enumerate(c.degrees()):
+                used[k] = used[k] or d > 0
+        return tuple(used)
 
     @cached_property
     def _coefficient_polys_q(self):

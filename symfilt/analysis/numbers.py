@@ -51,13 +51,7 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
     def num(e):
         return finite_float(sympy.sympify(e).xreplace(dict(values)))
 
-    if stage.cutoff.value is not None and known(stage.cutoff.value):
-        w = num(stage.cutoff.value)
-        out["cutoff_hz"] = None if w is None else w / (2 * math.pi)
-    elif stage.form.order >= 2 and stage.cutoff.edges is None and stage.form.kind == "general" or stage.form.order >= 3:
-        if not (stage.transfer.free_symbols() - {S} - set(values)):
-            w = numeric_cutoff(stage.transfer, values)
-            out["cutoff_hz"] = None if w is None else w / (2 * math.pi)
+    out.update(_cutoff_number(stage, values))
     if stage.cutoff.edges is not None and all(known(e) for e in stage.cutoff.edges):
         lo, hi = (num(e) for e in stage.cutoff.edges)
         out["low_edge_hz"] = None if lo is None else lo / (2 * math.pi)
@@ -78,6 +72,34 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
     if stab is not None:
         out["stability"] = stab
     return out
+
+
+#: Kinds whose -3 dB point is not "the cutoff" (a notch has two edges around its null, an all-pass none).
+NO_CUTOFF_KINDS = ("notch", "allpass")
+
+
+def _cutoff_number(stage: StageResult, values: Mapping) -> dict:
+    """``cutoff_hz`` from the closed form when it has values, else found numerically.
+
+    Every response of any order gets a numeric cutoff when its transfer function has all
+    its values (the pass band by :func:`~symfilt.analysis.numeric.passband_gain`), except a
+    band-pass (its two edges), a notch and an all-pass. ``cutoff_hz`` None with
+    ``no_cutoff`` True: the response never falls 3 dB below its pass-band gain.
+    """
+    cut = stage.cutoff
+    closed = cut.value is not None and not (sympy.sympify(cut.value).free_symbols - set(values))
+    if closed:
+        w = finite_float(sympy.sympify(cut.value).xreplace(dict(values)))
+        if w is not None or stage.form.order != 1:
+            return {"cutoff_hz": None if w is None else w / (2 * math.pi)}
+    elif cut.edges is not None or stage.form.kind in NO_CUTOFF_KINDS or stage.form.order < 1:
+        return {}
+    if stage.transfer.free_symbols() - {S} - set(values):
+        return {}
+    w = numeric_cutoff(stage.transfer, values)
+    if w is None:
+        return {"cutoff_hz": None, "no_cutoff": True}
+    return {"cutoff_hz": w / (2 * math.pi)}
 
 
 def output_impedance_values(zout: NetworkFunction, values: Mapping, cutoff_hz: float | None) -> dict:

@@ -6,10 +6,12 @@ chapter; from memory): for a circuit of resistors, capacitors and ideal op-amps
 unchanged and frequency scaling moves w0 inversely with every capacitor, so
 
 * sum over resistors of S_R^w0 = -1, sum over capacitors of S_C^w0 = -1,
-* the same sums for Q are 0 (and for a dimensionless DC gain, 0).
+* the same sums for Q are 0 (and for a dimensionless gain, 0).
 
-They hold only when every resistor is counted (R_s and R_L included) and no
-inductor or single-pole op-amp is present (its bandwidth is itself a frequency).
+They hold only when every resistor is counted (R_s and R_L included). With inductors,
+op-amp bandwidths (GBW, P2) or transconductances the same two scalings give the general
+pair (:func:`sum_rules`): sum of S_R + S_L − S_C = 0 and sum of S_C + S_L − S_GBW = -1
+for a frequency (0 for Q and gains).
 """
 
 from __future__ import annotations
@@ -132,9 +134,10 @@ class SumRule:
     quantity : str
         ``w0`` or ``q``.
     group : str
-        ``resistors`` or ``capacitors``.
+        ``resistors`` or ``capacitors`` (the classical pair), else the signed classes of one
+        scaling, e.g. ``resistors + inductors − capacitors``.
     expected : int
-        The sum the rule asks for (-1 for ``w0``, 0 for ``q``).
+        The sum the rule asks for (-1 for a frequency under frequency scaling, else 0).
     total : sympy.Expr
         The sum of the derived sensitivities (simplified).
     holds : bool
@@ -143,7 +146,7 @@ class SumRule:
     Examples
     --------
     >>> half = sympy.Rational(1, 2)
-    >>> sum_rules({"q": {"R1": half, "R2": -half}}, ["R1", "R2"], [])[0]
+    >>> sum_rules({"q": {"R1": half, "R2": -half}}, {"R1": "resistors", "R2": "resistors"})[0]
     SumRule(quantity='q', group='resistors', expected=0, total=0, holds=True)
     """
 
@@ -154,35 +157,71 @@ class SumRule:
     holds: bool
 
 
-def sum_rules(sens: Mapping[str, Mapping[str, sympy.Expr] | None], resistors, capacitors) -> tuple[SumRule, ...]:
-    """Check the classical sum rules on derived sensitivities.
+#: Scaling class -> (impedance exponent, frequency exponent): scaling every impedance by k
+#: multiplies a resistance by k**1 and a capacitance by k**-1; scaling every time constant by k
+#: multiplies a capacitance and an inductance by k and a bandwidth (GBW, P2) by 1/k.
+SCALING = {"resistors": (1, 0), "capacitors": (-1, 1), "inductors": (1, 1), "bandwidths": (0, -1),
+           "transconductances": (-1, 0), "gains": (0, 0)}
+#: What frequency scaling asks of each quantity's sum (a frequency moves as 1/k; ratios stay);
+#: None: impedance scaling only (|H(jw)| at a fixed frequency moves with frequency scaling).
+FREQUENCY_SUM = {"w0": -1, "cutoff": -1, "q": 0, "gain": 0, "magnitude": None}
+
+
+def sum_rules(sens: Mapping[str, Mapping[str, sympy.Expr] | None], classes: Mapping[str, str]) -> tuple[SumRule, ...]:
+    """Check the scaling sum rules on derived sensitivities.
+
+    Impedance scaling (every R, L, Rout, transresistance times k, every C over k) leaves a
+    voltage transfer unchanged; frequency scaling (every C and L times k, every bandwidth over
+    k) turns H(s) into H(ks). Hence, for each quantity y with exponents e of :data:`SCALING`:
+    sum of e_imp·S_x^y = 0 and sum of e_freq·S_x^y = -1 for a frequency (w0, the cutoff),
+    0 for Q and a gain. For a circuit of resistors, capacitors and dimensionless gains only
+    these are the classical pair (Schaumann & Van Valkenburg; from memory), shown as such:
+    sum over resistors = sum over capacitors = -1 for w0, 0 for Q.
 
     Parameters
     ----------
     sens : mapping
-        quantity (``w0``, ``q``) -> symbol name -> sensitivity.
-    resistors, capacitors : iterable of str
-        Names of every resistive and capacitive symbol (fixtures included).
+        quantity (``w0``, ``q``, ``cutoff``, ``gain``, ``magnitude``) -> symbol name -> sensitivity.
+    classes : mapping
+        Every symbol name (fixtures and op-amp parameters included) -> a key of :data:`SCALING`.
 
     Examples
     --------
     >>> R1, R2, C1, C2 = sympy.symbols("R1 R2 C1 C2", positive=True)
     >>> w0 = 1 / sympy.sqrt(R1 * R2 * C1 * C2)
-    >>> rules = sum_rules({"w0": sensitivities(w0, [R1, R2, C1, C2])}, ["R1", "R2"], ["C1", "C2"])
-    >>> [(r.group, r.holds) for r in rules]
+    >>> cls = {"R1": "resistors", "R2": "resistors", "C1": "capacitors", "C2": "capacitors"}
+    >>> [(r.group, r.holds) for r in sum_rules({"w0": sensitivities(w0, [R1, R2, C1, C2])}, cls)]
     [('resistors', True), ('capacitors', True)]
+    >>> R, L = sympy.symbols("R L", positive=True)
+    >>> [(r.group, r.expected, r.holds) for r in sum_rules({"w0": sensitivities(R / L, [R, L])},
+    ...                                                    {"R": "resistors", "L": "inductors"})]
+    [('resistors + inductors', 0, True), ('inductors', -1, True)]
     """
+    present = {c for c in classes.values()} - {"gains"}
+    classical = present <= {"resistors", "capacitors"}
     out = []
-    for quantity, expected in (("w0", -1), ("q", 0)):
+    for quantity, freq_sum in FREQUENCY_SUM.items():
         table = sens.get(quantity)
         if not table:
             continue
-        for group, names in (("resistors", resistors), ("capacitors", capacitors)):
-            names = [n for n in names if n in table]
+        if classical and freq_sum is not None:
+            rules = [(g, {n: 1 for n, c in classes.items() if c == g}, freq_sum) for g in ("resistors", "capacitors")]
+        else:
+            rules = [(_group_label(present, k), {n: SCALING[c][k] for n, c in classes.items() if SCALING[c][k]}, e)
+                     for k, e in ((0, 0), (1, freq_sum)) if e is not None]
+        for group, weights, expected in rules:
+            names = [n for n in weights if n in table]
             if not names:
                 continue
-            total = sympy.Add(*[table[n] for n in names])
+            total = sympy.Add(*[weights[n] * table[n] for n in names])
             total = sympy.cancel(sympy.together(total))
             holds = sympy.cancel(total - expected) == 0
             out.append(SumRule(quantity, group, expected, total, bool(holds)))
     return tuple(out)
+
+
+def _group_label(present, k: int) -> str:
+    """``resistors + inductors − capacitors``: the classes of one scaling, by the sign they enter with."""
+    plus = [c for c in SCALING if c in present and SCALING[c][k] > 0]
+    minus = [c for c in SCALING if c in present and SCALING[c][k] < 0]
+    return " + ".join(plus) + "".join(f" − {c}" for c in minus) if plus else "− " + " − ".join(minus)

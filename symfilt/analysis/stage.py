@@ -16,6 +16,8 @@ import sympy
 
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit
 from symfilt.model.opamp import opamp_parameters
+from symfilt.model.values import parse_value
+from symfilt.errors import UsageError
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.analysis.network import NetworkFunction, derive
 from symfilt.analysis.sensitivity import product_sensitivities, sum_rules
@@ -103,6 +105,8 @@ class Analysis:
         Why the sum rules do not apply, when they do not.
     loops : tuple of Loop
         The loop around each op-amp (:mod:`symfilt.analysis.loop`), loaded and ideal.
+    at_hz : sympy.Rational or None
+        The frequency of the ``magnitude`` sensitivities (S_x^|H(jw)|), when asked for.
 
     Examples
     --------
@@ -119,6 +123,7 @@ class Analysis:
     rules: tuple = ()
     rules_note: Finding | None = None
     loops: tuple = ()
+    at_hz: sympy.Rational | None = None
 
     def ratio(self, key: str) -> float | None:
         """Loaded over ideal of a numeric quantity (``cutoff_hz``, ``dc_gain``, ``f0_hz``, ``q``).
@@ -146,14 +151,22 @@ class Analysis:
         return lo / hi
 
 
-def _cutoff_sensitivity(form: StandardForm, s_w0, s_q):
-    """S_x^cutoff by the chain rule: first order equals S_x^w0; second-order low-pass
+def _cutoff_sensitivity(form: StandardForm, s_w0, s_q, s_wz=None):
+    """S_x^cutoff by the chain rule: first order equals S_x^w0 (with a zero wz, see
+    :func:`~symfilt.analysis.forms.first_order_zero_cutoff`: S^wp + 2r^2/(1 - 2r^2)(S^wp - S^wz),
+    r = wp/wz); second-order low-pass
     S_x^w0 + g S_x^Q and high-pass S_x^w0 - g S_x^Q, with g = Q d(ln r)/dQ =
     1/(2 Q^2 sqrt(x^2 + 1)), x = 1 - 1/(2Q^2), r as in :func:`second_order_root`."""
     if s_w0 is None:
         return None
     if form.order == 1 and form.kind in ("lowpass", "highpass"):
         return dict(s_w0)
+    if form.order == 1 and form.kind == "general" and s_wz is not None:
+        # ln wc = ln wp - ln(1 - 2 r^2)/2 with r = wp/wz, so S^wc = S^wp + 2 r^2/(1 - 2 r^2) (S^wp - S^wz)
+        (a0, _), (a1, _) = form.factors["w0"]
+        (b0, _), (b1, _) = form.factors["zero"]
+        g = 2 * (a0 * b1) ** 2 / ((a1 * b0) ** 2 - 2 * (a0 * b1) ** 2)
+        return {k: s_w0[k] + g * (s_w0[k] - s_wz[k]) if s_w0[k] != s_wz[k] else s_w0[k] for k in s_w0}
     if form.order == 2 and form.kind in ("lowpass", "highpass") and s_q is not None:
         x = 1 - 1 / (2 * form.q**2)
         g = 1 / (2 * form.q**2 * sympy.sqrt(x**2 + 1))
@@ -162,7 +175,8 @@ def _cutoff_sensitivity(form: StandardForm, s_w0, s_q):
     return None
 
 
-def _stage(transfer: NetworkFunction, zin: NetworkFunction, zout: NetworkFunction, symbols, want_sens: bool) -> StageResult:
+def _stage(transfer: NetworkFunction, zin: NetworkFunction, zout: NetworkFunction, symbols, want_sens: bool,
+           at_hz=None) -> StageResult:
     form = standard_form(transfer)
     cut = cutoff(form)
     sens = {}
@@ -177,19 +191,131 @@ def _stage(transfer: NetworkFunction, zin: NetworkFunction, zout: NetworkFunctio
         dc_f = None
         if a[0] != 0 and b[0] != 0:
             dc_f = [(b[0], 1), (a[0], -1)]
-        sens = {"cutoff": _cutoff_sensitivity(form, s_w0, s_q), "w0": s_w0, "q": s_q, "dc_gain": table(dc_f)}
+        s_wz = table(form.factors.get("zero"))
+        sens = {"cutoff": _cutoff_sensitivity(form, s_w0, s_q, s_wz), "w0": s_w0, "q": s_q, "dc_gain": table(dc_f),
+                "gain": table(passband_gain_factors(form, b, a))}
+        if at_hz is not None:
+            sens["magnitude"] = table(magnitude_factors(transfer, at_hz))
     return StageResult(transfer, zin, zout, form, cut, sens)
 
 
+def passband_gain_factors(form: StandardForm, b: list, a: list) -> list | None:
+    """The pass-band gain K as (polynomial, exponent) factors: the standard form's K (DC gain of
+    a low-pass, HF gain of a high-pass, the gain at w0 of a band-pass), else the DC gain when
+    it is not zero, else the HF gain; None when there is none (a zero or infinite gain).
+
+    Parameters
+    ----------
+    form : StandardForm
+    b, a : list of sympy.Expr
+        Numerator and denominator coefficients, lowest power of s first.
+
+    Returns
+    -------
+    list of (sympy.Expr, int) or None
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> from symfilt.model.circuit import S
+    >>> h = NetworkFunction.from_expr(S * R * C / (1 + S * R * C))
+    >>> passband_gain_factors(standard_form(h), *h.coefficients())
+    [(C*R, 1), (C*R, -1)]
+    """
+    if "gain" in form.factors:
+        return form.factors["gain"]
+    if a and b and a[0] != 0 and b[0] != 0:
+        return [(b[0], 1), (a[0], -1)]
+    if len(b) == len(a) and b[-1] != 0:
+        return [(b[-1], 1), (a[-1], -1)]
+    return None
+
+
+def magnitude_factors(h: NetworkFunction, at_hz) -> list:
+    """|H(jw)| at w = 2·pi·at_hz as factors: |N(jw)|^2 to the 1/2 over |D(jw)|^2 to the 1/2.
+
+    |P(jw)|^2 = (p0 - p2 w^2 + p4 w^4 ...)^2 + (p1 w - p3 w^3 + ...)^2 is a polynomial in the
+    parts at a fixed frequency, so S_x^|H(jw)| is exact.
+
+    Parameters
+    ----------
+    h : NetworkFunction
+    at_hz : number
+        The frequency (Hz), exact.
+
+    Returns
+    -------
+    list of (sympy.Expr, sympy.Rational)
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> from symfilt.model.circuit import S
+    >>> magnitude_factors(NetworkFunction.from_expr(1 / (1 + S * R * C)), sympy.Rational(1, 2) / sympy.pi)
+    [(1, 1/2), (C**2*R**2 + 1, -1/2)]
+    """
+    w = 2 * sympy.pi * sympy.sympify(at_hz)
+
+    def mag2(cs):
+        re = sympy.Add(*[c * (-1) ** (k // 2) * w**k for k, c in enumerate(cs) if k % 2 == 0])
+        im = sympy.Add(*[c * (-1) ** (k // 2) * w**k for k, c in enumerate(cs) if k % 2 == 1])
+        return sympy.expand(re**2 + im**2)
+
+    b, a = h.coefficients()
+    half = sympy.Rational(1, 2)
+    return [(mag2(b), half), (mag2(a), -half)]
+
+
+#: Part kind -> scaling class of its symbol (see :data:`~symfilt.analysis.sensitivity.SCALING`).
+_KIND_CLASS = {"resistor": "resistors", "capacitor": "capacitors", "inductor": "inductors", "vcvs": "gains",
+               "cccs": "gains", "vccs": "transconductances", "ccvs": "resistors"}
+#: Op-amp parameter unit -> scaling class.
+_UNIT_CLASS = {"Ω": "resistors", "F": "capacitors", "Hz": "bandwidths", "": "gains"}
+
+
+def scaling_classes(circuit: Circuit) -> dict[str, str]:
+    """Every symbol of the circuit -> its class under impedance and frequency scaling.
+
+    Parameters
+    ----------
+    circuit : Circuit
+
+    Returns
+    -------
+    dict
+        Symbol name -> ``resistors``, ``capacitors``, ``inductors``, ``bandwidths``,
+        ``transconductances`` or ``gains`` (a ccvs's transresistance counts as a resistor).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> c = catalogue.build("adc-driver")
+    >>> sorted(set(scaling_classes(c).values()))
+    ['bandwidths', 'capacitors', 'gains', 'resistors']
+    """
+    out = {}
+    for p in circuit.parts:
+        if p.kind == "opamp":
+            out.update({n: _UNIT_CLASS[param.unit] for n, param, _v in opamp_parameters(p)})
+        else:
+            out[p.name] = _KIND_CLASS[p.kind]
+    table = circuit.symbol_table()
+    out.update({n: ("capacitors" if n == LOAD_C else "resistors") for n in (SOURCE_R, LOAD_R, LOAD_C) if n in table})
+    return out
+
+
 def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFAULT_MAX_TERMS,
-            progress: Callable[[str], None] | None = None) -> Analysis:
+            progress: Callable[[str], None] | None = None, at=None) -> Analysis:
     """Derive and analyse a circuit, loaded and ideal.
 
     Parameters
     ----------
     circuit : Circuit
     sensitivity : bool
-        Also derive the sensitivities (and the sum-rule checks).
+        Also derive the sensitivities (and the sum-rule checks): of the cutoff, w0, Q, the
+        DC gain and the pass-band gain K (``gain``).
+    at : str or number, optional
+        A frequency in Hz (``"10k"``): also the sensitivities of |H(jw)| there (``magnitude``).
     max_terms : int
         Size budget of the elimination.
     progress : callable, optional
@@ -205,8 +331,8 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     >>> a = analyse(catalogue.build("sallen-key-lowpass"))
     >>> a.ideal.form.kind, a.ideal.form.q
     ('lowpass', sqrt(C1)*sqrt(R1)*sqrt(R2)/(sqrt(C2)*(R1 + R2)))
-    >>> [r.holds for r in a.rules]
-    [True, True, True, True]
+    >>> sorted({r.quantity for r in a.rules}), all(r.holds for r in a.rules)
+    (['cutoff', 'gain', 'q', 'w0'], True)
     """
     h = derive(circuit, "transfer", max_terms=max_terms, progress=progress)
     zin = derive(circuit, "zin", max_terms=max_terms, progress=progress)
@@ -217,8 +343,9 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
         progress("standard forms and sensitivities")
     table = circuit.symbol_table()
     symbols = [sym for name, sym in table.items() if name != "s"]
-    loaded = _stage(h, zin, zout, symbols, sensitivity)
-    ideal = _stage(h.ideal(), zin.ideal(), zout.ideal(), symbols, sensitivity)
+    at_hz = None if at is None else _frequency(at)
+    loaded = _stage(h, zin, zout, symbols, sensitivity, at_hz)
+    ideal = _stage(h.ideal(), zin.ideal(), zout.ideal(), symbols, sensitivity, at_hz)
     values = circuit.values()
     numeric = {"loaded": numeric_values(loaded, values), "ideal": numeric_values(ideal, values)}
     for numbers in numeric.values():
@@ -231,19 +358,18 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     rules: tuple = ()
     note = None
     if sensitivity:
-        blockers = [p.name for p in circuit.parts if p.kind == "inductor" or (p.kind == "opamp" and p.model in ("single-pole", "two-pole"))]
-        if blockers:
-            note = finding("sum-rules-own-frequency", parts=tuple(blockers))
-        elif loaded.form.w0 is None:
+        rules = sum_rules(loaded.sensitivity, scaling_classes(circuit))
+        if not rules:
             note = finding("sum-rules-no-w0")
-        else:
-            amp = [(n, param.unit) for p in circuit.parts for n, param, _v in opamp_parameters(p)]
-            res = [p.name for p in circuit.parts if p.kind == "resistor"] + [n for n in (SOURCE_R, LOAD_R) if n in table]
-            res += [n for n, unit in amp if unit == "Ω"]
-            caps = [p.name for p in circuit.parts if p.kind == "capacitor"] + [n for n in (LOAD_C,) if n in table]
-            caps += [n for n, unit in amp if unit == "F"]
-            rules = sum_rules(loaded.sensitivity, res, caps)
-    return Analysis(circuit, loaded, ideal, numeric, rules, note, found)
+    return Analysis(circuit, loaded, ideal, numeric, rules, note, found, at_hz)
+
+
+def _frequency(at) -> sympy.Rational:
+    """A positive frequency (Hz) from text or a number, exact."""
+    v = parse_value(at, where="--at")
+    if not v > 0:
+        raise UsageError("--at", f"{at!r} is not a positive frequency", "give a frequency in Hz such as 10k")
+    return v
 
 
 def substitute(analysis: Analysis) -> Analysis:
@@ -285,7 +411,8 @@ def substitute(analysis: Analysis) -> Analysis:
         return StageResult(st.transfer.subs(values), st.zin.subs(values), st.zout.subs(values), form, cut, sens)
 
     return Analysis(analysis.circuit, stage(analysis.loaded), stage(analysis.ideal), analysis.numeric,
-                    analysis.rules, analysis.rules_note, tuple(substitute_loop(x, values) for x in analysis.loops))
+                    analysis.rules, analysis.rules_note, tuple(substitute_loop(x, values) for x in analysis.loops),
+                    analysis.at_hz)
 
 
 __all__ = ["RESPONSE_KINDS", "Analysis", "Cutoff", "StageResult", "StandardForm", "analyse", "cutoff",

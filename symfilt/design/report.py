@@ -20,7 +20,7 @@ from typing import Callable
 
 from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.analysis.stage import Analysis, analyse, substitute as put_values
-from symfilt.design.opamp_error import OpampError, needs_opamp_error, opamp_error
+from symfilt.design.opamp_error import OPAMP_ERROR_MODELS, OpampError, needs_opamp_error, opamp_error
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.errors import SingularCircuitError, SizeLimitError, UsageError
 from symfilt.model.circuit import Circuit
@@ -63,7 +63,7 @@ class Report:
 
 def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: str | None = None,
            substitute: bool = False, sensitivity: bool = True, max_terms: int | None = None,
-           progress: Callable[[str], None] | None = None) -> Report:
+           progress: Callable[[str], None] | None = None, at=None) -> Report:
     """Derive and analyse a circuit with everything ``symfilt derive`` shows.
 
     Parameters
@@ -71,7 +71,7 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     circuit : Circuit
     load_limit : float, optional
         Tolerance of the cutoff for the load limits, as a fraction (0.02 for 2%).
-    opamp_model : {"ideal", "gain", "single-pole", "two-pole"}, optional
+    opamp_model : {"ideal", "gain", "integrator", "single-pole", "two-pole"}, optional
         Switch every op-amp to this model; the non-ideal ones also give the
         op-amp error section (real against ideal op-amps). Without it, a circuit
         with a non-ideal op-amp gets that section for the circuit as given.
@@ -83,6 +83,8 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
         Size budget of the elimination (terms per polynomial).
     progress : callable, optional
         Called with the name of each stage of the derivation.
+    at : str or number, optional
+        A frequency (Hz): also the sensitivities of |H(jw)| there.
 
     Returns
     -------
@@ -101,7 +103,7 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
         raise UsageError("load_limit", f"{load_limit!r} is outside 0..1", "give a fraction such as 0.02")
     shown = circuit.with_opamp_model(opamp_model) if opamp_model else circuit
     error = None
-    if opamp_model in ("gain", "single-pole") and any(p.kind == "opamp" for p in circuit.parts):
+    if opamp_model in OPAMP_ERROR_MODELS and any(p.kind == "opamp" for p in circuit.parts):
         error = opamp_error(circuit, opamp_model, max_terms=max_terms or DEFAULT_MAX_TERMS)
     elif opamp_model is None and needs_opamp_error(circuit):
         try:
@@ -109,6 +111,6 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
         except (UsageError, SingularCircuitError, SizeLimitError):
             error = None  # no ideal-op-amp form to compare with (no negative feedback), or too large
     warnings = tuple(structure_warnings(shown))
-    a = analyse(shown, sensitivity=sensitivity, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress)
+    a = analyse(shown, sensitivity=sensitivity, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress, at=at)
     limits = tuple(load_limits(a, load_limit)) if load_limit is not None else None
     return Report(shown, put_values(a) if substitute else a, limits, error, warnings)

@@ -226,3 +226,35 @@ def impedance_display(z):
     if smaller_than(e, 600):
         return factor_ratio(z.num, z.den)
     return z.normalized_expr()
+
+
+#: Sensitivity tables in the order reports show them.
+SENSITIVITY_ORDER = ("cutoff", "w0", "q", "dc_gain", "gain", "magnitude")
+
+
+def sensitivity_quantities(tables) -> list[str]:
+    """The sensitivity tables worth a column, in report order.
+
+    The pass-band gain K (``gain``) is left out where it is the DC gain (a low-pass), so a
+    column is never shown twice.
+
+    Parameters
+    ----------
+    tables : mapping
+        Quantity -> symbol name -> sensitivity (symbolic or numeric); empty tables are skipped.
+
+    Returns
+    -------
+    list of str
+
+    Examples
+    --------
+    >>> sensitivity_quantities({"w0": {"R": -1}, "dc_gain": {"R": 0}, "gain": {"R": 0}, "q": None})
+    ['w0', 'dc_gain']
+    >>> sensitivity_quantities({"w0": {"R": -1}, "dc_gain": None, "gain": {"R": 0}})
+    ['w0', 'gain']
+    """
+    out = [q for q in SENSITIVITY_ORDER if tables.get(q)]
+    if "gain" in out and "dc_gain" in out and tables["gain"] == tables["dc_gain"]:
+        out.remove("gain")
+    return out

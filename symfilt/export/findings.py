@@ -48,7 +48,8 @@ _WORDS: dict[str, Callable[[dict], str]] = {
     "normal-corners": lambda d: "normal distribution, tolerance = 3 sigma; corners are at +-tol (samples may pass them)",
     "quantity-undefined": lambda d: f"{d['quantity']}: not defined at these values",
     "ideal-dc-gain-zero": lambda d: "the ideal DC gain is zero: no relative DC error",
-    "cutoff-error-too-large": lambda d: "the exact cutoff error is too large to show: first-order terms and numbers only",
+    "cutoff-error-too-large": lambda d: "the exact cutoff error is too large to show: "
+                                        + ("numbers only" if d.get("exact_only") else "first-order terms and numbers only"),
     "no-closed-form-real-cutoff": lambda d: f"no closed-form cutoff with {'the given' if d['model'] == 'as given' else d['model']} op-amps "
                                                   f"(order {d['order']}): numeric only",
     "first-order-cutoff-too-large": lambda d: "the first-order cutoff coefficients are too large to show: numeric only",

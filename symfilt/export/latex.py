@@ -141,13 +141,12 @@ def sensitivity_rows(st: StageResult) -> list[tuple[str, str]]:
     ('S_{R_{1}}^{\\\\omega_{c}}', '-1')
     """
     rows = []
-    names = {"cutoff": "\\omega_{c}", "w0": "\\omega_{0}", "q": "Q", "dc_gain": "H(0)"}
-    for q, table in st.sensitivity.items():
-        if not table:
-            continue
-        for name, e in table.items():
-            from symfilt.export.common import latex_name
+    from symfilt.export.common import latex_name, sensitivity_quantities
 
+    names = {"cutoff": "\\omega_{c}", "w0": "\\omega_{0}", "q": "Q", "dc_gain": "H(0)", "gain": "K",
+             "magnitude": "\\left|H(j\\omega)\\right|"}
+    for q in sensitivity_quantities(st.sensitivity):
+        for name, e in st.sensitivity[q].items():
             rows.append((f"S_{{{latex_name(name)}}}^{{{names[q]}}}", tex(e, keep_parallel=False)))
     return rows
 

@@ -21,6 +21,7 @@ import math
 from symfilt.analysis.stage import Analysis, StageResult
 from symfilt.model.opamp import opamp_parameters
 from symfilt.model.values import format_value
+from symfilt.export.common import sensitivity_quantities
 from symfilt.export.latex import stage_equations
 
 #: Numeric quantities of the loaded-versus-ideal table: JSON key, label, LaTeX label, unit.
@@ -42,7 +43,7 @@ NUMBER_ROWS = (
 RATIO_KEYS = ("cutoff_hz", "f0_hz", "q", "dc_gain")
 #: Sensitivity columns: key, plain label, LaTeX of the quantity.
 SENS_COLUMNS = (("cutoff", "ω_c", "\\omega_{c}"), ("w0", "ω_0", "\\omega_{0}"), ("q", "Q", "Q"),
-                ("dc_gain", "H(0)", "H(0)"))
+                ("dc_gain", "H(0)", "H(0)"), ("gain", "K", "K"), ("magnitude", "|H(jω)|", "\\left|H(j\\omega)\\right|"))
 _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
 _ORDINALS = ("zeroth", "first", "second", "third", "fourth", "fifth", "sixth", "seventh", "eighth",
              "ninth", "tenth", "eleventh", "twelfth")
@@ -302,7 +303,7 @@ def sensitivity_table(a: Analysis, view: str) -> tuple[list[str], list[tuple[str
     (['cutoff', 'w0', 'dc_gain'], 'R1', ['-1', '-1', '0'])
     """
     tables = a.numeric.get(view, {}).get("sensitivity", {})
-    cols = [k for k, _, _ in SENS_COLUMNS if tables.get(k)]
+    cols = sensitivity_quantities(tables)
     names: list[str] = []
     for k in cols:
         for n in tables[k]:
@@ -443,6 +444,9 @@ def assumptions(a: Analysis) -> list[str]:
                        + "and no supply, swing, current or slew limits.")
         elif p.model == "gain":
             out.append(f"{p.name} has a finite open-loop gain A_{p.name}, flat with frequency; otherwise ideal.")
+        elif p.model == "integrator":
+            out.append(f"{p.name} has an integrator open-loop gain A(s) = 2π·GBW/s (infinite at DC), "
+                       f"with GBW = GBW_{p.name}; otherwise ideal.")
         else:
             second = f" · 2π·P2/(s + 2π·P2), P2 = P2_{p.name}" if p.model == "two-pole" else ""
             out.append(f"{p.name} has a {p.model} open-loop gain A(s) = A0·2π·GBW/(A0·s + 2π·GBW){second}, "

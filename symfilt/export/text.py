@@ -7,7 +7,7 @@ import sympy
 from symfilt.analysis.stage import UNSTABLE_DROPS, Analysis, StageResult
 from symfilt.model.values import format_value
 from symfilt.engine.polybridge import smaller_than
-from symfilt.export.common import impedance_display, parallel_display, transfer_parts
+from symfilt.export.common import impedance_display, parallel_display, sensitivity_quantities, transfer_parts
 from symfilt.export.findings import describe
 
 LONG = 400  # one-line expressions longer than this are not printed in the text report
@@ -166,6 +166,8 @@ def _numbers(a: Analysis) -> list[str]:
                     return "—"
                 return "needs values"
             v = d[key]
+            if v is None and key == "cutoff_hz" and d.get("no_cutoff"):
+                return "none"
             if v is None:
                 return "undefined"
             return f"{v:.6g}" if raw else format_value(v, unit)
@@ -189,8 +191,11 @@ def _numbers(a: Analysis) -> list[str]:
         rows.append(f"  {'poles':<14}{lo.get('stability', '—'):>16}{hi.get('stability', '—'):>16}")
     if len(rows) == 1:
         return []
-    if any(v is None for d in (lo, hi) for k, v in d.items() if k not in ("dc_gain_db", "hf_gain_db")):
+    if any(v is None for d in (lo, hi) for k, v in d.items()
+           if k not in ("dc_gain_db", "hf_gain_db") and not (k == "cutoff_hz" and d.get("no_cutoff"))):
         rows.append("  undefined: the formula divides by zero at these values (the formulas above still hold)")
+    if lo.get("no_cutoff") or hi.get("no_cutoff"):
+        rows.append("  none: |H| never falls 3 dB below its pass-band gain at these values (no cutoff)")
     missing = [n for n, info in a.circuit.symbols().items() if info["value"] is None and info["role"] != "laplace"]
     if missing and any(k not in d for d in (lo, hi) for k in ("cutoff_hz", "dc_gain") if k in lo or k in hi):
         rows.append("  needs values: give " + ", ".join(missing) + " a value for these numbers")
@@ -218,21 +223,27 @@ def _sens_table(a: Analysis, st: StageResult, key: str) -> list[str]:
     if not st.sensitivity:
         return []
     numeric = a.numeric.get(key, {}).get("sensitivity", {})
-    quantities = [q for q in ("cutoff", "w0", "q", "dc_gain") if st.sensitivity.get(q)]
+    quantities = sensitivity_quantities(st.sensitivity)
     if not quantities:
         return ["  no closed-form quantity to take sensitivities of"]
     names = list(st.sensitivity[quantities[0]])
     out = []
+    label = {"gain": "K", "magnitude": "|H(jω)|"}
     if all(q in numeric for q in quantities):
-        out.append(f"  {'S_x^y':<10}" + "".join(f"{q:>12}" for q in quantities))
+        out.append(f"  {'S_x^y':<10}" + "".join(f"{label.get(q, q):>12}" for q in quantities))
         for n in names:
             out.append(f"  {n:<10}" + "".join(f"{numeric[q][n]:>12.4f}" if numeric[q][n] is not None else f"{'undefined':>12}"
                                                for q in quantities))
     else:
         for q in quantities:
-            out.append(f"  of {q}:")
+            out.append(f"  of {label.get(q, q)}:")
             for n in names:
                 out.append(f"    S_{n} = {one_line(st.sensitivity[q][n])}")
+    keys = [k for k in ("gain", "magnitude") if k in quantities]
+    if keys:
+        words = {"gain": "K = pass-band gain",
+                 "magnitude": "|H(jω)| at " + ("" if a.at_hz is None else format_value(a.at_hz, "Hz"))}
+        out.append("  " + "; ".join(words[k] for k in keys))
     return out
 
 

@@ -11,7 +11,8 @@ capacitances::
          |            |
         gnd          gnd
 
-* ``model``: ``ideal`` (A -> oo), ``gain`` (A = A0, flat), ``single-pole``
+* ``model``: ``ideal`` (A -> oo), ``gain`` (A = A0, flat), ``integrator``
+  (A(s) = 2π·GBW/s: the single pole at DC, infinite DC gain), ``single-pole``
   (A(s) = A0·2π·GBW/(A0·s + 2π·GBW)) or ``two-pole`` (that times
   2π·P2/(s + 2π·P2), a second pole at ``pole2`` Hz).
 * ``rout``, ``rin``, ``cin``: optional with every model. Absent means 0 Ω,
@@ -31,9 +32,11 @@ from symfilt.errors import CircuitError
 from symfilt.model.names import clip_name
 
 #: Op-amp models, in order of detail.
-OPAMP_MODELS = ("ideal", "gain", "single-pole", "two-pole")
-#: Models with a finite open-loop gain.
+OPAMP_MODELS = ("ideal", "gain", "integrator", "single-pole", "two-pole")
+#: Models with a finite open-loop gain A0 (the integrator's DC gain is infinite).
 FINITE_MODELS = ("gain", "single-pole", "two-pole")
+#: Models whose open-loop gain falls with frequency (they bring ``gbw``).
+BANDWIDTH_MODELS = ("integrator", "single-pole", "two-pole")
 
 
 @dataclass(frozen=True)
@@ -95,7 +98,7 @@ class Parameter:
 
 PARAMETERS = (
     Parameter("gain", "A_", "open-loop DC gain", "", FINITE_MODELS),
-    Parameter("gbw", "GBW_", "gain-bandwidth product", "Hz", ("single-pole", "two-pole")),
+    Parameter("gbw", "GBW_", "gain-bandwidth product", "Hz", BANDWIDTH_MODELS),
     Parameter("pole2", "P2_", "second open-loop pole", "Hz", ("two-pole",)),
     Parameter("rout", "Rout_", "open-loop output resistance", "Ω"),
     Parameter("rin", "Rin_", "differential input resistance", "Ω"),

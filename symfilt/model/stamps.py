@@ -344,13 +344,16 @@ def loop_node(opamp: str) -> str:
 def _opamp_rows(p) -> tuple[tuple, tuple]:
     """(entry on the controlled node, entry on V+ (V− takes minus it)) of the constraint row.
 
-    ``den(s)·V_e = num·(V+ − V−)`` with A(s) = num/den: gain A; single pole
+    ``den(s)·V_e = num·(V+ − V−)`` with A(s) = num/den: gain A; integrator
+    s V_e = 2πGBW (V+ − V−); single pole
     (A s + 2πGBW) V_e = 2πGBW A (V+ − V−); two poles times (s + 2πP2) on the left
     and 2πP2 on the right.
     """
     a0, gbw, p2 = f"A_{p.name}", f"GBW_{p.name}", f"P2_{p.name}"
     if p.model == "gain":
         return ONE, ((1, (a0,)),)
+    if p.model == "integrator":
+        return ((1, ("s",)),), ((2, (PI, gbw)),)
     left, right = ((1, (a0, "s")), (2, (PI, gbw))), ((2, (a0, PI, gbw)),)
     if p.model == "two-pole":
         left = tuple((c * c2, f + f2) for c, f in left for c2, f2 in ((1, ("s",)), (2, (PI, p2))))
