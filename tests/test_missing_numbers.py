@@ -2,8 +2,8 @@
 every response with values gets a cutoff, and a first order with a zero has a closed form.
 
 Outside checks: scipy.signal.freqs (an independent evaluation of |H(jw)| from the
-coefficients) and a bisection on it; the first-order-with-zero cutoff derived by hand in
-tests/REFERENCES.md ("Numbers at the values").
+coefficients) and a bisection on it; the first-order-with-zero cutoff derived by hand
+(tests/REFERENCES.md, "Numbers at the values").
 """
 
 from __future__ import annotations
