@@ -244,7 +244,7 @@ def cutoff(form: StandardForm) -> Cutoff:
         return Cutoff(form.w0)
     if form.order == 1 and form.kind == "general" and "zero" in form.factors:
         (b0, _), (b1, _) = form.factors["zero"]
-        return Cutoff(first_order_zero_cutoff(form.w0, _tidy(b0 / b1, cancel_below=0)))
+        return Cutoff(first_order_zero_cutoff(form.w0, _tidy(b0 / b1)))
     if form.order == 2 and form.kind in ("lowpass", "highpass"):
         root = second_order_root(form.q)
         value = form.w0 * root if form.kind == "lowpass" else form.w0 / root

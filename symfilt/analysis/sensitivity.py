@@ -164,7 +164,9 @@ SCALING = {"resistors": (1, 0), "capacitors": (-1, 1), "inductors": (1, 1), "ban
            "transconductances": (-1, 0), "gains": (0, 0)}
 #: What frequency scaling asks of each quantity's sum (a frequency moves as 1/k; ratios stay);
 #: None: impedance scaling only (|H(jw)| at a fixed frequency moves with frequency scaling).
-FREQUENCY_SUM = {"w0": -1, "cutoff": -1, "q": 0, "gain": 0, "magnitude": None}
+#: The cutoff's sensitivities are a chain-rule combination of w0's and Q's (or the zero's), so
+#: their sums follow from these; tests/test_analysis.py checks them anyway.
+FREQUENCY_SUM = {"w0": -1, "q": 0, "gain": 0, "magnitude": None}
 
 
 def sum_rules(sens: Mapping[str, Mapping[str, sympy.Expr] | None], classes: Mapping[str, str]) -> tuple[SumRule, ...]:
@@ -181,7 +183,8 @@ def sum_rules(sens: Mapping[str, Mapping[str, sympy.Expr] | None], classes: Mapp
     Parameters
     ----------
     sens : mapping
-        quantity (``w0``, ``q``, ``cutoff``, ``gain``, ``magnitude``) -> symbol name -> sensitivity.
+        quantity (``w0``, ``q``, ``gain``, ``magnitude``) -> symbol name -> sensitivity (other
+        quantities are ignored).
     classes : mapping
         Every symbol name (fixtures and op-amp parameters included) -> a key of :data:`SCALING`.
 

@@ -4,6 +4,7 @@ from __future__ import annotations
 
 import sympy
 
+from symfilt.analysis.numeric import tidy
 from symfilt.analysis.stage import UNSTABLE_DROPS, Analysis, StageResult
 from symfilt.model.values import format_value
 from symfilt.engine.polybridge import smaller_than
@@ -255,7 +256,12 @@ def _stage_formulas(st: StageResult) -> list[str]:
         op = "·" if f.kind == "lowpass" else "/"
         rows.append(f"  {'cutoff ωc':<10} = w0{op}√(x + √(x² + 1)), x = 1 − 1/(2·Q²)")
         cut = None
-    items = [("K", f.gain), ("w0", f.w0), ("Q", f.q), ("tau", f.tau), ("cutoff ωc", cut),
+    zero = None
+    if f.order == 1 and f.kind == "general" and cut is not None and "zero" in f.factors:
+        zero = tidy(sympy.Mul(*[p**e for p, e in f.factors["zero"]]))
+        rows.append(f"  {'cutoff ωc':<10} = w0/√(1 − 2·(w0/wz)²), below the DC gain (a first order with a zero)")
+        cut = None
+    items = [("K", f.gain), ("w0", f.w0), ("wz", zero), ("Q", f.q), ("tau", f.tau), ("cutoff ωc", cut),
              ("DC gain", st.transfer.dc_gain()), ("HF gain", st.transfer.hf_gain()),
              ("Zin", impedance_display(st.zin)), ("Zout", impedance_display(st.zout))]
     for label, e in items:
