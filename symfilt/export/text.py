@@ -224,18 +224,22 @@ def _sens_table(a: Analysis, st: StageResult, key: str) -> list[str]:
     if not st.sensitivity:
         return []
     numeric = a.numeric.get(key, {}).get("sensitivity", {})
-    quantities = sensitivity_quantities(st.sensitivity)
+    # a cutoff found numerically has numeric sensitivities only (central differences)
+    quantities = sensitivity_quantities({q: st.sensitivity.get(q) or numeric.get(q) for q in {*st.sensitivity, *numeric}})
     if not quantities:
         return ["  no closed-form quantity to take sensitivities of"]
-    names = list(st.sensitivity[quantities[0]])
     out = []
     label = {"gain": "K", "magnitude": "|H(jω)|"}
     if all(q in numeric for q in quantities):
+        first = next((q for q in quantities if st.sensitivity.get(q)), quantities[0])
+        names = list(numeric[first])
         out.append(f"  {'S_x^y':<10}" + "".join(f"{label.get(q, q):>12}" for q in quantities))
         for n in names:
-            out.append(f"  {n:<10}" + "".join(f"{numeric[q][n]:>12.4f}" if numeric[q][n] is not None else f"{'undefined':>12}"
-                                               for q in quantities))
+            out.append(f"  {n:<10}" + "".join(f"{numeric[q][n]:>12.4f}" if numeric[q].get(n) is not None
+                                               else f"{'undefined':>12}" for q in quantities))
     else:
+        quantities = [q for q in quantities if st.sensitivity.get(q)]
+        names = list(st.sensitivity[quantities[0]]) if quantities else []
         for q in quantities:
             out.append(f"  of {label.get(q, q)}:")
             for n in names:
