@@ -146,19 +146,18 @@ def test_catalogue_responses_with_values_have_a_cutoff_or_a_reason(name):
 
 
 def test_numeric_cutoff_sensitivities_are_shown_and_scale():
-    # A general third-order response (the twin-T as built, notch not balanced by ties) has no
-    # closed-form cutoff; its numeric cutoff sensitivities (central differences) are reported and
+    # A general third-order response (the RC ladder) has no closed-form cutoff; its numeric cutoff sensitivities (central differences) are reported and
     # obey the classical sums (REFERENCES.md "Sensitivity and tolerances"): sum_R = sum_C = -1.
     from click.testing import CliRunner
     from symfilt.cli import cli
 
-    a = analyse(catalogue.build("twin-t-notch"))
+    a = analyse(catalogue.build("rc-ladder"))
     row = a.numeric["loaded"]["sensitivity"]["cutoff"]
     assert a.loaded.sensitivity["cutoff"] is None
     resistors = [n for n in row if n.startswith("R")]
     capacitors = [n for n in row if n.startswith("C")]
     assert sum(row[n] for n in resistors) == pytest.approx(-1, abs=1e-6)
     assert sum(row[n] for n in capacitors) == pytest.approx(-1, abs=1e-6)
-    text = CliRunner().invoke(cli, ["derive", "@twin-t-notch"]).output
+    text = CliRunner().invoke(cli, ["derive", "@rc-ladder"]).output
     table = text.split("Sensitivity S_x^y = (x/y)·∂y/∂x, loaded")[1].splitlines()[1]
     assert "cutoff" in table.split()
