@@ -161,3 +161,47 @@ def test_numeric_cutoff_sensitivities_are_shown_and_scale():
     text = CliRunner().invoke(cli, ["derive", "@rc-ladder"]).output
     table = text.split("Sensitivity S_x^y = (x/y)·∂y/∂x, loaded")[1].splitlines()[1]
     assert "cutoff" in table.split()
+
+
+def test_band_pass_of_order_three_gets_numeric_edges():
+    # MFB band-pass (R1 in->x, R2 x->ground, C1 x->out, C2 x->n, R3 n->out, op-amp + ground, - n)
+    # with a single-pole op-amp is third order with no pass band at DC or HF: its -3 dB edges
+    # around the peak are found numerically and checked here by bisection on scipy.signal.freqs.
+    def build(model, **amp):
+        return Circuit.build([Part.resistor("R1", "in", "x", "22k"), Part.resistor("R2", "x", "0", "2k2"),
+                              Part.capacitor("C1", "x", "out", "10n"), Part.capacitor("C2", "x", "n", "10n"),
+                              Part.resistor("R3", "n", "out", "100k"),
+                              Part.opamp("U1", "0", "n", "out", model=model, **amp)], source="600", load="10k")
+    real = analyse(build("single-pole", gain="100k", gbw="1M"), sensitivity=False)
+    assert (real.ideal.form.order, real.ideal.form.kind) == (3, "general")
+    nums = real.numeric["ideal"]
+    num, den = real.ideal.transfer.coefficient_values(real.circuit.values())
+    grid = np.geomspace(10, 1e6, 20001)
+    _, h = signal.freqs(num[::-1], den[::-1], worN=2 * np.pi * grid)
+    k = int(np.argmax(abs(h)))
+    peak = abs(h[k])
+
+    def edge(lo, hi):
+        def excess(w):
+            return abs(signal.freqs(num[::-1], den[::-1], worN=[w])[1][0]) - peak / math.sqrt(2)
+        a, b = math.log(lo), math.log(hi)
+        for _ in range(200):
+            m = (a + b) / 2
+            if (excess(math.exp(m)) > 0) == (excess(math.exp(a)) > 0):
+                a = m
+            else:
+                b = m
+        return math.exp((a + b) / 2) / (2 * math.pi)
+
+    w_peak = 2 * np.pi * grid[k]
+    assert nums["low_edge_hz"] == pytest.approx(edge(w_peak / 100, w_peak), rel=1e-6)
+    assert nums["high_edge_hz"] == pytest.approx(edge(w_peak, w_peak * 100), rel=1e-6)
+    assert "cutoff_hz" not in nums
+    # With an ideal op-amp the closed-form edges w0 (sqrt(1 + 4Q^2) -+ 1)/(2Q) agree with the
+    # numeric search on the same coefficients (common practice, README "JSON output").
+    from symfilt.analysis.numeric import band_edges
+    ideal = analyse(build("ideal"), sensitivity=False)
+    num, den = ideal.ideal.transfer.coefficient_values(ideal.circuit.values())
+    lo, hi = band_edges(num, den)
+    assert lo / (2 * math.pi) == pytest.approx(ideal.numeric["ideal"]["low_edge_hz"], rel=1e-9)
+    assert hi / (2 * math.pi) == pytest.approx(ideal.numeric["ideal"]["high_edge_hz"], rel=1e-9)

@@ -10,7 +10,8 @@ import sympy
 
 from symfilt.model.circuit import S
 from symfilt.analysis.network import NetworkFunction
-from symfilt.analysis.numeric import finite_float, numeric_cutoff, numeric_sensitivity
+from symfilt.analysis.numeric import (band_edges, cutoff_from_coefficients, finite_float, numeric_cutoff,
+                                     numeric_sensitivity, passband_gain)
 
 if TYPE_CHECKING:
     from symfilt.analysis.stage import StageResult
@@ -83,7 +84,8 @@ def _cutoff_number(stage: StageResult, values: Mapping) -> dict:
 
     Every response of any order gets a numeric cutoff when its transfer function has all
     its values (the pass band by :func:`~symfilt.analysis.numeric.passband_gain`), except a
-    band-pass (its two edges), a notch and an all-pass. ``cutoff_hz`` None with
+    band-pass (its two edges, numeric ones for a response with no pass band at DC or HF),
+    a notch and an all-pass. ``cutoff_hz`` None with
     ``no_cutoff`` True: the response never falls 3 dB below its pass-band gain.
     """
     cut = stage.cutoff
@@ -96,7 +98,14 @@ def _cutoff_number(stage: StageResult, values: Mapping) -> dict:
         return {}
     if stage.transfer.free_symbols() - {S} - set(values):
         return {}
-    w = numeric_cutoff(stage.transfer, values)
+    coeffs = stage.transfer.coefficient_values(values)
+    if coeffs is None:
+        return {}
+    if passband_gain(*coeffs)[0] is None:  # no pass band at DC or at HF: a band-pass shape
+        edges = band_edges(*coeffs)
+        if edges is not None:
+            return {"low_edge_hz": edges[0] / (2 * math.pi), "high_edge_hz": edges[1] / (2 * math.pi)}
+    w = cutoff_from_coefficients(*coeffs)
     if w is None:
         return {"cutoff_hz": None, "no_cutoff": True}
     return {"cutoff_hz": w / (2 * math.pi)}

@@ -218,6 +218,54 @@ def cutoff_from_coefficients(num: Sequence[float], den: Sequence[float]) -> floa
     return math.sqrt(roots[0] if at_dc else roots[-1])
 
 
+def band_edges(num: Sequence[float], den: Sequence[float]) -> tuple[float, float] | None:
+    """The -3 dB edges (rad/s) around the peak of a response with no pass band at DC or at
+    high frequency (a band-pass of any order); None when there is no finite peak.
+
+    The peak of |H(jw)|^2 = P(u)/Q(u), u = w^2, is at a positive root of P'Q - PQ' (mpmath,
+    scaled as in :func:`positive_roots`); the edges are the nearest roots of
+    2 P(u) - peak^2 Q(u) below and above it.
+
+    Parameters
+    ----------
+    num, den : sequence of float
+        Coefficients of N(s) and D(s), lowest power first.
+
+    Returns
+    -------
+    (float, float) or None
+
+    Examples
+    --------
+    >>> lo, hi = band_edges([0.0, 1.0], [1.0, 1.0, 1.0])  # s/(s^2 + s + 1): Q = 1, w0 = 1
+    >>> round(lo, 6), round(hi, 6), round(hi - lo, 6)
+    (0.618034, 1.618034, 1.0)
+    """
+    p, q = trim(magnitude_squared(trim(num))), trim(magnitude_squared(trim(den)))
+    if not any(p) or not any(q):
+        return None
+    dp = [k * c for k, c in enumerate(p)][1:] or [0.0]
+    dq = [k * c for k, c in enumerate(q)][1:] or [0.0]
+    size = len(p) + len(q)
+    crit = [0.0] * size
+    for i, a in enumerate(dp):
+        for j, b in enumerate(q):
+            crit[i + j] += a * b
+    for i, a in enumerate(p):
+        for j, b in enumerate(dq):
+            crit[i + j] -= a * b
+    value = lambda u: sum(c * u**k for k, c in enumerate(p)) / sum(c * u**k for k, c in enumerate(q))
+    peaks = [(value(u), u) for u in positive_roots(crit) if math.isfinite(value(u))]
+    if not peaks:
+        return None
+    top, u0 = max(peaks)
+    roots = positive_roots(cutoff_polynomial(num, den, math.sqrt(top)))
+    below, above = [u for u in roots if u < u0], [u for u in roots if u > u0]
+    if not below or not above:
+        return None
+    return math.sqrt(below[-1]), math.sqrt(above[0])
+
+
 def numeric_cutoff(h, values: Mapping) -> float | None:
     """-3 dB angular frequency (rad/s) of a network function found numerically.
 
@@ -522,6 +570,6 @@ def _mp_float(c) -> float:
     return int(c.p) / int(c.q) if hasattr(c, "q") else float(int(c))
 
 
-__all__ = ["IMAG_TOL", "ROOT_IMAG_TOL", "batch_cutoff", "cutoff_from_coefficients", "cutoff_polynomial",
+__all__ = ["IMAG_TOL", "ROOT_IMAG_TOL", "band_edges", "batch_cutoff", "cutoff_from_coefficients", "cutoff_polynomial",
            "finite_float", "log_difference", "magnitude_squared", "numeric_cutoff", "numeric_sensitivity",
            "passband_gain", "poly_values", "positive_roots", "tidy", "trim"]
