@@ -276,6 +276,28 @@ class NetworkFunction:
         """
         return self.ratio.degree(S)
 
+    def degrees(self) -> tuple[int, int]:
+        """Degrees in s of numerator and denominator, read from the flint polynomials.
+
+        Returns
+        -------
+        (int, int)
+            (m, n); m is -1 for a zero numerator.
+
+        Examples
+        --------
+        >>> NetworkFunction(S, S**2 + S + 1).degrees()
+        (1, 2)
+        """
+        r = self.ratio
+        name = r.name_of(S)
+        if r.num == 0:
+            return -1, 0 if name is None else r.den.degrees()[r.den.context().variable_to_index(name)]
+        if name is None:
+            return 0, 0
+        k = r.num.context().variable_to_index(name)
+        return r.num.degrees()[k], r.den.degrees()[k]
+
     def dc_gain(self) -> sympy.Expr:
         """Value at s = 0 (``oo`` when the function has a pole there).
 
@@ -355,9 +377,9 @@ class NetworkFunction:
             return self
         return NetworkFunction.from_ratio(self.ratio.subs(values), self.quantity)
 
-    def coefficient_values(self, values: Mapping) -> tuple[list[float], list[float]] | None:
+    def coefficient_values(self, values: Mapping, *, exact: bool = False) -> tuple[list, list] | None:
         """Coefficients of numerator and denominator (lowest power of s first) as floats at
-        the given values; None when a symbol other than s has no value.
+        the given values; None when a symbol the coefficients use has no value.
 
         The coefficient polynomials are evaluated exactly (flint rationals) and then
         rounded, so repeated evaluation at nearby values is cheap.
@@ -365,20 +387,25 @@ class NetworkFunction:
         Parameters
         ----------
         values : Mapping
-            Symbol or name -> number, for every symbol other than ``s``.
+            Symbol or name -> number, for every symbol other than ``s`` that the function uses.
+        exact : bool
+            Return exact sympy Rationals instead of floats (pi, where it occurs, as the
+            nearest double).
 
         Examples
         --------
         >>> R, C = sympy.symbols("R C", positive=True)
         >>> NetworkFunction(sympy.Integer(1), 1 + S * R * C).coefficient_values({R: 1000, C: 1e-6})
         ([1.0], [1.0, 0.001])
+        >>> NetworkFunction(sympy.Integer(1), 1 + S * R * C).coefficient_values({R: 1000, C: sympy.Rational(1, 3)}, exact=True)
+        ([1], [1, 1000/3])
         """
         if self.infinite:
             return None
         given = {(k.name if hasattr(k, "name") else str(k)): v for k, v in values.items()}
-        return self._coefficient_values_exact(given)
+        return self._coefficient_values_exact(given, exact)
 
-    def _coefficient_values_exact(self, given: dict):
+    def _coefficient_values_exact(self, given: dict, exact: bool = False):
         """Evaluate the coefficient polynomials exactly (flint fmpq) at the values."""
         import flint
 
@@ -400,7 +427,10 @@ class NetworkFunction:
                     point.append(flint.fmpq(int(q.p), int(q.q)))
             else:
                 return None
-        conv = lambda cs: [_fmpq_float(c(*point)) for c in cs]
+        if exact:
+            conv = lambda cs: [sympy.Rational(int(q.p), int(q.q)) for q in (c(*point) for c in cs)]
+        else:
+            conv = lambda cs: [_fmpq_float(c(*point)) for c in cs]
         return conv(ncs), conv(dcs)
 
     @cached_property

@@ -197,8 +197,8 @@ def high_frequency(stage: StageResult, values: Mapping) -> dict:
     h = stage.transfer
     if h.infinite or h.order() < 1:
         return {}
-    n, m = sympy.degree(h.den, S), sympy.degree(h.num, S)
-    if h.num == 0:
+    m, n = h.degrees()
+    if m < 0:
         return {}
     out: dict = {"hf_slope_db_per_decade": int(-20 * (n - m))}
     if n != m or stage.form.kind in PASSBAND_AT_HF or h.free_symbols() - {S} - set(values):
@@ -234,7 +234,8 @@ def stability(h: NetworkFunction, values: Mapping) -> str | None:
     """``stable``, ``marginal`` (poles on the jw axis) or ``unstable`` (poles in the right
     half-plane) at the given values; None when a symbol has no value.
 
-    Poles are the roots of the denominator at the values (sympy nroots, 30 digits).
+    Poles are the roots of the denominator at the values (exact coefficients from the flint
+    polynomials, then :func:`pole_values`).
 
     Parameters
     ----------
@@ -255,12 +256,13 @@ def stability(h: NetworkFunction, values: Mapping) -> str | None:
     >>> stability(NetworkFunction.from_expr(1 / (1 + S**2)), {})
     'marginal'
     """
-    if h.infinite:
+    cv = h.coefficient_values(values, exact=True)  # None when a value is missing: nothing expanded
+    if cv is None:
         return None
-    den = sympy.expand(h.den.xreplace(dict(values)))
-    if den.free_symbols - {S}:
-        return None
-    poly = sympy.Poly(den, S)
+    dcs = list(cv[1])
+    while len(dcs) > 1 and dcs[-1] == 0:
+        dcs.pop()
+    poly = sympy.Poly(dcs[::-1], S)
     if poly.degree() < 1:
         return "stable"
     roots = pole_values(poly)

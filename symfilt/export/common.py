@@ -105,6 +105,15 @@ def _resistive(e) -> bool:
     return bool(e.free_symbols) and all(x.name.startswith("R") for x in e.free_symbols)
 
 
+def _factor(expr):
+    """``sympy.factor`` by python-flint for a ratio of polynomials (the same result, many times
+    faster on long coefficients); sympy's own for anything else (radicals)."""
+    try:
+        return factor_ratio(*sympy.fraction(sympy.together(expr)))
+    except (sympy.PolynomialError, ValueError, TypeError):
+        return sympy.factor(expr)
+
+
 def _split_parallel(num_factors: list, den_sum: sympy.Expr):
     """Find A + B = den_sum with A * B dividing the numerator's product."""
     terms = sympy.Add.make_args(den_sum)
@@ -119,8 +128,13 @@ def _split_parallel(num_factors: list, den_sum: sympy.Expr):
                 continue
             rest = sympy.cancel(num / (a * b))
             if sympy.fraction(rest)[1] == 1 and not (a.is_number or b.is_number):
-                return sympy.factor(a), sympy.factor(b), rest
+                return _factor(a), _factor(b), rest
     return None
+
+
+#: Sums longer than this (terms of an expanded numerator or denominator) are not searched for
+#: parallel combinations: the split looks at sums of 2 to 6 terms after factoring.
+PARALLEL_MAX_TERMS = 24
 
 
 def parallel_display(expr):
@@ -146,7 +160,9 @@ def parallel_display(expr):
         return expr
     if expr.has(sympy.Symbol("s")):
         return expr
-    num, den = sympy.fraction(sympy.factor(expr))
+    if any(len(sympy.Add.make_args(part)) > PARALLEL_MAX_TERMS for part in sympy.fraction(expr)):
+        return expr  # a long sum: factoring it costs seconds and no short a || b comes out
+    num, den = sympy.fraction(_factor(expr))
     nf, df = list(sympy.Mul.make_args(num)), list(sympy.Mul.make_args(den))
     for target, other, invert in ((df, nf, False), (nf, df, True)):
         for f in target:
