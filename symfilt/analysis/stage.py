@@ -215,7 +215,8 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     check_polarity(circuit, found)
     if progress:
         progress("standard forms and sensitivities")
-    table = circuit.symbol_table()
+    table_info = circuit.symbols()
+    table = {name: info["symbol"] for name, info in table_info.items()}
     symbols = [sym for name, sym in table.items() if name != "s"]
     loaded = _stage(h, zin, zout, symbols, sensitivity)
     ideal = _stage(h.ideal(), zin.ideal(), zout.ideal(), symbols, sensitivity)
@@ -232,16 +233,20 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     note = None
     if sensitivity:
         blockers = [p.name for p in circuit.parts if p.kind == "inductor" or (p.kind == "opamp" and p.model in ("single-pole", "two-pole"))]
+        params = {n: info["unit"] for n, info in table_info.items() if info["role"] == "parameter"}
+        unknown = tuple(n for n, unit in params.items() if unit is None and table[n] in h.free_symbols())
         if blockers:
             note = finding("sum-rules-own-frequency", parts=tuple(blockers))
+        elif unknown:
+            note = finding("sum-rules-parameter-unit", names=unknown)
         elif loaded.form.w0 is None:
             note = finding("sum-rules-no-w0")
         else:
             amp = [(n, param.unit) for p in circuit.parts for n, param, _v in opamp_parameters(p)]
             res = [p.name for p in circuit.parts if p.kind == "resistor"] + [n for n in (SOURCE_R, LOAD_R) if n in table]
-            res += [n for n, unit in amp if unit == "Ω"]
+            res += [n for n, unit in amp + list(params.items()) if unit == "Ω"]
             caps = [p.name for p in circuit.parts if p.kind == "capacitor"] + [n for n in (LOAD_C,) if n in table]
-            caps += [n for n, unit in amp if unit == "F"]
+            caps += [n for n, unit in amp + list(params.items()) if unit == "F"]
             rules = sum_rules(loaded.sensitivity, res, caps)
     return Analysis(circuit, loaded, ideal, numeric, rules, note, found)
 

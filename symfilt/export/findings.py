@@ -34,6 +34,8 @@ _WORDS: dict[str, Callable[[dict], str]] = {
     "within-tolerance-over-scan": lambda d: "the cutoff stays within the tolerance over the whole range scanned",
     "sum-rules-own-frequency": _own_frequency,
     "sum-rules-no-w0": lambda d: "sum rules not checked: no w0 (not a first- or second-order standard form)",
+    "sum-rules-parameter-unit": lambda d: ("sum rules not checked: the unit of parameter " + ", ".join(d["names"])
+                                           + " does not follow from the parts it sets"),
     "equation-too-large": lambda d: "the equation is too large for a closed form",
     "equation-not-polynomial": lambda d: "the equation is not polynomial in the varied part",
     "equation-degree": lambda d: f"the equation is of degree {d['degree']} in the varied part",

@@ -120,7 +120,7 @@ def _symbol_unit(name: str, info: dict) -> str:
         return "F"
     if info["role"] in ("source", "load"):
         return "Ω"
-    return info.get("unit", "") if info["role"] == "opamp" else ""
+    return (info.get("unit") or "") if info["role"] in ("opamp", "parameter") else ""
 
 
 def node_name(n: str) -> str:
@@ -163,9 +163,13 @@ def part_rows(a: Analysis) -> list[dict]:
         info = symbols.get(name)
         v = None if info is None else info["value"]
         text = "symbolic" if v is None else format_value(v, _symbol_unit(name, info))
+        if info is not None and "tie" in info:
+            text = info["tie"] + ("" if v is None else f" = {text}")
         rows.append({"name": name, "kind": kind, "connection": connection, "value": text,
                      "key": None if v is None else f"symbols.{name}.value", "exact": None if v is None else str(v)})
 
+    for q in c.parameters:
+        value_row(q.name, "parameter", "—")
     for p in c.parts:
         if p.kind == "opamp":
             plus, minus, out = (node_name(n) for n in p.nodes)
