@@ -48,6 +48,7 @@ DIMENSION_UNITS = {(1, 0): "Ω", (-1, 1): "F", (1, 1): "H", (0, 0): ""}
 _TOKEN = re.compile(r"\s*(?:(?P<num>(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d+)?(?:[A-Za-zµμ][0-9A-Za-zµμ]*)?)"
                     r"|(?P<name>[A-Za-z][A-Za-z0-9_]*)|(?P<op>[-+*/()]))", re.ASCII)
 _WORD = re.compile(r"[A-Za-z][A-Za-z0-9_]*", re.ASCII)
+_NAME_START = re.compile(r"(?:^|[\s+\-*/()])[A-Za-z]", re.ASCII)
 _HELP = "write + - * / and parentheses over numbers and names, e.g. R/2, 2*C1 or (R1 + R2)/2"
 
 
@@ -180,8 +181,8 @@ def tie_text(value) -> str | None:
         return body if _WORD.fullmatch(body) else None
     try:
         found = tokens(body, "value")
-    except CircuitError:
-        return None
+    except CircuitError:  # a character no expression has: a tie only when a name stands on its own
+        return body if _NAME_START.search(body) else None
     if any(kind != "num" for kind, _t in found):
         return body
     return None
@@ -533,3 +534,35 @@ def _terms(expr: sympy.Expr) -> list[dict[str, int]]:
             pa, pb = powers(a), powers(b)
             out.append({x: pa.get(x, 0) - pb.get(x, 0) for x in pa.keys() | pb.keys()})
     return out
+
+
+def untied(circuit):
+    """The circuit with every tied part given the value its tie gives, as a part of its own.
+
+    A tie whose value cannot be told (a symbol without a value) stays; parameters no
+    part refers to any more are dropped. For a tolerance study: each tied part is a
+    physical part with its own tolerance.
+
+    Parameters
+    ----------
+    circuit : Circuit
+
+    Examples
+    --------
+    >>> from symfilt.model.circuit import Circuit, Part
+    >>> c = Circuit.build([Part.resistor("R1", "in", "out", "R/2"), Part.capacitor("C1", "out", "0")],
+    ...                   parameters={"R": "10k"})
+    >>> u = untied(c)
+    >>> u.part("R1").value, u.part("R1").tie, u.parameters
+    (5000, None, ())
+    """
+    from dataclasses import replace
+
+    values = tie_values(circuit) if any(p.tie for p in circuit.parts) else {}
+    if not values and not circuit.parameters:
+        return circuit
+    parts = tuple(replace(p, value=values[p.name], tie=None) if values.get(p.name) is not None else p
+                  for p in circuit.parts)
+    out = replace(circuit, parts=parts)
+    unused = set(unused_parameters(out))
+    return replace(out, parameters=tuple(q for q in circuit.parameters if q.name not in unused))
