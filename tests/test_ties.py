@@ -280,3 +280,11 @@ def test_unused_parameter_is_a_warning(run_cli, tmp_path):
     path.write_text(file_with('R = "10k"\nk = "2"', "R"))
     code, out, err = run_cli("derive", str(path), "--quantity", "cutoff")
     assert code == 0 and "warning: parameters k: no part's value refers to it" in err
+
+
+def test_check_reads_a_tied_part_in_a_claim_as_its_tie(run_cli):
+    # w0 = 1/(R C) (handbook, above); C3 R3 = 2C R/2 = R C, so 1/(C3 R3) is the same claim
+    code, out, _err = run_cli("check", "@twin-t-notch-tied", "1/(C3*R3)", "--quantity", "w0", "--ideal")
+    assert code == 0 and out.startswith("equal")
+    code, out, _err = run_cli("check", "@twin-t-notch-tied", "1/(2*C3*R3)", "--quantity", "w0", "--ideal")
+    assert code == 1 and out.startswith("different")
