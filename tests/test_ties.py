@@ -239,7 +239,8 @@ def test_note_lists_parameters_and_ties(tmp_path):
 
     written = write_note(twin_t(), tmp_path / "note.md")
     text = written[0].read_text()
-    assert "R/2 = 5 kΩ" in text and "parameter" in text
+    assert "Tied values (each follows from the parameters and parts it names): R1 = R," in text
+    assert "R3 = R/2." in text and "| R | parameter |" in text and "resistor, tied" in text
 
 
 # --- errors --------------------------------------------------------------------------------------

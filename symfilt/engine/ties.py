@@ -2,7 +2,9 @@
 
 The engine derives with every part as its own symbol; a tied part's symbol is then
 replaced by its expression (a ratio ``p/q`` of polynomials in the free symbols,
-:meth:`symfilt.model.circuit.Circuit.ties`). For a polynomial ``sum_k c_k t^k`` of
+:meth:`symfilt.model.circuit.Circuit.ties`). Ties with a constant ``q`` (``R/2``,
+``2*C``, ``R1*k``: the usual ones) are put in together by one flint ``compose``. For the
+others, a polynomial ``sum_k c_k t^k`` of
 top degree ``T`` in the tied symbol ``t`` (taken over numerator and denominator
 together), both are multiplied by ``q^T``: it becomes ``sum_k c_k p^k q^(T - k)``,
 so the ratio stays a ratio of polynomials and no fraction appears. The common
@@ -51,28 +53,35 @@ def substitute_ties(ratio: Ratio, ties: Mapping[str, sympy.Expr], where: str = "
     >>> substitute_ties(r, {"R1": R / 2, "C1": 2 * C}).to_sympy()
     (1, C*R*s + 1)
     """
-    names = list(ratio.num.context().names())
-    used = {nm: ties[nm] for nm in names if nm in ties and ratio.degree(nm) > 0}
+    old = list(ratio.num.context().names())
+    used = {nm: ties[nm] for nm in old if nm in ties and ratio.degree(nm) > 0}
     if not used or ratio.infinite or ratio.num == 0:
         return ratio
-    symbols = dict(ratio.symbols)
-    pairs = {}
-    for nm, expr in used.items():
-        n, d = sympy.fraction(sympy.together(sympy.sympify(expr)))
-        for x in sorted(n.free_symbols | d.free_symbols, key=lambda x: x.name):
+    symbols, names = dict(ratio.symbols), list(old)
+    for expr in used.values():
+        for x in sorted(sympy.sympify(expr).free_symbols, key=lambda x: x.name):
             if x.name not in symbols:
                 symbols[x.name] = x
                 names.append(x.name)
-        pairs[nm] = (n, d)
     ctx = flint.fmpq_mpoly_ctx.get(tuple(names), "degrevlex")
-    width = ratio.num.context().nvars()
-    pad = (0,) * (len(names) - width)
-    lift = lambda p: ctx.from_dict({e + pad: int(c) for e, c in p.to_dict().items()})
+    gens = dict(zip(names, ctx.gens()))
+    images, later = [], []
+    for k, nm in enumerate(old):
+        if nm not in used:
+            images.append(gens[nm])
+            continue
+        n, d = sympy.fraction(sympy.together(sympy.sympify(used[nm])))
+        p, q = _flint_of(n, gens, ctx), _flint_of(d, gens, ctx)
+        if q.total_degree() <= 0:  # R/2, 2*C: a polynomial image, put in by one compose
+            images.append(p / q.coeffs()[0])
+        else:
+            images.append(gens[nm])
+            later.append((k, p, q))
+    old_ctx = flint.fmpq_mpoly_ctx.get(tuple(old), "degrevlex")
+    lift = lambda poly: old_ctx.from_dict(poly.to_dict()).compose(*images, ctx=ctx)
     num, den = lift(ratio.num), lift(ratio.den)
-    for nm, (n, d) in pairs.items():
-        k = names.index(nm)
+    for k, p, q in later:
         top = max(num.degrees()[k], den.degrees()[k])
-        p, q = _to_ctx(n, ctx, names), _to_ctx(d, ctx, names)
         num, den = _put_in(num, k, top, p, q), _put_in(den, k, top, p, q)
     if den == 0:
         raise SingularCircuitError(where, "with the tied values the equations have no unique solution",
@@ -80,18 +89,21 @@ def substitute_ties(ratio: Ratio, ties: Mapping[str, sympy.Expr], where: str = "
     return reringed(num, den, symbols)
 
 
-def _to_ctx(expr: sympy.Expr, ctx, names: list):
-    """A polynomial expression (rational coefficients) as an fmpq polynomial of ``ctx``."""
-    gens = sorted(expr.free_symbols, key=lambda x: x.name)
-    index = [names.index(x.name) for x in gens]
-    out = {}
-    for monom, coeff in sympy.Poly(expr, *gens).terms() if gens else [((), sympy.Rational(expr))]:
-        e = [0] * len(names)
-        for i, power in zip(index, monom):
-            e[i] = int(power)
-        c = sympy.Rational(coeff)
-        out[tuple(e)] = flint.fmpq(int(c.p), int(c.q))
-    return ctx.from_dict(out)
+def _flint_of(expr: sympy.Expr, gens: dict, ctx):
+    """A polynomial expression with rational coefficients as an fmpq polynomial of ``ctx``."""
+    if expr.is_Symbol:
+        return gens[expr.name]
+    if expr.is_Rational:
+        return ctx.from_dict({(0,) * ctx.nvars(): flint.fmpq(int(expr.p), int(expr.q))})
+    if expr.is_Add or expr.is_Mul:
+        parts = [_flint_of(a, gens, ctx) for a in expr.args]
+        out = parts[0]
+        for part in parts[1:]:
+            out = out + part if expr.is_Add else out * part
+        return out
+    if expr.is_Pow and expr.exp.is_Integer and expr.exp >= 0:
+        return _flint_of(expr.base, gens, ctx) ** int(expr.exp)
+    raise ValueError(f"not a polynomial: {expr}")
 
 
 def _put_in(poly, k: int, top: int, p, q):

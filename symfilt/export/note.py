@@ -139,6 +139,26 @@ def node_name(n: str) -> str:
     return "ground" if n == "0" else n
 
 
+def tie_lines(a: Analysis) -> list[str]:
+    """The tied parts as ``R3 = R/2``, for the line under the parts table (empty without ties).
+
+    A tie's numbers are part of its expression, not results, so they stay out of the tables.
+
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> tie_lines(analyse(catalogue.build("twin-t-notch-tied"), sensitivity=False))[-1]
+    'R3 = R/2'
+    """
+    return [f"{p.name} = {p.tie}" for p in a.circuit.parts if p.tie is not None]
+
+
 def part_rows(a: Analysis) -> list[dict]:
     """One row per part and fixture: name, kind, connection, value text and its JSON path.
 
@@ -164,7 +184,7 @@ def part_rows(a: Analysis) -> list[dict]:
         v = None if info is None else info["value"]
         text = "symbolic" if v is None else format_value(v, _symbol_unit(name, info))
         if info is not None and "tie" in info:
-            text = info["tie"] + ("" if v is None else f" = {text}")
+            kind = f"{kind}, tied"
         rows.append({"name": name, "kind": kind, "connection": connection, "value": text,
                      "key": None if v is None else f"symbols.{name}.value", "exact": None if v is None else str(v)})
 
