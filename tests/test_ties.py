@@ -307,3 +307,30 @@ def test_ties_with_sums_and_quotients_equal_the_untied_derivation(quantity):
     h_tied, h_free = derive(tied, quantity), derive(free, quantity)
     assert not ({free.part(n).symbol for n in ties} & h_tied.free_symbols())
     assert same(h_tied.as_expr(), h_free.as_expr().xreplace(by_symbol))
+
+
+def test_a_tie_of_the_wrong_unit_is_a_warning():
+    # R1 = 2*C1 mixes a resistance with a capacitance; R2 = R + 100 adds 100 ohm (no warning)
+    c = Circuit.build([Part.resistor("R1", "in", "out", "2*C1"), Part.capacitor("C1", "out", "0", "1n"),
+                       Part.resistor("R2", "out", "0", "R + 100"), Part.resistor("R3", "out", "0", "R1*k")],
+                      parameters={"R": "1k", "k": "3"})
+    assert structure_warnings(c) == [
+        "part R1: its tie 2*C1 is no resistance (a term of it is a capacitance), check the names in it"]
+    assert parameter_units(c) == {"R": "Ω", "k": ""}
+
+
+from hypothesis import given, settings  # noqa: E402
+from hypothesis import strategies as st  # noqa: E402
+
+
+@settings(max_examples=300, deadline=None, derandomize=True, database=None)
+@given(st.text(alphabet="RCk12.e-+*/()% ^nu_", max_size=30))
+def test_any_tie_text_is_a_circuit_or_one_symfilt_error(text):
+    # bad input is a SymfiltError (one line at the command line), never another exception
+    try:
+        c = Circuit.build([Part.resistor("R1", "in", "out", text), Part.capacitor("C1", "out", "0", "1n")],
+                          parameters={"R": "1k", "C": "1n", "k": "symbol"})
+    except SymfiltError as exc:
+        assert "\n" not in str(exc)
+        return
+    derive(c)  # and a circuit that was accepted derives

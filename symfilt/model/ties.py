@@ -419,15 +419,22 @@ def check_ties(circuit) -> None:
     values = {q.symbol: q.value for q in circuit.parameters if q.value is not None}
     values.update({part.symbol: part.value for part in circuit.parts if part.value is not None and part.tie is None})
     for p in circuit.parts:
-        if p.name in ties and p.kind in ("resistor", "capacitor", "inductor"):
-            _check_positive(p, ties[p.name], values)
+        if p.name in ties:
+            _check_value(p, ties[p.name], values)
 
 
-def _check_positive(part, expr: sympy.Expr, values: dict) -> None:
+def _check_value(part, expr: sympy.Expr, values: dict) -> None:
+    """A tied value must be finite at the values; a passive part's must be positive."""
     where = f"part {part.name}"
     fix = "give a tie that is positive at the parameters' values"
-    if expr.free_symbols <= set(values):
-        v = expr.xreplace(values)
+    known = expr.free_symbols <= set(values)
+    v = expr.xreplace(values) if known else None
+    if known and not v.is_finite:
+        raise CircuitError(where, f"the tied value {part.tie} divides by zero at the values",
+                           "change the tie or the values it refers to")
+    if part.kind not in KIND_UNITS:
+        return
+    if known:
         if v <= 0:
             raise CircuitError(where, f"the tied value {part.tie} is {format_value(v, KIND_UNITS[part.kind])}, not positive", fix)
     elif expr.is_positive is False or expr == 0:
@@ -501,6 +508,13 @@ def parameter_units(circuit) -> dict[str, str | None]:
     >>> parameter_units(c)
     {'R': 'Ω', 'C': 'F', 'k': ''}
     """
+    dims, found, _rules = _dimensions(circuit)
+    return {q.name: (DIMENSION_UNITS.get(dims[q.name]) if len(found[q.name]) == 1 else None)
+            for q in circuit.parameters}
+
+
+def _dimensions(circuit):
+    """(name -> dimension or None, parameter -> dimensions found, [(part, target, term)])."""
     dims: dict[str, tuple | None] = {p.name: KIND_DIMENSIONS.get(p.kind) for p in circuit.parts}
     unknown = {q.name for q in circuit.parameters}
     for name in unknown:
@@ -508,10 +522,10 @@ def parameter_units(circuit) -> dict[str, str | None]:
     rules = []
     for p in circuit.parts:
         if p.tie is not None and p.kind in KIND_DIMENSIONS:
-            rules += [(KIND_DIMENSIONS[p.kind], term) for term in _terms(parse_tie(p.tie)[0])]
+            rules += [(p, KIND_DIMENSIONS[p.kind], term) for term in _terms(parse_tie(p.tie)[0])]
     found: dict[str, set] = {name: set() for name in unknown}
     for _round in range(len(unknown) + 1):
-        for target, term in rules:
+        for _p, target, term in rules:
             open_ = [x for x, e in term.items() if dims.get(x) is None and e != 0]
             if len(open_) == 1 and open_[0] in unknown:
                 x = open_[0]
@@ -520,8 +534,39 @@ def parameter_units(circuit) -> dict[str, str | None]:
         for x in unknown:
             if dims[x] is None and len(found[x]) == 1:
                 dims[x] = next(iter(found[x]))
-    return {q.name: (DIMENSION_UNITS.get(dims[q.name]) if len(found[q.name]) == 1 else None)
-            for q in circuit.parameters}
+    return dims, found, rules
+
+
+def unit_warnings(circuit) -> list[str]:
+    """A message for each tied part whose tie does not give its kind's unit (``R1 = "2*C1"``).
+
+    Parameters
+    ----------
+    circuit : Circuit
+
+    Examples
+    --------
+    >>> from symfilt.model.circuit import Circuit, Part
+    >>> c = Circuit.build([Part.resistor("R1", "in", "out", "2*C1"), Part.capacitor("C1", "out", "0", "1n")])
+    >>> unit_warnings(c)
+    ['part R1: its tie 2*C1 is no resistance (a term of it is a capacitance), check the names in it']
+    """
+    dims, _found, rules = _dimensions(circuit)
+    words = {(1, 0): "a resistance", (-1, 1): "a capacitance", (1, 1): "an inductance", (0, 0): "a plain number"}
+    nouns = {"resistor": "resistance", "capacitor": "capacitance", "inductor": "inductance", "vcvs": "gain",
+             "cccs": "gain", "vccs": "transconductance", "ccvs": "transresistance"}
+    out, seen = [], set()
+    for p, target, term in rules:
+        names = [x for x, e in term.items() if e != 0]
+        # a number alone has the part's unit (R + 100 is R plus 100 ohm): only terms with names count
+        if p.name in seen or not names or any(dims.get(x) is None for x in names):
+            continue
+        dim = tuple(sum(Fraction(term[x]) * dims[x][i] for x in names) for i in (0, 1))
+        if dim != target:
+            seen.add(p.name)
+            out.append(f"part {p.name}: its tie {p.tie} is no {nouns[p.kind]} "
+                       f"(a term of it is {words.get(dim, 'of another unit')}), check the names in it")
+    return out
 
 
 def _terms(expr: sympy.Expr) -> list[dict[str, int]]:
