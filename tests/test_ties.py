@@ -24,7 +24,8 @@ from symfilt.export.text import render
 from symfilt.model.circuit import Circuit, Part, S
 from symfilt.model.circuit_file import circuit_to_text, parse_circuit_text
 from symfilt.model.structure import structure_warnings
-from symfilt.model.ties import parameter_units, parse_tie, untied
+from symfilt.model.expression import parse_tie
+from symfilt.model.ties import parameter_units, untied
 
 pos = lambda names: sympy.symbols(names, positive=True)
 R, C, k = pos("R C k")

@@ -26,7 +26,8 @@ from symfilt.errors import CircuitError
 from symfilt.model.fixture import Fixture
 from symfilt.model.names import GROUND, check_symbol_name, clip_name, is_ground, node_name
 from symfilt.model.opamp import OPAMP_MODELS, check_opamp_options, opamp_parameters
-from symfilt.model.ties import TIEABLE, Parameter, parse_tie, rkm_value, tie_text
+from symfilt.model.expression import parse_tie, rkm_value, tie_text
+from symfilt.model.ties import TIEABLE, Parameter
 from symfilt.model.values import parse_value
 
 #: Part kinds and their pins.
