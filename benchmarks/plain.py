@@ -96,6 +96,10 @@ def nodal_equations(circuit: Circuit):
                     a = a0 * wb / (a0 * S + wb)
                 eqs.append(sympy.Eq(out, a * (plus - minus)))
     eqs = [sympy.Eq(kcl[n], 0) for n in nodes] + eqs
+    # tied values (R3 = R/2) go straight into the equations, as a user would write them
+    tied = {circuit.part(name).symbol: expr for name, expr in circuit.ties().items()}
+    if tied:
+        eqs = [e.xreplace(tied) for e in eqs]
     return eqs, unknowns, volt[circuit.output]
 
 

@@ -256,7 +256,7 @@ def check(circuit, claim, quantity, ideal, fmt):
         raise UsageError(f"--quantity {quantity}", f"the circuit has no closed form for {quantity}",
                          "check another quantity, such as transfer")
     values = {str(k): v for k, v in c.values().items()}
-    result = equivalent(claim, derived, symbols=c.symbol_table(), values=values)
+    result = equivalent(claim, derived, symbols=c.symbol_table(), values=values, ties=c.ties())
     _emit(check_json(result) + "\n" if fmt == "json" else check_text(result))
     return 0 if result.equivalent else 1
 

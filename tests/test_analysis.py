@@ -495,6 +495,8 @@ def _scaling_class(name: str, info: dict) -> str:
         return "R"
     if name == "C_L":
         return "C"
+    if info["role"] == "parameter":  # a tied circuit's free symbols: by the unit the ties give
+        return {"Ω": "R", "F": "C", "H": "L", "": "G"}[info["unit"]]
     kind = info.get("kind")
     if kind in ("resistor", "ccvs"):
         return "R"

@@ -38,6 +38,8 @@ EXPECTED_KIND = {
     "sallen-key-lowpass-gain": (2, "lowpass"), "mfb-bandpass": (2, "bandpass"),
     "twin-t-notch": (3, "general"), "rc-ladder": (3, "general"), "state-variable": (2, "lowpass"),
     "adc-driver": (2, "lowpass"),
+    # tied R, R, R/2 and C, C, 2C: the second-order notch (REFERENCES.md, twin-T)
+    "twin-t-notch-tied": (2, "notch"),
 }
 
 

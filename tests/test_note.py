@@ -29,7 +29,7 @@ from symfilt.export.note_write import note_latex, note_markdown, write_note
 from symfilt.export.note_html import note_html
 from symfilt.export.plot import bode_svg, plot_bode, render_bode
 
-NOTE_CIRCUITS = ["sallen-key-lowpass", "rc-lowpass", "mfb-bandpass", "twin-t-notch", "state-variable"]
+NOTE_CIRCUITS = ["sallen-key-lowpass", "rc-lowpass", "mfb-bandpass", "twin-t-notch", "state-variable", "twin-t-notch-tied"]
 VOID = {"meta", "br", "hr", "img", "input", "link", "col", "area", "base", "source", "wbr", "mspace",
         "path", "use", "stop", "rect", "circle", "ellipse", "line", "polyline", "polygon"}
 PREFIX = {"p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3, "": 1.0, "k": 1e3, "M": 1e6, "G": 1e9}

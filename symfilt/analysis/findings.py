@@ -15,7 +15,7 @@ KINDS = frozenset({
     # analysis/loading.py: why a load limit has no value
     "fixture-has-no-effect", "needs-every-value", "bound-outside-scan", "within-tolerance-over-scan",
     # analysis/stage.py: why the sum rules were not checked
-    "sum-rules-own-frequency", "sum-rules-no-w0",
+    "sum-rules-no-w0", "sum-rules-parameter-unit",
     # design/sizing.py
     "equation-too-large", "equation-not-polynomial", "equation-degree", "equation-factor-degree",
     "no-closed-form-quantity", "closed-form-roots-miss", "dc-gain-sign", "numeric-root-unconfirmed",
@@ -41,8 +41,8 @@ class Finding:
 
     Examples
     --------
-    >>> f = finding("sum-rules-own-frequency", parts=("L1",))
-    >>> f.get("parts"), "L1" in f, "R1" in f
+    >>> f = finding("sum-rules-parameter-unit", names=("L1",))
+    >>> f.get("names"), "L1" in f, "R1" in f
     (('L1',), True, False)
     """
 

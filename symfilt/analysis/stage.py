@@ -284,7 +284,8 @@ def scaling_classes(circuit: Circuit) -> dict[str, str]:
     -------
     dict
         Symbol name -> ``resistors``, ``capacitors``, ``inductors``, ``bandwidths``,
-        ``transconductances`` or ``gains`` (a ccvs's transresistance counts as a resistor).
+        ``transconductances`` or ``gains`` (a ccvs's transresistance counts as a resistor; a
+        parameter by the unit inferred from the parts it sets, left out when that is unknown).
 
     Examples
     --------
@@ -301,6 +302,9 @@ def scaling_classes(circuit: Circuit) -> dict[str, str]:
             out[p.name] = _KIND_CLASS[p.kind]
     table = circuit.symbol_table()
     out.update({n: ("capacitors" if n == LOAD_C else "resistors") for n in (SOURCE_R, LOAD_R, LOAD_C) if n in table})
+    units = {"Ω": "resistors", "F": "capacitors", "H": "inductors", "": "gains"}
+    out.update({n: units[info["unit"]] for n, info in circuit.symbols().items()
+                if info["role"] == "parameter" and info["unit"] in units})
     return out
 
 
@@ -341,7 +345,8 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     check_polarity(circuit, found)
     if progress:
         progress("standard forms and sensitivities")
-    table = circuit.symbol_table()
+    table_info = circuit.symbols()
+    table = {name: info["symbol"] for name, info in table_info.items()}
     symbols = [sym for name, sym in table.items() if name != "s"]
     at_hz = None if at is None else _frequency(at)
     loaded = _stage(h, zin, zout, symbols, sensitivity, at_hz)
@@ -358,9 +363,14 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     rules: tuple = ()
     note = None
     if sensitivity:
-        rules = sum_rules(loaded.sensitivity, scaling_classes(circuit))
-        if not rules:
-            note = finding("sum-rules-no-w0")
+        params = {n: info["unit"] for n, info in table_info.items() if info["role"] == "parameter"}
+        unknown = tuple(n for n, unit in params.items() if unit is None and table[n] in h.free_symbols())
+        if unknown:
+            note = finding("sum-rules-parameter-unit", names=unknown)
+        else:
+            rules = sum_rules(loaded.sensitivity, scaling_classes(circuit))
+            if not rules:
+                note = finding("sum-rules-no-w0")
     return Analysis(circuit, loaded, ideal, numeric, rules, note, found, at_hz)
 
 

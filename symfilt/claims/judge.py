@@ -88,7 +88,7 @@ def _claim_expr(claim: Any, table: dict[str, sympy.Symbol]) -> sympy.Expr:
 
 
 def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping[str, Any] | None = None,
-               rng_seed: int = 0) -> Equivalence:
+               rng_seed: int = 0, ties: Mapping[str, sympy.Expr] | None = None) -> Equivalence:
     """Decide whether a hand derivation equals a derived quantity, and if not, why.
 
     Parameters
@@ -105,6 +105,9 @@ def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping
         Values for the counterexample (others are drawn at random).
     rng_seed : int
         Seed of the sample points and random values.
+    ties : Mapping[str, sympy.Expr], optional
+        Tied part name -> its expression (:meth:`symfilt.model.circuit.Circuit.ties`):
+        the claim may use a tied part's name, which stands for its tie.
 
     Returns
     -------
@@ -124,6 +127,9 @@ def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping
     >>> r = equivalent("1/(1 + s*R1*C1)", h)
     >>> r.equivalent, r.method, r.diagnosis[0].kind, r.diagnosis[0].data["limits"]
     (False, 'exact', 'left-out', (('R_L', False, 'load'),))
+    >>> R, R3 = sympy.symbols("R R3", positive=True)
+    >>> equivalent("1/(2*R3*C1)", 1 / (R * C1), symbols=[R3], ties={"R3": R / 2}).equivalent
+    True
     """
     target = _as_expr(derived)
     table = {x.name: x for x in target.free_symbols}
@@ -140,6 +146,8 @@ def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping
         except (TypeError, ValueError):
             raise UsageError("values", f"the value of {name} is not a number", "pass numbers") from None
     hand = _claim_expr(claim, table)
+    if ties:
+        hand = hand.xreplace({table[name]: sympy.sympify(e) for name, e in ties.items() if name in table})
     judge = Judge(hand.free_symbols | target.free_symbols | {table["s"]}, rng_seed)
     same, method, points = judge.same(hand, target)
     if same:

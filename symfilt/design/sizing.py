@@ -292,7 +292,16 @@ def _varied_symbols(circuit: Circuit, vary: Sequence[str]):
             raise UsageError("--vary", f"{name} is a {info.get('kind')}", "vary a resistor, capacitor or inductor")
         if info["role"] == "opamp":
             raise UsageError("--vary", f"{name} is an op-amp parameter", "vary a resistor, capacitor or inductor")
-        out.append((name, info["symbol"], info["value"], info.get("kind", "resistor" if name != LOAD_C else "capacitor")))
+        if "tie" in info:
+            raise UsageError("--vary", f"{name} is tied ({name} = {info['tie']})",
+                             "vary a parameter or part it refers to, or give it a value of its own")
+        kind = info.get("kind", "resistor" if name != LOAD_C else "capacitor")
+        if info["role"] == "parameter":
+            kind = {"Ω": "resistor", "F": "capacitor", "H": "inductor"}.get(info["unit"])
+            if kind is None:
+                raise UsageError("--vary", f"parameter {name} is no resistance, capacitance or inductance",
+                                 "vary a parameter that sets resistors, capacitors or inductors")
+        out.append((name, info["symbol"], info["value"], kind))
     return out
 
 

@@ -367,7 +367,8 @@ def spread(circuit: Circuit, tolerances: Mapping[str, float], *, distribution: s
     Parameters
     ----------
     circuit : Circuit
-        Every symbol needs a value.
+        Every symbol needs a value. Tied parts are spread as parts of their own, each
+        from the value its tie gives (:func:`symfilt.model.ties.untied`).
     tolerances : mapping
         Name -> tolerance as a fraction; names are parts, fixtures, op-amp
         parameters, or the classes ``R``, ``C``, ``L`` (a part's name overrides its class).
@@ -395,7 +396,10 @@ def spread(circuit: Circuit, tolerances: Mapping[str, float], *, distribution: s
     """
     import numpy as np
 
+    from symfilt.model.ties import untied
+
     _check_run(distribution, runs)
+    circuit = untied(circuit)  # a tied part is still a part of its own, with its own tolerance
     tols = expand_tolerances(circuit, tolerances)
     if not tols:
         raise UsageError("--tol", "no part has a tolerance", "give at least one, e.g. --tol R=1%")

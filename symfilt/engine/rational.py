@@ -330,7 +330,7 @@ class Ratio:
         qctx = flint.fmpq_mpoly_ctx.get(tuple(self.num.context().names()), "degrevlex")
         num = qctx.from_dict(self.num.to_dict()).subs(point)
         den = qctx.from_dict(self.den.to_dict()).subs(point)
-        return _reringed(num, den, self.symbols)
+        return reringed(num, den, self.symbols)
 
 
 def _integer_ratio(fn, fd, gens: list) -> Ratio:
@@ -348,9 +348,24 @@ def _integer_ratio(fn, fd, gens: list) -> Ratio:
     return Ratio(conv(fn), conv(fd), symbols)
 
 
-def _reringed(num, den, symbols: dict) -> Ratio:
+def reringed(num, den, symbols: dict) -> Ratio:
     """Cancel a pair of fmpq polynomials in the ring of the symbols they still contain
-    (sorted by name, pi last, as :meth:`Ratio.from_sympy` orders them)."""
+    (sorted by name, pi last, as :meth:`Ratio.from_sympy` orders them).
+
+    Parameters
+    ----------
+    num, den : flint.fmpq_mpoly
+        In one context.
+    symbols : dict
+        Generator name -> sympy object, for every generator of that context.
+
+    Examples
+    --------
+    >>> q = flint.fmpq_mpoly_ctx.get(("x", "y"), "degrevlex")
+    >>> x, y = q.gens()
+    >>> reringed(x * x / 2, x, {"x": sympy.Symbol("x"), "y": sympy.Symbol("y")}).to_sympy()
+    (x, 2)
+    """
     names = num.context().names()
     used = [k for k, (a, b) in enumerate(zip(num.degrees(), den.degrees())) if max(a, b) > 0]
     used.sort(key=lambda k: (symbols[names[k]] is sympy.pi, symbols[names[k]].name

@@ -14,6 +14,7 @@ from typing import Callable
 
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS, Ratio, solve
 from symfilt.engine.mna import build_system
+from symfilt.engine.ties import substitute_ties
 from symfilt.model.stamps import DRIVES
 from symfilt.errors import UsageError
 from symfilt.model.circuit import Circuit
@@ -54,6 +55,8 @@ def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = 
     Returns
     -------
     Ratio
+        In the free symbols: a tied part's symbol is replaced by its expression
+        (:func:`symfilt.engine.ties.substitute_ties`).
 
     Raises
     ------
@@ -77,5 +80,7 @@ def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = 
         if name not in system.unknowns:
             raise UsageError(unknown, "no such node or branch", "name a node of the circuit")
         system = replace(system, target=system.unknowns.index(name))
-    return solve(system, max_terms=max_terms, progress=progress,
-                 where=where if where is not None else circuit.title or "circuit")
+    where = where if where is not None else circuit.title or "circuit"
+    ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
+    ties = circuit.ties()
+    return substitute_ties(ratio, ties, where) if ties else ratio

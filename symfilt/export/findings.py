@@ -12,12 +12,6 @@ from typing import Callable
 from symfilt.analysis.findings import Finding
 
 
-def _own_frequency(d: dict) -> str:
-    parts = d["parts"]
-    own = "has a frequency of its" if len(parts) == 1 else "have frequencies of their"
-    return f"sum rules not checked: {', '.join(parts)} {own} own (an inductor or an op-amp with a gain-bandwidth)"
-
-
 def _dc_gain_sign(d: dict) -> str:
     sign = "negative" if d["negative"] else "positive"
     return f"the DC gain is {sign}; its magnitude is sized to {d['magnitude']:g}"
@@ -32,8 +26,9 @@ _WORDS: dict[str, Callable[[dict], str]] = {
     "needs-every-value": lambda d: "needs values for every part to compute",
     "bound-outside-scan": lambda d: "outside the range scanned",
     "within-tolerance-over-scan": lambda d: "the cutoff stays within the tolerance over the whole range scanned",
-    "sum-rules-own-frequency": _own_frequency,
     "sum-rules-no-w0": lambda d: "sum rules not checked: no w0 (not a first- or second-order standard form)",
+    "sum-rules-parameter-unit": lambda d: ("sum rules not checked: the unit of parameter " + ", ".join(d["names"])
+                                           + " does not follow from the parts it sets"),
     "equation-too-large": lambda d: "the equation is too large for a closed form",
     "equation-not-polynomial": lambda d: "the equation is not polynomial in the varied part",
     "equation-degree": lambda d: f"the equation is of degree {d['degree']} in the varied part",
@@ -76,8 +71,8 @@ def describe(finding: Finding | None) -> str:
     >>> from symfilt.analysis.findings import finding
     >>> describe(finding("notch-has-no-cutoff"))
     'a notch is described by w0 and Q'
-    >>> describe(finding("sum-rules-own-frequency", parts=("L1", "L2")))
-    'sum rules not checked: L1, L2 have frequencies of their own (an inductor or an op-amp with a gain-bandwidth)'
+    >>> describe(finding("sum-rules-parameter-unit", names=("k",)))
+    'sum rules not checked: the unit of parameter k does not follow from the parts it sets'
     """
     if finding is None:
         return ""

@@ -154,7 +154,8 @@ def analysis_dict(a: Analysis, extra: dict | None = None) -> dict:
     """
     c = a.circuit
     symbols = {name: {"role": info["role"], "value": None if info["value"] is None else str(info["value"]),
-                      **({"kind": info["kind"]} if "kind" in info else {})}
+                      **{key: info[key] for key in ("kind", "tie") if key in info},
+                      **({"unit": info["unit"]} if info["role"] == "parameter" else {})}
                for name, info in c.symbols().items()}
     numeric = {k: {kk: (_num(vv) if not isinstance(vv, dict) else vv) for kk, vv in v.items()}
                for k, v in a.numeric.items()}

@@ -121,7 +121,7 @@ def _symbol_unit(name: str, info: dict) -> str:
         return "F"
     if info["role"] in ("source", "load"):
         return "Ω"
-    return info.get("unit", "") if info["role"] == "opamp" else ""
+    return (info.get("unit") or "") if info["role"] in ("opamp", "parameter") else ""
 
 
 def node_name(n: str) -> str:
@@ -138,6 +138,26 @@ def node_name(n: str) -> str:
     ('ground', 'out')
     """
     return "ground" if n == "0" else n
+
+
+def tie_lines(a: Analysis) -> list[str]:
+    """The tied parts as ``R3 = R/2``, for the line under the parts table (empty without ties).
+
+    A tie's numbers are part of its expression, not results, so they stay out of the tables.
+
+    Parameters
+    ----------
+    a : Analysis
+        The result of :func:`symfilt.analysis.stage.analyse`.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> tie_lines(analyse(catalogue.build("twin-t-notch-tied"), sensitivity=False))[-1]
+    'R3 = R/2'
+    """
+    return [f"{p.name} = {p.tie}" for p in a.circuit.parts if p.tie is not None]
 
 
 def part_rows(a: Analysis) -> list[dict]:
@@ -164,9 +184,13 @@ def part_rows(a: Analysis) -> list[dict]:
         info = symbols.get(name)
         v = None if info is None else info["value"]
         text = "symbolic" if v is None else format_value(v, _symbol_unit(name, info))
+        if info is not None and "tie" in info:
+            kind = f"{kind}, tied"
         rows.append({"name": name, "kind": kind, "connection": connection, "value": text,
                      "key": None if v is None else f"symbols.{name}.value", "exact": None if v is None else str(v)})
 
+    for q in c.parameters:
+        value_row(q.name, "parameter", "—")
     for p in c.parts:
         if p.kind == "opamp":
             plus, minus, out = (node_name(n) for n in p.nodes)

@@ -16,7 +16,7 @@ from symfilt.analysis.stage import Analysis
 from symfilt.export.findings import describe
 from symfilt.export.latex import sensitivity_rows
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, has_fixtures, kind_words, node_name, number_rows,
-                   opamp_error_lines, part_rows, plain_number, sensitivity_table, stability_row, standard_form_tex,
+                   opamp_error_lines, part_rows, plain_number, tie_lines, sensitivity_table, stability_row, standard_form_tex,
                    sweep, views)
 
 _CSS = """
@@ -122,6 +122,10 @@ def _html_parts(a: Analysis) -> list[str]:
         out.append(f'<tr><td>{html_name(r["name"])}</td><td>{escape(r["kind"])}</td>'
                    f'<td>{escape(r["connection"])}</td>{cell}</tr>')
     out.append("</tbody></table>")
+    ties = tie_lines(a)
+    if ties:
+        out.append("<p>Tied values (each follows from the parameters and parts it names): "
+                   + escape(", ".join(ties)) + ".</p>")
     return out
 
 

@@ -21,7 +21,7 @@ from symfilt.export.formats import note_kind
 from symfilt.export.latex import stage_equations
 from symfilt.export.outfile import write_bytes_atomic, write_text_atomic
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, kind_words, node_name,
-                                 number_rows, part_rows, sensitivity_table, show_number, stability_row,
+                                 number_rows, part_rows, sensitivity_table, tie_lines, show_number, stability_row,
                                  opamp_error_lines, standard_form_tex, sweep, views)
 
 
@@ -74,6 +74,9 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
     out += ["", "## Parts", "", "| Part | Kind | Connection | Value |", "|---|---|---|---:|"]
     for r in part_rows(a):
         out.append(f"| {r['name']} | {_md_cell(r['kind'])} | {_md_cell(r['connection'])} | {r['value']} |")
+    if tie_lines(a):
+        out += ["", "Tied values (each follows from the parameters and parts it names): "
+                + ", ".join(tie_lines(a)) + "."]
     out += ["", "## Equations", ""]
     for view, vtitle in views(a):
         st = getattr(a, view)

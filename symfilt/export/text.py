@@ -138,16 +138,20 @@ def _fmt_num(x, unit: str = "") -> str:
 
 def _symbol_rows(a: Analysis) -> list[str]:
     rows = []
-    for name, info in a.circuit.symbols().items():
+    table = a.circuit.symbols()
+    width = max([7] + [len(info["role"]) for info in table.values()])
+    for name, info in table.items():
         if info["role"] == "laplace":
             continue
         unit = {"source": "Ω", "load": "F" if name == "C_L" else "Ω"}.get(info["role"], "")
         if info["role"] == "part":
             unit = _UNITS.get(info.get("kind", ""), "")
-        if info["role"] == "opamp":
-            unit = info.get("unit", "")
+        if info["role"] in ("opamp", "parameter"):
+            unit = info.get("unit") or ""
         value = "symbolic" if info["value"] is None else format_value(info["value"], unit)
-        rows.append(f"  {name:<10} {info['role']:<7} {value}")
+        if "tie" in info:  # a tied part: its expression, then the value it gives
+            value = f"{name} = {info['tie']}" + ("" if info["value"] is None else f" ({value})")
+        rows.append(f"  {name:<10} {info['role']:<{width}} {value}")
     return rows
 
 
@@ -197,7 +201,8 @@ def _numbers(a: Analysis) -> list[str]:
         rows.append("  undefined: the formula divides by zero at these values (the formulas above still hold)")
     if lo.get("no_cutoff") or hi.get("no_cutoff"):
         rows.append("  none: |H| never falls 3 dB below its pass-band gain at these values (no cutoff)")
-    missing = [n for n, info in a.circuit.symbols().items() if info["value"] is None and info["role"] != "laplace"]
+    missing = [n for n, info in a.circuit.symbols().items()
+               if info["value"] is None and info["role"] != "laplace" and "tie" not in info]
     if missing and any(k not in d for d in (lo, hi) for k in ("cutoff_hz", "dc_gain") if k in lo or k in hi):
         rows.append("  needs values: give " + ", ".join(missing) + " a value for these numbers")
     for key, d in (("loaded", lo), ("ideal", hi)):

@@ -280,6 +280,36 @@ def twin_t_notch(R="10k", C="15n", source="50", load="100k", load_capacitance=No
                          source=source, load=load, load_capacitance=load_capacitance, title="Twin-T notch, passive")
 
 
+def twin_t_notch_tied(R="10k", C="15n", source="50", load="100k", load_capacitance=None) -> Circuit:
+    """The twin-T notch of :func:`twin_t_notch` with its values tied to two parameters.
+
+    Parameters R and C; R1 = R2 = R, R3 = R/2, C1 = C2 = C, C3 = 2*C, so the derivation
+    is in R and C alone and the balanced twin-T comes out as the second-order notch
+    it is (w0 = 1/(R C), Q = 1/4 unloaded).
+
+    Parameters
+    ----------
+    R, C : str, number or None
+        The parameters' values (``"10k"``); None keeps a parameter a symbol.
+    source, load, load_capacitance : str or None
+        R_s, R_L and C_L: a value, ``"symbol"`` or ``"none"``.
+
+    Returns
+    -------
+    Circuit
+
+    Examples
+    --------
+    >>> c = twin_t_notch_tied()
+    >>> c.part("R3").tie, c.symbols()["R3"]["value"]
+    ('R/2', 5000)
+    """
+    return Circuit.build([R_("R1", "in", "a", "R"), R_("R2", "a", "out", "R"), C_("C3", "a", "0", "2*C"),
+                          C_("C1", "in", "m", "C"), C_("C2", "m", "out", "C"), R_("R3", "m", "0", "R/2")],
+                         source=source, load=load, load_capacitance=load_capacitance,
+                         title="Twin-T notch, passive, tied values", parameters={"R": R, "C": C})
+
+
 def adc_driver(R_iso="22", C_res="1n", gain="1M", gbw="50M", rout="40", source="50", load=None,
                load_capacitance="30p") -> Circuit:
     """Op-amp follower driving a converter input: U1 (single-pole, with Rout) -> R_iso -> out.
@@ -439,6 +469,8 @@ CATALOGUE: dict[str, Entry] = {e.name: e for e in [
           "second-order Sallen-Key low-pass, equal R and C, gain K = 1 + Rf/Rg"),
     Entry("mfb-bandpass", mfb_bandpass, "second-order multiple-feedback band-pass, inverting"),
     Entry("twin-t-notch", twin_t_notch, "passive twin-T notch (R, R, R/2 and C, C, 2C)"),
+    Entry("twin-t-notch-tied", twin_t_notch_tied,
+          "the same twin-T with its values tied to parameters R and C: a second-order notch"),
     Entry("rc-ladder", rc_ladder, "passive RC ladder of n equal sections (n = 3 by default)"),
     Entry("state-variable", state_variable,
           "three-op-amp state-variable filter; output = lp, bp or hp (lp by default)"),

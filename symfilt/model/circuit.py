@@ -17,17 +17,17 @@ Ground is the node ``0`` or ``gnd`` (any case); it is stored as ``"0"``.
 from __future__ import annotations
 
 import difflib
-import keyword
-import re
 from dataclasses import dataclass, field, replace
 from typing import Iterable, Mapping
 
 import sympy
 
-from symfilt.errors import CircuitError, SizeLimitError
+from symfilt.errors import CircuitError
 from symfilt.model.fixture import Fixture
-from symfilt.model.names import GROUND, MAX_NAME, clip_name, is_ground, node_name
-from symfilt.model.opamp import OPAMP_MODELS, check_opamp_options, opamp_parameters, parameter_of_symbol
+from symfilt.model.names import GROUND, check_symbol_name, clip_name, is_ground, node_name
+from symfilt.model.opamp import OPAMP_MODELS, check_opamp_options, opamp_parameters
+from symfilt.model.expression import parse_tie, rkm_value, tie_text
+from symfilt.model.ties import TIEABLE, Parameter
 from symfilt.model.values import parse_value
 
 #: Part kinds and their pins.
@@ -47,8 +47,6 @@ CONTROL_KINDS = ("resistor", "capacitor", "inductor", "vcvs", "ccvs")
 SOURCE_R, LOAD_R, LOAD_C = "R_s", "R_L", "C_L"
 #: The Laplace variable.
 S = sympy.Symbol("s")
-_NAME = re.compile(r"[A-Za-z][A-Za-z0-9_]*")
-_RESERVED = {"s", SOURCE_R, LOAD_R, LOAD_C, "pi", "oo", "j", "w", "omega"}
 
 
 def _value(text, where: str):
@@ -104,11 +102,16 @@ class Part:
     rout, rin, cin : Fixture
         Op-amp output resistance, differential input resistance and input
         capacitance to ground: absent, symbolic or with a value.
+    tie : str or None
+        A tied value as written (``"R/2"``, see :mod:`symfilt.model.ties`); ``value``
+        is then None and the circuit works the value out.
 
     Examples
     --------
     >>> Part.resistor("R1", "in", "gnd", "4k7").value
     4700
+    >>> Part.resistor("R3", "m", "0", "R/2").tie
+    'R/2'
     >>> Part.opamp("U1", "a", "out", "out").symbols()
     []
     """
@@ -127,6 +130,7 @@ class Part:
     rout: Fixture = field(default_factory=Fixture)
     rin: Fixture = field(default_factory=Fixture)
     cin: Fixture = field(default_factory=Fixture)
+    tie: str | None = None
 
     # --- constructors -------------------------------------------------------
     @classmethod
@@ -236,21 +240,8 @@ class Part:
         2
         """
         where = f"part {clip_name(name)}"
-        if not isinstance(name, str):
-            raise CircuitError(where, "a part name must be text", "write it as e.g. R1 or C_in")
-        if len(name) > MAX_NAME:
-            raise SizeLimitError(where, f"the name is {len(name)} characters long, over the limit of {MAX_NAME}",
-                                 "use a shorter name such as R1 or C_in")
-        if not _NAME.fullmatch(name):
-            raise CircuitError(where, "a part name must start with an ASCII letter and hold only ASCII letters, digits and _",
-                               "rename it, e.g. R1 or C_in")
-        if name in _RESERVED or name.startswith(("A_", "GBW_")):
-            raise CircuitError(where, f"the name {name} is reserved for a symbol of symfilt",
-                               "rename the part (R_s, R_L, C_L, s, A_*, GBW_* are taken)")
+        check_symbol_name(name, where)
         extras = {"pole2": pole2, "rout": rout, "rin": rin, "cin": cin}
-        if keyword.iskeyword(name):
-            raise CircuitError(where, f"the name {name} is a reserved word of Python, which reads the formulas back",
-                               "rename the part, e.g. R_" + name)
         if not isinstance(kind, str) or kind not in PART_PINS:
             close = difflib.get_close_matches(kind, PART_PINS, n=1) if isinstance(kind, str) else []
             raise CircuitError(where, f"unknown kind {clip_name(kind)!r}" if isinstance(kind, str) else f"unknown kind {clip_name(kind)}",
@@ -272,7 +263,11 @@ class Part:
                                    "name a resistor, capacitor, inductor, vcvs or ccvs")
         elif control is not None:
             raise CircuitError(where, f"a {kind} takes no control part", "remove control")
-        part = cls(name=name, kind=kind, nodes=nodes, value=_value(value, where), model=model,
+        tie = tie_text(value) if kind in TIEABLE else None
+        if tie is not None:
+            parse_tie(tie, where)  # a malformed expression is refused here; names are checked by the circuit
+            value = rkm_value(tie)
+        part = cls(name=name, kind=kind, nodes=nodes, value=_value(value, where), model=model, tie=tie,
                    gain=_value(gain, f"{where} gain"), gbw=_value(gbw, f"{where} gbw"), control=control,
                    iout_max=_value(iout_max, f"{where} iout_max"), slew=_value(slew, f"{where} slew"),
                    pole2=_value(pole2, f"{where} pole2"),
@@ -357,6 +352,8 @@ class Circuit:
     load_resistance, load_capacitance : Fixture
         Load ``R_L`` and ``C_L`` (absent: open output).
     title : str
+    parameters : tuple of Parameter
+        Named values or symbols that tied parts refer to (:mod:`symfilt.model.ties`).
 
     Examples
     --------
@@ -372,10 +369,19 @@ class Circuit:
     load_resistance: Fixture = field(default_factory=Fixture)
     load_capacitance: Fixture = field(default_factory=Fixture)
     title: str = ""
+    parameters: tuple[Parameter, ...] = ()
+
+    def __post_init__(self) -> None:
+        # a bare word that is also an RKM code (R47) is a tie when the circuit has that name
+        names = {q.name for q in self.parameters} | {p.name for p in self.parts}
+        settled = tuple(p if p.tie is None or p.value is None else
+                        replace(p, value=None) if p.tie in names else replace(p, tie=None) for p in self.parts)
+        if settled != self.parts:
+            object.__setattr__(self, "parts", settled)
 
     @classmethod
     def build(cls, parts: Iterable[Part], *, input: str = "in", output: str = "out", source=None,
-              load=None, load_capacitance=None, title: str = "") -> "Circuit":
+              load=None, load_capacitance=None, title: str = "", parameters=None) -> "Circuit":
         """Build and check a circuit; fixtures as text (``"600"``, ``"symbol"``, ``"none"``) or None.
 
         Parameters
@@ -386,16 +392,24 @@ class Circuit:
         source, load, load_capacitance : str, number or None
             Source resistance ``R_s``, load resistance ``R_L`` and load capacitance ``C_L``.
         title : str
+        parameters : mapping of str to str, number or None, optional
+            Parameter name -> value text or ``"symbol"`` (None keeps it a symbol).
 
         Examples
         --------
         >>> Circuit.build([Part.resistor("R1", "in", "out", "1k")], source="50").source.value
         50
+        >>> c = Circuit.build([Part.resistor("R1", "in", "out", "R"), Part.resistor("R2", "out", "0", "R/2")],
+        ...                   parameters={"R": "10k"})
+        >>> c.ties()
+        {'R1': R, 'R2': R/2}
         """
+        params = tuple(Parameter.parse(k, v) for k, v in (parameters or {}).items())
         c = cls(parts=tuple(parts), input=node_name(input, "ports input"), output=node_name(output, "ports output"),
                 source=Fixture.parse(source, "source resistance"),
                 load_resistance=Fixture.parse(load, "load resistance"),
-                load_capacitance=Fixture.parse(load_capacitance, "load capacitance"), title=title)
+                load_capacitance=Fixture.parse(load_capacitance, "load capacitance"), title=title,
+                parameters=params)
         c.check()
         return c
 
@@ -461,29 +475,24 @@ class Circuit:
     def symbols(self) -> dict[str, dict]:
         """Every symbol with its role and value (None when symbolic), in a stable order.
 
-        Roles are ``part``, ``source``, ``load``, ``opamp`` and ``laplace``.
+        Roles are ``parameter``, ``part``, ``source``, ``load``, ``opamp`` and ``laplace``. A tied
+        part has the key ``tie`` (its expression as written) and the value the tie gives
+        (None when a symbol it refers to has none); a parameter has the key ``unit``
+        (:func:`symfilt.model.ties.parameter_units`).
 
         Examples
         --------
         >>> c = Circuit.build([Part.resistor("R1", "in", "out", "1k"), Part.resistor("R2", "out", "0")], source="50")
         >>> c.symbols()["R_s"]
         {'role': 'source', 'value': 50, 'symbol': R_s}
+        >>> c = Circuit.build([Part.resistor("R1", "in", "out", "R"), Part.resistor("R2", "out", "0", "R/2")],
+        ...                   parameters={"R": "10k"})
+        >>> c.symbols()["R2"]["tie"], c.symbols()["R2"]["value"], c.symbols()["R"]["role"]
+        ('R/2', 5000, 'parameter')
         """
-        out: dict[str, dict] = {}
-        for p in self.parts:
-            if p.kind == "opamp":
-                for name, param, value in opamp_parameters(p):
-                    out[name] = {"role": "opamp", "value": value, "symbol": part_symbol(name), "unit": param.unit}
-            else:
-                out[p.name] = {"role": "part", "value": p.value, "symbol": p.symbol, "kind": p.kind}
-        if self.source.present:
-            out[SOURCE_R] = {"role": "source", "value": self.source.value, "symbol": part_symbol(SOURCE_R)}
-        if self.load_resistance.present:
-            out[LOAD_R] = {"role": "load", "value": self.load_resistance.value, "symbol": part_symbol(LOAD_R)}
-        if self.load_capacitance.present:
-            out[LOAD_C] = {"role": "load", "value": self.load_capacitance.value, "symbol": part_symbol(LOAD_C)}
-        out["s"] = {"role": "laplace", "value": None, "symbol": S}
-        return out
+        from symfilt.model.symbols import symbol_rows
+
+        return symbol_rows(self)
 
     def symbol_table(self) -> dict[str, sympy.Symbol]:
         """Name -> sympy symbol for every symbol of the circuit.
@@ -504,6 +513,18 @@ class Circuit:
         {R1: 1000}
         """
         return {info["symbol"]: info["value"] for info in self.symbols().values() if info["value"] is not None}
+
+    def ties(self) -> dict[str, sympy.Expr]:
+        """Tied part name -> its value as an expression over the free symbols.
+
+        Examples
+        --------
+        >>> Circuit.build([Part.resistor("R1", "in", "out", "2*R2"), Part.resistor("R2", "out", "0")]).ties()
+        {'R1': 2*R2}
+        """
+        from symfilt.model.ties import resolve_ties
+
+        return resolve_ties(self.parts, self.parameters) if any(p.tie for p in self.parts) else {}
 
     # --- transformations -----------------------------------------------------
     def without_fixtures(self) -> "Circuit":
@@ -542,10 +563,12 @@ class Circuit:
     def with_values(self, values: Mapping[str, object]) -> "Circuit":
         """A copy with some part or fixture values replaced (name -> value text or number).
 
+        A parameter gets the new value; a tied part given a value is no longer tied.
+
         Parameters
         ----------
         values : mapping of str to str or number
-            Symbol name (``R1``, ``R_s``, ``A_U1``, ...) -> new value.
+            Symbol name (``R1``, ``R_s``, ``A_U1``, a parameter, ...) -> new value.
 
         Examples
         --------
@@ -553,30 +576,9 @@ class Circuit:
         >>> c.with_values({"R1": "2k"}).part("R1").value
         2000
         """
-        parts = list(self.parts)
-        fixtures = {"source": self.source, "load_resistance": self.load_resistance,
-                    "load_capacitance": self.load_capacitance}
-        keys = {SOURCE_R: "source", LOAD_R: "load_resistance", LOAD_C: "load_capacitance"}
-        for name, v in values.items():
-            if name in keys:
-                fixtures[keys[name]] = Fixture.parse(v, name)
-                continue
-            idx = next((i for i, p in enumerate(parts) if p.name == name), None)
-            amp = parameter_of_symbol(name)
-            if idx is None and amp is not None:
-                param, pname = amp
-                idx = next((i for i, p in enumerate(parts) if p.name == pname and p.kind == "opamp"), None)
-                if idx is None:
-                    raise CircuitError(name, "no op-amp of that name", "name an op-amp's A_, GBW_, P2_, Rout_, Rin_ or Cin_ symbol")
-                new = Fixture.parse(v, name) if param.optional else _value(v, name)
-                parts[idx] = replace(parts[idx], **{param.key: new})
-                parts[idx].check_values()
-                continue
-            if idx is None:
-                raise CircuitError(name, "no such part or symbol", "use one of " + ", ".join(self.symbols()))
-            parts[idx] = replace(parts[idx], value=_value(v, f"part {name}"))
-            parts[idx].check_values()
-        return replace(self, parts=tuple(parts), **fixtures)
+        from symfilt.model.symbols import with_values
+
+        return with_values(self, values)
 
     # --- validation ----------------------------------------------------------
     def check(self) -> None:
@@ -590,5 +592,8 @@ class Circuit:
         symfilt.errors.CircuitError: part R1: both ends are on node in, connect it between two different nodes
         """
         from symfilt.model.structure import check_structure
+        from symfilt.model.ties import check_ties
 
         check_structure(self)
+        if self.parameters or any(p.tie for p in self.parts):
+            check_ties(self)

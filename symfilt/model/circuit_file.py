@@ -17,7 +17,7 @@ import tomllib
 import unicodedata
 from pathlib import Path
 
-from symfilt.model.circuit import PART_PINS, Circuit, Fixture, Part, clip_name
+from symfilt.model.circuit import PART_PINS, Circuit, Fixture, Parameter, Part, clip_name
 from symfilt.errors import CircuitFileError, SizeLimitError, SymfiltError
 from symfilt.model.structure import MAX_PARTS
 from symfilt.model.values import format_value
@@ -27,7 +27,7 @@ MAX_FILE_BYTES = 256 * 1024
 #: Longest title, in characters.
 MAX_TITLE = 200
 
-_TOP_KEYS = {"title", "ports", "source", "load", "parts"}
+_TOP_KEYS = {"title", "ports", "source", "load", "parameters", "parts"}
 _PART_KEYS = {
     "resistor": {"kind", "nodes", "value"},
     "capacitor": {"kind", "nodes", "value"},
@@ -207,7 +207,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
     if unknown:
         key = sorted(unknown)[0]
         raise CircuitFileError(name, f"unknown section or key {clip_name(key)!r}",
-                               _suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parts]")
+                               _suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parameters], [parts]")
     title = data.get("title", "")
     if not isinstance(title, str):
         raise CircuitFileError(f"{name} title", "the title must be text", "write title = \"...\"")
@@ -233,6 +233,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
     if len(parts_table) > MAX_PARTS:
         raise SizeLimitError(f"{name} [parts]", f"{len(parts_table)} parts is over the limit of {MAX_PARTS}",
                              "split the circuit into stages and derive each one")
+    parameters = _parameters(_table(data, "parameters", name), name)
     parts = [_part(pname, spec, name) for pname, spec in parts_table.items()]
     try:
         circuit = Circuit(
@@ -243,6 +244,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
             load_resistance=Fixture.parse(_text(load.get("resistance")), "[load] resistance"),
             load_capacitance=Fixture.parse(_text(load.get("capacitance")), "[load] capacitance"),
             title=title,
+            parameters=parameters,
         )
         circuit.check()
     except SymfiltError as exc:
@@ -252,7 +254,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
 
 def _file_place(where: str) -> str:
     """A place in circuit terms ("part R1", "ports output") written as in the file ("[parts] R1")."""
-    for plain, section in (("part ", "[parts] "), ("ports ", "[ports] ")):
+    for plain, section in (("part ", "[parts] "), ("ports ", "[ports] "), ("parameters ", "[parameters] ")):
         if where.startswith(plain):
             return section + where[len(plain):]
     return where
@@ -274,6 +276,20 @@ def _table(data: dict, key: str, name: str) -> dict:
     if not isinstance(v, dict):
         raise CircuitFileError(f"{name} {key}", f"{key} must be a table", f"write [{key}] on a line of its own")
     return v
+
+
+def _parameters(table: dict, name: str) -> tuple[Parameter, ...]:
+    """The ``[parameters]`` table: name -> a value or ``"symbol"``."""
+    if len(table) > MAX_PARTS:
+        raise SizeLimitError(f"{name} [parameters]", f"{len(table)} parameters is over the limit of {MAX_PARTS}",
+                             "keep the parameters the parts refer to")
+    out = []
+    for key, v in table.items():
+        if isinstance(v, (dict, list)) or isinstance(v, bool):
+            raise CircuitFileError(f"{name} [parameters] {clip_name(key)}", "a parameter is a value or \"symbol\"",
+                                   "write e.g. R = \"10k\" or k = \"symbol\"")
+        out.append(Parameter.parse(key, v, f"{name} [parameters]"))
+    return tuple(out)
 
 
 def _part(pname: str, spec, name: str) -> Part:
@@ -409,7 +425,11 @@ def circuit_to_text(circuit: Circuit) -> str:
     lines += ["[ports]", f"input = {_q(circuit.input)}", f"output = {_q(circuit.output)}", "",
               "[source]", f"resistance = {_fixture(circuit.source)}", "",
               "[load]", f"resistance = {_fixture(circuit.load_resistance)}",
-              f"capacitance = {_fixture(circuit.load_capacitance)}", "", "[parts]"]
+              f"capacitance = {_fixture(circuit.load_capacitance)}", ""]
+    if circuit.parameters:
+        lines += ["[parameters]"] + [f"{q.name} = {_q('symbol') if q.value is None else _v(q.value)}"
+                                     for q in circuit.parameters] + [""]
+    lines.append("[parts]")
     for p in circuit.parts:
         fields = [f"kind = {_q(p.kind)}"]
         if p.kind == "opamp":
@@ -424,7 +444,9 @@ def circuit_to_text(circuit: Circuit) -> str:
                     fields.append(f"{key} = {_fixture(getattr(p, key))}")
         else:
             fields.append("nodes = [" + ", ".join(_q(n) for n in p.nodes) + "]")
-            if p.value is not None:
+            if p.tie is not None:
+                fields.append(f"{'gain' if p.kind in ('vcvs', 'vccs', 'ccvs', 'cccs') else 'value'} = {_q(p.tie)}")
+            elif p.value is not None:
                 fields.append(f"{'gain' if p.kind in ('vcvs', 'vccs', 'ccvs', 'cccs') else 'value'} = {_v(p.value)}")
             if p.control:
                 fields.append(f"control = {_q(p.control)}")

@@ -6,6 +6,8 @@
 
 from __future__ import annotations
 
+import keyword
+import re
 import unicodedata
 
 from symfilt.errors import CircuitError, SizeLimitError
@@ -16,6 +18,9 @@ GROUND = "0"
 MAX_NAME = 32
 #: Unicode categories refused in names: control, format (bidirectional marks), surrogate, private, unassigned.
 _BAD_CATEGORIES = ("Cc", "Cf", "Cs", "Co", "Cn")
+_NAME = re.compile(r"[A-Za-z][A-Za-z0-9_]*")
+#: Names no part or parameter may take (symfilt's own symbols).
+RESERVED = {"s", "R_s", "R_L", "C_L", "pi", "oo", "j", "w", "omega"}
 
 
 def clip_name(text: object, limit: int = MAX_NAME) -> str:
@@ -108,3 +113,44 @@ def node_name(name: object, where: str) -> str:
         raise CircuitError(where, f"node name {clip_name(name)} holds a control or invisible character",
                            "write node names with visible characters only")
     return GROUND if is_ground(name) else name
+
+
+def check_symbol_name(name: object, where: str, what: str = "part") -> None:
+    """Raise for a name that cannot be a part's or parameter's symbol.
+
+    Parameters
+    ----------
+    name : object
+        The name as given.
+    where : str
+        The place to name in an error message.
+    what : str
+        What is named (``part`` or ``parameter``), for the message.
+
+    Raises
+    ------
+    CircuitError, SizeLimitError
+        For text that is not a name, a reserved name or a Python keyword, or a long name.
+
+    Examples
+    --------
+    >>> check_symbol_name("R1", "part R1")
+    >>> check_symbol_name("R_s", "part R_s")
+    Traceback (most recent call last):
+    ...
+    symfilt.errors.CircuitError: part R_s: the name R_s is reserved for a symbol of symfilt, rename the part (R_s, R_L, C_L, s, A_*, GBW_* are taken)
+    """
+    if not isinstance(name, str):
+        raise CircuitError(where, f"a {what} name must be text", "write it as e.g. R1 or C_in")
+    if len(name) > MAX_NAME:
+        raise SizeLimitError(where, f"the name is {len(name)} characters long, over the limit of {MAX_NAME}",
+                             "use a shorter name such as R1 or C_in")
+    if not _NAME.fullmatch(name):
+        raise CircuitError(where, f"a {what} name must start with an ASCII letter and hold only ASCII letters, digits and _",
+                           "rename it, e.g. R1 or C_in")
+    if name in RESERVED or name.startswith(("A_", "GBW_")):
+        raise CircuitError(where, f"the name {name} is reserved for a symbol of symfilt",
+                           f"rename the {what} (R_s, R_L, C_L, s, A_*, GBW_* are taken)")
+    if keyword.iskeyword(name):
+        raise CircuitError(where, f"the name {name} is a reserved word of Python, which reads the formulas back",
+                           f"rename the {what}, e.g. R_" + name)

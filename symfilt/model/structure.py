@@ -274,4 +274,10 @@ def structure_warnings(circuit: "Circuit") -> list[str]:
         if node != GROUND and len(users) == 1:
             out.append(f"node {node}: only one connection ({users[0]}), "
                        "check the spelling of the node name or connect it")
+    from symfilt.model.ties import unit_warnings, unused_parameters
+
+    for name in unused_parameters(circuit):
+        out.append(f"parameters {name}: no part's value refers to it, check the spelling or remove it")
+    if any(p.tie for p in circuit.parts):
+        out += unit_warnings(circuit)
     return out
