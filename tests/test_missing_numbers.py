@@ -205,3 +205,24 @@ def test_band_pass_of_order_three_gets_numeric_edges():
     lo, hi = band_edges(num, den)
     assert lo / (2 * math.pi) == pytest.approx(ideal.numeric["ideal"]["low_edge_hz"], rel=1e-9)
     assert hi / (2 * math.pi) == pytest.approx(ideal.numeric["ideal"]["high_edge_hz"], rel=1e-9)
+
+
+def test_a_loaded_notch_gets_no_cutoff():
+    # The tied twin-T loaded by R_s and R_L keeps its null at 1/(RC) (numerator C^2 R^2 s^2 + 1) but
+    # no longer has equal DC and HF gains, so it is classed general; a -3 dB "cutoff" below the DC
+    # gain would be the lower edge of the notch, so none is given (a notch has no single cutoff,
+    # common practice), and the text says "—", not "needs values", where every value is there.
+    from click.testing import CliRunner
+    from symfilt.cli import cli
+
+    a = analyse(catalogue.build("twin-t-notch-tied"), sensitivity=False)
+    assert a.loaded.form.kind == "general" and a.ideal.form.kind == "notch"
+    assert "cutoff_hz" not in a.numeric["loaded"] and "cutoff_hz" not in a.numeric["ideal"]
+    text = CliRunner().invoke(cli, ["derive", "@twin-t-notch-tied"]).output
+    numbers = text.split("Numbers at the given values")[1].split("\n\n")[0]
+    assert "needs values" not in numbers and "cutoff" not in numbers
+    # A zero off the jw axis (R1 in->out, C1 out->m, R2 m->ground: zero at -1/(R2 C1)) keeps its cutoff.
+    shelf = analyse(Circuit.build([Part.resistor("R1", "in", "out", "1k"), Part.capacitor("C1", "out", "m", "1u"),
+                                   Part.resistor("R2", "m", "0", "1k")], source="none", load="none"),
+                    sensitivity=False)
+    assert shelf.numeric["ideal"]["cutoff_hz"] is not None

@@ -11,7 +11,7 @@ import sympy
 from symfilt.model.circuit import S
 from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.numeric import (band_edges, cutoff_from_coefficients, finite_float, numeric_cutoff,
-                                     numeric_sensitivity, passband_gain)
+                                     numeric_sensitivity, passband_gain, positive_roots)
 
 if TYPE_CHECKING:
     from symfilt.analysis.stage import StageResult
@@ -85,7 +85,7 @@ def _cutoff_number(stage: StageResult, values: Mapping) -> dict:
     Every response of any order gets a numeric cutoff when its transfer function has all
     its values (the pass band by :func:`~symfilt.analysis.numeric.passband_gain`), except a
     band-pass (its two edges, numeric ones for a response with no pass band at DC or HF),
-    a notch and an all-pass. ``cutoff_hz`` None with
+    a notch and an all-pass (by kind, or a general response with a null on the jw axis). ``cutoff_hz`` None with
     ``no_cutoff`` True: the response never falls 3 dB below its pass-band gain.
     """
     cut = stage.cutoff
@@ -101,6 +101,8 @@ def _cutoff_number(stage: StageResult, values: Mapping) -> dict:
     coeffs = stage.transfer.coefficient_values(values)
     if coeffs is None:
         return {}
+    if _null_on_jw_axis(coeffs[0]):  # a notch shape (a loaded twin-T): no single cutoff
+        return {}
     if passband_gain(*coeffs)[0] is None:  # no pass band at DC or at HF: a band-pass shape
         edges = band_edges(*coeffs)
         if edges is not None:
@@ -109,6 +111,14 @@ def _cutoff_number(stage: StageResult, values: Mapping) -> dict:
     if w is None:
         return {"cutoff_hz": None, "no_cutoff": True}
     return {"cutoff_hz": w / (2 * math.pi)}
+
+
+def _null_on_jw_axis(num) -> bool:
+    """True when N(jw) = 0 at some w > 0: N has only even powers of s (exactly, at the values)
+    and N(jw), a polynomial in u = w^2, has a positive root."""
+    if len(num) < 3 or any(c != 0 for c in num[1::2]):
+        return False
+    return bool(positive_roots([c * (-1) ** k for k, c in enumerate(num[::2])]))
 
 
 def output_impedance_values(zout: NetworkFunction, values: Mapping, cutoff_hz: float | None) -> dict:

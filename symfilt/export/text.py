@@ -5,6 +5,7 @@ from __future__ import annotations
 import sympy
 
 from symfilt.analysis.numeric import tidy
+from symfilt.model.circuit import S
 from symfilt.analysis.stage import UNSTABLE_DROPS, Analysis, StageResult
 from symfilt.model.values import format_value
 from symfilt.engine.polybridge import smaller_than
@@ -169,6 +170,8 @@ def _numbers(a: Analysis) -> list[str]:
                     return "unstable"
                 if (key, None) in (("f0_hz", st.form.w0), ("q", st.form.q)):
                     return "—"
+                if key in ("cutoff_hz", "zout_cutoff_ohm") and not (st.transfer.free_symbols() - {S} - set(a.circuit.values())):
+                    return "—"  # every value is there: this view has no cutoff (a notch, an all-pass)
                 return "needs values"
             v = d[key]
             if v is None and key == "cutoff_hz" and d.get("no_cutoff"):
