@@ -10,6 +10,7 @@ $(STAMP): pyproject.toml
 	test -x $(PY) || $(PYTHON) -m venv $(VENV)
 	$(PY) -m pip install --quiet --upgrade pip
 	$(PY) -m pip install --quiet -e '.[test]'
+	$(PY) -m compileall -q symfilt
 	touch $(STAMP)
 
 install: $(STAMP)
