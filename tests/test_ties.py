@@ -263,6 +263,7 @@ def file_with(parameters: str, r1: str, r2: str = "1k") -> str:
     ('R = "-10k"', "R", "1k", CircuitError, "[parameters] R: the value -10k is not positive"),
     ('R = { a = 1 }', "R", "1k", CircuitFileError, "[parameters] R: a parameter is a value or \"symbol\""),
     ('s = "1k"', "s", "1k", CircuitError, "[parameters] s: the name s is reserved"),
+    ('R = "10k"', "2*R_s", "1k", CircuitError, "[parts] R1: the value refers to R_s, the source or load"),
 ])
 def test_bad_ties_are_one_line_errors(run_cli, tmp_path, parameters, r1, r2, kind, words):
     text = file_with(parameters, r1, r2)

@@ -22,6 +22,8 @@ from symfilt.model.expression import parse_tie
 from symfilt.model.names import clip_name
 from symfilt.model.values import format_value, parse_value
 
+#: The fixtures' symbols: a tie may not name them (they are limits of the ideal view).
+FIXTURE_NAMES = ("R_s", "R_L", "C_L")
 #: Part kinds a tie may refer to, and whose value may be tied.
 TIEABLE = ("resistor", "capacitor", "inductor", "vcvs", "vccs", "ccvs", "cccs")
 #: Dimensions (exponents of ohm and second) of the values of each part kind.
@@ -142,6 +144,9 @@ def resolve_ties(parts, parameters) -> dict[str, sympy.Expr]:
             if word in by_name and by_name[word].kind not in TIEABLE:
                 raise CircuitError(f"part {name}", f"the value refers to {word}, a {by_name[word].kind}",
                                    "refer to a parameter or to a resistor, capacitor, inductor or controlled source")
+            if word in FIXTURE_NAMES:
+                raise CircuitError(f"part {name}", f"the value refers to {word}, the source or load, which a tie cannot name",
+                                   "give the part a value or a parameter of its own")
             if word not in known:
                 close = difflib.get_close_matches(word, known, n=3)
                 hint = f"did you mean {' or '.join(close)}? " if close else ""
