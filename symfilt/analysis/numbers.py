@@ -11,7 +11,7 @@ import sympy
 from symfilt.model.circuit import S
 from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.numeric import (band_edges, cutoff_from_coefficients, finite_float, numeric_cutoff,
-                                     numeric_sensitivity, passband_gain, positive_roots)
+                                     numeric_sensitivity, passband_gain, positive_roots, trim)
 
 if TYPE_CHECKING:
     from symfilt.analysis.stage import StageResult
@@ -96,9 +96,7 @@ def _cutoff_number(stage: StageResult, values: Mapping) -> dict:
             return {"cutoff_hz": None if w is None else w / (2 * math.pi)}
     elif cut.edges is not None or stage.form.kind in NO_CUTOFF_KINDS or stage.form.order < 1:
         return {}
-    if stage.transfer.free_symbols() - {S} - set(values):
-        return {}
-    coeffs = stage.transfer.coefficient_values(values)
+    coeffs = stage.transfer.coefficient_values(values)  # None when a symbol it uses has no value
     if coeffs is None:
         return {}
     if _null_on_jw_axis(coeffs[0]):  # a notch shape (a loaded twin-T): no single cutoff
@@ -269,10 +267,7 @@ def stability(h: NetworkFunction, values: Mapping) -> str | None:
     cv = h.coefficient_values(values, exact=True)  # None when a value is missing: nothing expanded
     if cv is None:
         return None
-    dcs = list(cv[1])
-    while len(dcs) > 1 and dcs[-1] == 0:
-        dcs.pop()
-    poly = sympy.Poly(dcs[::-1], S)
+    poly = sympy.Poly(trim(cv[1])[::-1], S)
     if poly.degree() < 1:
         return "stable"
     roots = pole_values(poly)

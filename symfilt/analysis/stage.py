@@ -24,7 +24,7 @@ from symfilt.analysis.sensitivity import product_sensitivities, sum_rules
 from symfilt.analysis.forms import RESPONSE_KINDS, Cutoff, StandardForm, cutoff, second_order_root, standard_form
 from symfilt.analysis.numbers import numeric_sensitivities, numeric_values, stability
 from symfilt.analysis.findings import Finding, finding
-from symfilt.analysis.numeric import numeric_cutoff, tidy as _tidy
+from symfilt.analysis.numeric import magnitude_squared, numeric_cutoff, tidy as _tidy
 from symfilt.analysis.loop import check_polarity, loops, substitute_loop
 
 #: Numbers left out of a view whose poles are in the right half-plane.
@@ -254,12 +254,11 @@ def magnitude_factors(h: NetworkFunction, at_hz) -> list:
     >>> magnitude_factors(NetworkFunction.from_expr(1 / (1 + S * R * C)), sympy.Rational(1, 2) / sympy.pi)
     [(1, 1/2), (C**2*R**2 + 1, -1/2)]
     """
-    w = 2 * sympy.pi * sympy.sympify(at_hz)
+    u = (2 * sympy.pi * sympy.sympify(at_hz)) ** 2
 
     def mag2(cs):
-        re = sympy.Add(*[c * (-1) ** (k // 2) * w**k for k, c in enumerate(cs) if k % 2 == 0])
-        im = sympy.Add(*[c * (-1) ** (k // 2) * w**k for k, c in enumerate(cs) if k % 2 == 1])
-        return sympy.expand(re**2 + im**2)
+        return sympy.expand(sum((d * u**k for k, d in enumerate(magnitude_squared(cs, sympy.Integer(0)))),
+                                sympy.Integer(0)))
 
     b, a = h.coefficients()
     half = sympy.Rational(1, 2)
@@ -269,8 +268,8 @@ def magnitude_factors(h: NetworkFunction, at_hz) -> list:
 #: Part kind -> scaling class of its symbol (see :data:`~symfilt.analysis.sensitivity.SCALING`).
 _KIND_CLASS = {"resistor": "resistors", "capacitor": "capacitors", "inductor": "inductors", "vcvs": "gains",
                "cccs": "gains", "vccs": "transconductances", "ccvs": "resistors"}
-#: Op-amp parameter unit -> scaling class.
-_UNIT_CLASS = {"Ω": "resistors", "F": "capacitors", "Hz": "bandwidths", "": "gains"}
+#: Unit of an op-amp parameter or of a [parameters] entry -> scaling class.
+_UNIT_CLASS = {"Ω": "resistors", "F": "capacitors", "H": "inductors", "Hz": "bandwidths", "": "gains"}
 
 
 def scaling_classes(circuit: Circuit) -> dict[str, str]:
@@ -302,9 +301,8 @@ def scaling_classes(circuit: Circuit) -> dict[str, str]:
             out[p.name] = _KIND_CLASS[p.kind]
     table = circuit.symbol_table()
     out.update({n: ("capacitors" if n == LOAD_C else "resistors") for n in (SOURCE_R, LOAD_R, LOAD_C) if n in table})
-    units = {"Ω": "resistors", "F": "capacitors", "H": "inductors", "": "gains"}
-    out.update({n: units[info["unit"]] for n, info in circuit.symbols().items()
-                if info["role"] == "parameter" and info["unit"] in units})
+    out.update({n: _UNIT_CLASS[info["unit"]] for n, info in circuit.symbols().items()
+                if info["role"] == "parameter" and info["unit"] in _UNIT_CLASS})
     return out
 
 
