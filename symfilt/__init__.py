@@ -13,6 +13,7 @@ from symfilt.analysis.forms import StandardForm, standard_form
 from symfilt.analysis.stage import Analysis, analyse, substitute
 from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.analysis.loop import Loop, loops
+from symfilt.analysis.probe import Probe, probe, probes
 from symfilt.model.circuit import Circuit, Fixture, Part
 from symfilt.claims.judge import Equivalence, equivalent, parse_claim
 from symfilt.export.check_report import assert_equivalent
@@ -49,6 +50,7 @@ __all__ = [
     "NetworkFunction",
     "OutputError",
     "Part",
+    "Probe",
     "Finding",
     "Report",
     "SingularCircuitError",
@@ -70,6 +72,8 @@ __all__ = [
     "parse_circuit_text",
     "parse_claim",
     "parse_value",
+    "probe",
+    "probes",
     "describe",
     "report",
     "standard_form",

@@ -215,7 +215,9 @@ def cli():
               help="Size budget of the elimination (terms per polynomial).")
 @click.option("--at", "at", metavar="FREQ",
               help="Also the sensitivities of |H(jw)| at this frequency in Hz (e.g. 10k).")
-def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_terms, at):
+@click.option("--probe", "probe_nodes", multiple=True, metavar="NODE",
+              help="Also V(NODE)/V(source), the load staying on the output port (repeatable).")
+def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_terms, at, probe_nodes):
     """Derive H(s), gains, w0, Q, cutoff, Zin, Zout and sensitivities of CIRCUIT (a file or @name)."""
     from symfilt.design.report import report
     from symfilt.export.formats import derive_renderer
@@ -225,7 +227,7 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     tol = _percent(load_limit, "--load-limit") if load_limit else None
     r = report(c, load_limit=tol, opamp_model=opamp_model, substitute=substitute,
                sensitivity=quantity in (None, "sensitivity"), max_terms=max_terms,
-               progress=_progress_from_first_stage(), at=at)
+               progress=_progress_from_first_stage(), at=at, probes=probe_nodes)
     for w in r.warnings:
         _say(f"warning: {w}")
     _emit(render(r, quantity))

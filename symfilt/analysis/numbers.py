@@ -67,7 +67,8 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
         g = num(dc)
         out["dc_gain"] = g
         out["dc_gain_db"] = 20 * math.log10(abs(g)) if g not in (None, 0) else None
-    out.update(output_impedance_values(stage.zout, values, out.get("cutoff_hz")))
+    if stage.zout is not None:  # None for a probe (an inner node has no load port)
+        out.update(output_impedance_values(stage.zout, values, out.get("cutoff_hz")))
     out.update(high_frequency(stage, values))
     stab = stability(stage.transfer, values)
     if stab is not None:

@@ -38,7 +38,8 @@ class StageResult:
     Parameters
     ----------
     transfer, zin, zout : NetworkFunction
-        Voltage transfer H(s), input and output impedance (ohms) of this view.
+        Voltage transfer H(s), input and output impedance (ohms) of this view (the
+        impedances are None in a probe's view, :mod:`symfilt.analysis.probe`).
     form : StandardForm
         The standard form of ``transfer``.
     cutoff : Cutoff
@@ -416,7 +417,8 @@ def substitute(analysis: Analysis) -> Analysis:
         cut = Cutoff(sub(st.cutoff.value), None if st.cutoff.edges is None else tuple(sub(e) for e in st.cutoff.edges),
                      sub(st.cutoff.bandwidth), st.cutoff.reason)
         sens = {k: (None if v is None else {n: sub(e) for n, e in v.items()}) for k, v in st.sensitivity.items()}
-        return StageResult(st.transfer.subs(values), st.zin.subs(values), st.zout.subs(values), form, cut, sens)
+        zin, zout = (None if z is None else z.subs(values) for z in (st.zin, st.zout))  # None: a probe's view
+        return StageResult(st.transfer.subs(values), zin, zout, form, cut, sens)
 
     return Analysis(analysis.circuit, stage(analysis.loaded), stage(analysis.ideal), analysis.numeric,
                     analysis.rules, analysis.rules_note, tuple(substitute_loop(x, values) for x in analysis.loops),

@@ -19,6 +19,7 @@ from dataclasses import dataclass
 from typing import Callable
 
 from symfilt.analysis.loading import LoadLimit, load_limits
+from symfilt.analysis.probe import Probe, probes as probe_all, substitute_probe as put_probe_values
 from symfilt.analysis.stage import Analysis, analyse, substitute as put_values
 from symfilt.design.opamp_error import OPAMP_ERROR_MODELS, OpampError, needs_opamp_error, opamp_error
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
@@ -46,6 +47,8 @@ class Report:
         of the circuit is not ideal (a finite model, or rout/rin/cin present).
     warnings : tuple
         Structural warnings about the circuit (legal but suspicious), in order.
+    probes : tuple of Probe
+        The circuit's ``[probes]`` and the nodes asked for (:mod:`symfilt.analysis.probe`).
 
     Examples
     --------
@@ -59,11 +62,12 @@ class Report:
     load_limits: tuple[LoadLimit, ...] | None
     opamp_error: OpampError | None
     warnings: tuple
+    probes: tuple[Probe, ...] = ()
 
 
 def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: str | None = None,
            substitute: bool = False, sensitivity: bool = True, max_terms: int | None = None,
-           progress: Callable[[str], None] | None = None, at=None) -> Report:
+           progress: Callable[[str], None] | None = None, at=None, probes=()) -> Report:
     """Derive and analyse a circuit with everything ``symfilt derive`` shows.
 
     Parameters
@@ -85,6 +89,9 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
         Called with the name of each stage of the derivation.
     at : str or number, optional
         A frequency (Hz): also the sensitivities of |H(jw)| there.
+    probes : iterable of str
+        More nodes to report V(node)/V(source) for, besides the circuit's ``[probes]``
+        (the load stays on the output port).
 
     Returns
     -------
@@ -102,6 +109,7 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     if load_limit is not None and not 0 < load_limit < 1:
         raise UsageError("load_limit", f"{load_limit!r} is outside 0..1", "give a fraction such as 0.02")
     shown = circuit.with_opamp_model(opamp_model) if opamp_model else circuit
+    shown = shown.with_probes(probes) if probes else shown  # an unknown node is refused before any algebra
     error = None
     if opamp_model in OPAMP_ERROR_MODELS and any(p.kind == "opamp" for p in circuit.parts):
         error = opamp_error(circuit, opamp_model, max_terms=max_terms or DEFAULT_MAX_TERMS)
@@ -113,4 +121,7 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     warnings = tuple(structure_warnings(shown))
     a = analyse(shown, sensitivity=sensitivity, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress, at=at)
     limits = tuple(load_limits(a, load_limit)) if load_limit is not None else None
-    return Report(shown, put_values(a) if substitute else a, limits, error, warnings)
+    found = probe_all(shown, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress)
+    if substitute:
+        found = tuple(put_probe_values(p, shown) for p in found)
+    return Report(shown, put_values(a) if substitute else a, limits, error, warnings, found)

@@ -16,6 +16,7 @@ from typing import Any
 from symfilt.design.opamp_error import AS_GIVEN
 from symfilt.export.findings import describe
 from symfilt.export.loop_report import loop_dict, loop_text
+from symfilt.export.probe_report import probe_dict, probe_latex, probe_text
 
 QUANTITY_KEYS = {"transfer": "transfer", "dc-gain": "dc_gain", "cutoff": "cutoff", "w0": "w0", "q": "q",
                  "zin": "input_impedance", "zout": "output_impedance", "sensitivity": "sensitivity"}
@@ -78,6 +79,8 @@ def derive_dict(report, quantity: str | None = None) -> dict:
         extra["opamp_error"] = design_report.opamp_error_dict(report.opamp_error)
     if report.analysis.loops:
         extra["loops"] = loop_dict(report.analysis.loops)
+    if report.probes:
+        extra["probes"] = probe_dict(report)
     data = jx.analysis_dict(report.analysis, extra)
     return _select_json(data, quantity) if quantity else data
 
@@ -132,6 +135,8 @@ def derive_text(report, quantity: str | None = None) -> str:
         out += "\n" + loop_text(report.analysis.loops)
     if report.opamp_error is not None and not (quantity and report.opamp_error.model == AS_GIVEN):
         out += "\n" + design_report.opamp_error_text(report.opamp_error)
+    if report.probes and not quantity:
+        out += "\n" + probe_text(report)
     return out
 
 
@@ -156,7 +161,7 @@ def derive_latex(report, quantity: str | None = None) -> str:
     """
     from symfilt.export import latex
 
-    return latex.render(report.analysis, quantity)
+    return latex.render(report.analysis, quantity) + ("" if quantity else probe_latex(report))
 
 
 def derive_mathml(report, quantity: str | None = None) -> str:

@@ -123,13 +123,30 @@ def stage_dict(st: StageResult) -> dict:
         "cutoff_note": describe(st.cutoff.reason) or None,
         "band_edges": None if st.cutoff.edges is None else [_s(e) for e in st.cutoff.edges],
         "bandwidth": _s(st.cutoff.bandwidth),
-        "input_impedance": _impedance_text(st.zin),
-        "output_impedance": _impedance_text(st.zout),
+        "input_impedance": None if st.zin is None else _impedance_text(st.zin),
+        "output_impedance": None if st.zout is None else _impedance_text(st.zout),
         "sensitivity": {q: (None if t is None else {k: _s(v) for k, v in t.items()})
                         for q, t in st.sensitivity.items()} if st.sensitivity else
         {"cutoff": None, "w0": None, "q": None, "dc_gain": None},
     }
     return out
+
+
+def numeric_dict(numeric: dict) -> dict:
+    """The ``"numeric"`` entry: ``{"loaded": {...}, "ideal": {...}}`` with non-finite numbers as null.
+
+    Parameters
+    ----------
+    numeric : dict
+        ``Analysis.numeric`` (or a probe's).
+
+    Examples
+    --------
+    >>> numeric_dict({"loaded": {"dc_gain": float("inf")}, "ideal": {"dc_gain": 1.0}})
+    {'loaded': {'dc_gain': None}, 'ideal': {'dc_gain': 1.0}}
+    """
+    return {k: {kk: (_num(vv) if not isinstance(vv, (dict, list)) else vv) for kk, vv in v.items()}
+            for k, v in numeric.items()}
 
 
 def analysis_dict(a: Analysis, extra: dict | None = None) -> dict:
@@ -157,8 +174,7 @@ def analysis_dict(a: Analysis, extra: dict | None = None) -> dict:
                       **{key: info[key] for key in ("kind", "tie") if key in info},
                       **({"unit": info["unit"]} if info["role"] == "parameter" else {})}
                for name, info in c.symbols().items()}
-    numeric = {k: {kk: (_num(vv) if not isinstance(vv, dict) else vv) for kk, vv in v.items()}
-               for k, v in a.numeric.items()}
+    numeric = numeric_dict(a.numeric)
     out = {
         "title": c.title,
         "input": c.input,

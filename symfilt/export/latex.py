@@ -92,8 +92,8 @@ def stage_equations(st: StageResult) -> list[tuple[str, str]]:
         cut = None
     for key, e in (("gain", f.gain), ("w0", f.w0), ("q", f.q), ("tau", f.tau), ("cutoff", cut),
                    ("bandwidth", st.cutoff.bandwidth), ("dc_gain", st.transfer.dc_gain()),
-                   ("hf_gain", st.transfer.hf_gain()), ("zin", impedance_display(st.zin)),
-                   ("zout", impedance_display(st.zout))):
+                   ("hf_gain", st.transfer.hf_gain()),
+                   *((key, impedance_display(z)) for key, z in (("zin", st.zin), ("zout", st.zout)) if z is not None)):
         if e is not None:
             eqs.append((LABELS[key], tex(e)))
     return eqs

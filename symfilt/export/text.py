@@ -156,7 +156,20 @@ def _symbol_rows(a: Analysis) -> list[str]:
     return rows
 
 
-def _numbers(a: Analysis) -> list[str]:
+def numbers_rows(a: Analysis) -> list[str]:
+    """The rows of "Numbers at the given values": loaded, ideal and their ratio.
+
+    Parameters
+    ----------
+    a : Analysis
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> numbers_rows(analyse(catalogue.build("rc-lowpass"), sensitivity=False))[1]
+    '  cutoff               2.088 kHz       1.539 kHz         1.3568'
+    """
     lo, hi = a.numeric.get("loaded", {}), a.numeric.get("ideal", {})
     rows = [f"  {'':<14}{'loaded':>16}{'ideal':>16}{'loaded/ideal':>15}"]
 
@@ -260,7 +273,21 @@ def _sens_table(a: Analysis, st: StageResult, key: str) -> list[str]:
     return out
 
 
-def _stage_formulas(st: StageResult) -> list[str]:
+def stage_formulas(st: StageResult) -> list[str]:
+    """The formula lines of one view: kind and order, K, w0, Q, cutoff, gains, Zin, Zout.
+
+    Parameters
+    ----------
+    st : StageResult
+        The view, ``analysis.loaded`` or ``analysis.ideal``.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> stage_formulas(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal)[:2]
+    ['  kind: lowpass, order 1', '  K          = 1']
+    """
     f = st.form
     rows = [f"  kind: {f.kind}, order {f.order}"]
     cut = st.cutoff.value
@@ -278,6 +305,8 @@ def _stage_formulas(st: StageResult) -> list[str]:
              ("Zin", st.zin), ("Zout", st.zout)]
     for label, e in items:
         if label in ("Zin", "Zout"):
+            if e is None:  # a probe's view has no impedances
+                continue
             if not e.infinite and e.ratio.terms > LONG // 4:  # far past one line: not built in sympy
                 rows.append(f"  {label:<10} = ({e.ratio.terms}-term expression; see --format json or latex)")
                 continue
@@ -340,8 +369,8 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
         if max(len(line) for line in drawn.splitlines()) > 140:
             drawn = transfer_line(st.transfer)
         out.append(_indent(drawn))
-        out += [""] + _stage_formulas(st)
-    rows = _numbers(a)
+        out += [""] + stage_formulas(st)
+    rows = numbers_rows(a)
     if rows:
         out += ["", "Numbers at the given values"]
         out += [f"  UNSTABLE ({key}): poles in the right half-plane; the numbers below do not describe a working "

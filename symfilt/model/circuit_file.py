@@ -27,7 +27,7 @@ MAX_FILE_BYTES = 256 * 1024
 #: Longest title, in characters.
 MAX_TITLE = 200
 
-_TOP_KEYS = {"title", "ports", "source", "load", "parameters", "parts"}
+_TOP_KEYS = {"title", "ports", "source", "load", "parameters", "parts", "probes"}
 _PART_KEYS = {
     "resistor": {"kind", "nodes", "value"},
     "capacitor": {"kind", "nodes", "value"},
@@ -207,7 +207,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
     if unknown:
         key = sorted(unknown)[0]
         raise CircuitFileError(name, f"unknown section or key {clip_name(key)!r}",
-                               _suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parameters], [parts]")
+                               _suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parameters], [parts], [probes]")
     title = data.get("title", "")
     if not isinstance(title, str):
         raise CircuitFileError(f"{name} title", "the title must be text", "write title = \"...\"")
@@ -235,6 +235,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
                              "split the circuit into stages and derive each one")
     parameters = _parameters(_table(data, "parameters", name), name)
     parts = [_part(pname, spec, name) for pname, spec in parts_table.items()]
+    probes = _probes(_table(data, "probes", name), name)
     try:
         circuit = Circuit(
             parts=tuple(parts),
@@ -245,6 +246,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
             load_capacitance=Fixture.parse(_text(load.get("capacitance")), "[load] capacitance"),
             title=title,
             parameters=parameters,
+            probes=probes,
         )
         circuit.check()
     except SymfiltError as exc:
@@ -254,7 +256,8 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
 
 def _file_place(where: str) -> str:
     """A place in circuit terms ("part R1", "ports output") written as in the file ("[parts] R1")."""
-    for plain, section in (("part ", "[parts] "), ("ports ", "[ports] "), ("parameters ", "[parameters] ")):
+    for plain, section in (("part ", "[parts] "), ("ports ", "[ports] "), ("parameters ", "[parameters] "),
+                           ("probe ", "[probes] ")):
         if where.startswith(plain):
             return section + where[len(plain):]
     return where
@@ -289,6 +292,17 @@ def _parameters(table: dict, name: str) -> tuple[Parameter, ...]:
             raise CircuitFileError(f"{name} [parameters] {clip_name(key)}", "a parameter is a value or \"symbol\"",
                                    "write e.g. R = \"10k\" or k = \"symbol\"")
         out.append(Parameter.parse(key, v, f"{name} [parameters]"))
+    return tuple(out)
+
+
+def _probes(table: dict, name: str) -> tuple[tuple[str, str], ...]:
+    """The ``[probes]`` table: label -> node name."""
+    out = []
+    for label, node in table.items():
+        if not isinstance(node, str):
+            raise CircuitFileError(f"{name} [probes] {clip_name(label)}", "a probe names one node",
+                                   "write e.g. after_rc = \"mid\"")
+        out.append((label, _port(node, f"{name} [probes] {clip_name(label)}")))
     return tuple(out)
 
 
@@ -429,6 +443,8 @@ def circuit_to_text(circuit: Circuit) -> str:
     if circuit.parameters:
         lines += ["[parameters]"] + [f"{q.name} = {_q('symbol') if q.value is None else _v(q.value)}"
                                      for q in circuit.parameters] + [""]
+    if circuit.probes:
+        lines += ["[probes]"] + [f"{_q(label)} = {_q(node)}" for label, node in circuit.probes] + [""]
     lines.append("[parts]")
     for p in circuit.parts:
         fields = [f"kind = {_q(p.kind)}"]

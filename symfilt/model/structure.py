@@ -31,6 +31,7 @@ from __future__ import annotations
 from typing import TYPE_CHECKING
 
 from symfilt.errors import CircuitError, SizeLimitError
+from symfilt.model.names import clip_name
 
 if TYPE_CHECKING:  # pragma: no cover
     from symfilt.model.circuit import Circuit
@@ -126,6 +127,49 @@ def check_structure(circuit: "Circuit") -> None:
     from symfilt.model.solvability import check_solvable
 
     check_solvable(circuit)
+
+
+#: Most probes a circuit may have.
+MAX_PROBES = 20
+
+
+def check_probes(circuit: "Circuit") -> None:
+    """Raise CircuitError for a probe on a node the circuit does not have, on ground, or twice.
+
+    Parameters
+    ----------
+    circuit : Circuit
+
+    Examples
+    --------
+    >>> from symfilt.model.circuit import Circuit, Part
+    >>> c = Circuit.build([Part.resistor("R1", "in", "mid"), Part.capacitor("C1", "mid", "0")], output="mid")
+    >>> c.with_probes(["mdi"])
+    Traceback (most recent call last):
+    ...
+    symfilt.errors.CircuitError: probe mdi: node mdi is not in the circuit, did you mean mid? probe one of in, mid
+    """
+    import difflib
+
+    from symfilt.model.circuit import GROUND
+
+    if len(circuit.probes) > MAX_PROBES:
+        raise SizeLimitError("probes", f"{len(circuit.probes)} probes is over the limit of {MAX_PROBES}",
+                             "probe the nodes you need")
+    nodes = circuit.nodes()
+    seen: dict[str, str] = {}
+    for label, node in circuit.probes:
+        where = f"probe {clip_name(label)}"
+        if label in seen:
+            raise CircuitError(where, "the label is used twice", "give each probe its own label")
+        seen[label] = node
+        if node == GROUND:
+            raise CircuitError(where, "the probe is on ground", "name a node the signal is on")
+        if node not in nodes:
+            close = difflib.get_close_matches(node, nodes, n=1)
+            hint = f"did you mean {close[0]}? " if close else ""
+            raise CircuitError(where, f"node {clip_name(node)} is not in the circuit",
+                               f"{hint}probe one of {', '.join(clip_name(n) for n in nodes[:12])}")
 
 
 def _check_pins(p, ground: str) -> None:
