@@ -451,6 +451,58 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
     _wrote(csv_file, output)
 
 
+@cli.command(short_help="A chain of stages: connected vs alone, each interface's loading, where a buffer helps.")
+@click.argument("chain_file")
+@click.option("--format", "fmt", type=click.Choice(["text", "json"]), default="text", show_default=True)
+@click.option("--tolerance", default="2%", show_default=True, metavar="TOL",
+              help="A buffer moving the loaded cutoff or DC gain by less than this is not needed.")
+@click.option("--plot", "plot_file", type=click.Path(dir_okay=False),
+              help="Also draw the Bode plot of the chain (.svg or .png).")
+@click.option("--note", "note_file", type=click.Path(dir_okay=False),
+              help="Also write a Markdown design note (.md); its plot goes beside it unless --plot names one.")
+@click.option("--fmin", metavar="HZ", help="Lowest frequency of the plot.")
+@click.option("--fmax", metavar="HZ", help="Highest frequency of the plot.")
+def chain(chain_file, fmt, tolerance, plot_file, note_file, fmin, fmax):
+    """Analyse CHAIN_FILE: stages connected output to input, each interface's loading, where a buffer helps."""
+    from pathlib import Path
+
+    from symfilt.design.chain import chain_report
+    from symfilt.export.chain_report import chain_dict, chain_markdown, chain_plot_bytes, chain_text
+    from symfilt.export.formats import plot_format
+    from symfilt.export.outfile import output_target, write_bytes_atomic, write_text_atomic
+    from symfilt.model.chain_file import load_chain
+
+    tol = _percent(tolerance, "--tolerance")
+    if note_file and Path(note_file).suffix.lower() != ".md":
+        raise UsageError(note_file, "a chain note is Markdown", "name the note file with .md")
+    beside = str(Path(note_file).with_suffix(".svg")) if note_file and not plot_file else None
+    plot_target = plot_file or beside
+    if plot_target:
+        plot_format(plot_target, where=plot_target)
+    ch = load_chain(chain_file)
+    protect = [chain_file] + [str(Path(chain_file).parent / st.origin) for st in ch.stages
+                              if not st.origin.startswith("@")]
+    for target in (plot_target, note_file):  # refused before the work, not after the first file
+        if target:
+            output_target(target, protect=protect)
+    r = chain_report(ch, tolerance=tol, progress=_progress())
+    plot_bytes = None
+    if plot_target:
+        plot_bytes = chain_plot_bytes(r, plot_format(plot_target), _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"))
+    if plot_target:
+        write_bytes_atomic(plot_target, plot_bytes, protect=protect)
+    if note_file:
+        link = Path(plot_target).name if Path(plot_target).parent == Path(note_file).parent else str(Path(plot_target).resolve())
+        write_text_atomic(note_file, chain_markdown(r, link), protect=protect)
+    if fmt == "json":
+        from symfilt.export.json import dumps
+
+        _emit(dumps(chain_dict(r)) + "\n")
+    else:
+        _emit(chain_text(r))
+    _wrote(plot_target, note_file)
+
+
 @cli.command(short_help="The built-in scenario: a sensor into an ADC, passive vs buffered.")
 def demo():
     """Run the built-in scenario: a sensor into an ADC, passive versus buffered."""

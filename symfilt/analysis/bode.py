@@ -88,6 +88,35 @@ def missing_values(h, values: Mapping) -> list[str]:
     return sorted(str(x) for x in h.free_symbols() - {S} if str(x) not in known)
 
 
+def transfer_sweep(h, values: Mapping, f):
+    """20 log10 |H(j2πf)| and the unwrapped phase (degrees) of one transfer function at frequencies f.
+
+    Parameters
+    ----------
+    h : NetworkFunction
+    values : mapping
+        Symbol -> number for every symbol but s.
+    f : array_like
+        Frequencies in Hz.
+
+    Returns
+    -------
+    (numpy.ndarray, numpy.ndarray)
+
+    Examples
+    --------
+    >>> import sympy
+    >>> from symfilt.analysis.network import NetworkFunction
+    >>> R = sympy.Symbol("R", positive=True)
+    >>> db, ph = transfer_sweep(NetworkFunction.from_expr(1 / (1 + sympy.Symbol("s") * R)), {R: 1}, [1 / (2 * math.pi)])
+    >>> round(float(db[0]), 3), round(float(ph[0]), 1)
+    (-3.01, -45.0)
+    """
+    import numpy as np
+
+    return _response(h, values, np.asarray(f, dtype=float))
+
+
 def _response(h, values: Mapping, f):
     import numpy as np
 

@@ -18,7 +18,7 @@ from symfilt.analysis.numbers import numeric_values
 from symfilt.analysis.stage import UNSTABLE_DROPS, Analysis, StageResult, substitute
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
-from symfilt.model.circuit import Circuit
+from symfilt.model.circuit import Circuit, S
 from symfilt.model.names import node_name
 from symfilt.model.structure import check_probes
 
@@ -72,7 +72,29 @@ class Probe:
         return Analysis(circuit, self.loaded, self.ideal, self.numeric)
 
 
-def _view(h: NetworkFunction, values) -> tuple[StageResult, dict]:
+def transfer_view(h: NetworkFunction, values) -> tuple[StageResult, dict]:
+    """A transfer function alone as a view (standard form, cutoff; no impedances) and its numbers.
+
+    Parameters
+    ----------
+    h : NetworkFunction
+    values : mapping
+        Symbol -> exact number.
+
+    Returns
+    -------
+    (StageResult, dict)
+        The view and :func:`~symfilt.analysis.numbers.numeric_values` of it (no cutoff of an
+        unstable view).
+
+    Examples
+    --------
+    >>> import sympy
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> st, d = transfer_view(NetworkFunction.from_expr(1 / (1 + S * R * C)), {R: 1000, C: sympy.Rational(1, 10**6)})
+    >>> st.form.kind, round(d["cutoff_hz"], 3)
+    ('lowpass', 159.155)
+    """
     form = standard_form(h)
     st = StageResult(h, None, None, form, cutoff(form))
     numbers = numeric_values(st, values)
@@ -127,7 +149,7 @@ def probe(circuit: Circuit, node: str, label: str | None = None, *, max_terms: i
                           where=f"probe {label or node}")
     h = NetworkFunction.from_ratio(ratio, "transfer")
     values = circuit.values()
-    (loaded, lo), (ideal, hi) = _view(h, values), _view(h.ideal(), values)
+    (loaded, lo), (ideal, hi) = transfer_view(h, values), transfer_view(h.ideal(), values)
     return Probe(label or node, node, loaded, ideal, {"loaded": lo, "ideal": hi})
 
 

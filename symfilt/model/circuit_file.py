@@ -169,17 +169,33 @@ def parse_circuit_text(text: str, name: str = "<text>") -> Circuit:
     >>> c.source.value, c.part("R1").value
     (600, 4700)
     """
+    return circuit_from_dict(read_toml(text, name), name)
+
+
+def read_toml(text: str, name: str = "<text>") -> dict:
+    """The tables of a TOML text, every syntax problem as one clear CircuitFileError.
+
+    Parameters
+    ----------
+    text : str
+    name : str
+        The file name used in error messages.
+
+    Examples
+    --------
+    >>> read_toml('title = "x"')
+    {'title': 'x'}
+    """
     text = text.removeprefix("\ufeff")  # a byte-order mark, as some editors write
     try:
-        data = tomllib.loads(text)
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise _toml_error(exc, text, name) from None
     except RecursionError:
-        raise CircuitFileError(name, "nesting too deep", "write a flat circuit file as in the README") from None
+        raise CircuitFileError(name, "nesting too deep", "write a flat file as in the README") from None
     except ValueError:  # Python refuses to read an integer of more than 4300 digits
         raise CircuitFileError(name, "not valid TOML: a number is too long to read",
                                "write values as text such as \"4k7\" or \"2.2e-9\"") from None
-    return circuit_from_dict(data, name)
 
 
 def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
@@ -344,6 +360,59 @@ def _part(pname: str, spec, name: str) -> Part:
         raise type(exc)(where + tail, exc.what, exc.fix) from None
 
 
+def read_text_file(path, what: str = "circuit file") -> tuple[str, str]:
+    """The UTF-8 text of a small input file and the name its errors start with.
+
+    Parameters
+    ----------
+    path : str or Path
+    what : str
+        What the file is, for the messages ("circuit file", "chain file").
+
+    Returns
+    -------
+    (str, str)
+        The text and the file's name.
+
+    Raises
+    ------
+    CircuitFileError, SizeLimitError
+        A missing, unreadable, over-long or non-UTF-8 file.
+
+    Examples
+    --------
+    >>> read_text_file("/nonexistent/rc.toml")
+    Traceback (most recent call last):
+    ...
+    symfilt.errors.CircuitFileError: /nonexistent/rc.toml: no such file, check the path, or use @NAME for a built-in circuit
+    """
+    p = Path(path)
+    name = p.name
+    try:
+        if p.is_dir():
+            raise CircuitFileError(str(p), "is a folder, not a circuit file", f"give the path of a .toml {what}")
+        with open(p, "rb") as fh:  # read at most one byte past the limit: /dev/zero must not hang us
+            raw = fh.read(MAX_FILE_BYTES + 1)
+        if len(raw) > MAX_FILE_BYTES:
+            raise SizeLimitError(name, f"the file is over the size limit of {MAX_FILE_BYTES} bytes",
+                                 "a circuit file of 200 parts fits well below it; check the file")
+    except FileNotFoundError:
+        raise CircuitFileError(str(p), "no such file", "check the path, or use @NAME for a built-in circuit") from None
+    except PermissionError:
+        raise CircuitFileError(str(p), "permission denied", "make the file readable") from None
+    except OSError as exc:
+        raise CircuitFileError(str(p), f"cannot be read ({exc.strerror})", "check the path") from None
+    try:
+        text = raw.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        line = raw[: exc.start].count(b"\n") + 1
+        raise CircuitFileError(f"{name} line {line}", f"not UTF-8 text (byte {exc.start} is {raw[exc.start]:#04x})",
+                               "save the file as UTF-8 text") from None
+    if "\x00" in text:
+        raise CircuitFileError(name, "contains NUL bytes", "save the file as plain UTF-8 text")
+    return text, name
+
+
 def load_circuit(path) -> Circuit:
     """Read a circuit file.
 
@@ -365,30 +434,7 @@ def load_circuit(path) -> Circuit:
     >>> load_circuit(p).part("C1").value
     1/1000000
     """
-    p = Path(path)
-    name = p.name
-    try:
-        if p.is_dir():
-            raise CircuitFileError(str(p), "is a folder, not a circuit file", "give the path of a .toml circuit file")
-        with open(p, "rb") as fh:  # read at most one byte past the limit: /dev/zero must not hang us
-            raw = fh.read(MAX_FILE_BYTES + 1)
-        if len(raw) > MAX_FILE_BYTES:
-            raise SizeLimitError(name, f"the file is over the size limit of {MAX_FILE_BYTES} bytes",
-                                 "a circuit file of 200 parts fits well below it; check the file")
-    except FileNotFoundError:
-        raise CircuitFileError(str(p), "no such file", "check the path, or use @NAME for a built-in circuit") from None
-    except PermissionError:
-        raise CircuitFileError(str(p), "permission denied", "make the file readable") from None
-    except OSError as exc:
-        raise CircuitFileError(str(p), f"cannot be read ({exc.strerror})", "check the path") from None
-    try:
-        text = raw.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        line = raw[: exc.start].count(b"\n") + 1
-        raise CircuitFileError(f"{name} line {line}", f"not UTF-8 text (byte {exc.start} is {raw[exc.start]:#04x})",
-                               "save the file as UTF-8 text") from None
-    if "\x00" in text:
-        raise CircuitFileError(name, "contains NUL bytes", "save the file as plain UTF-8 text")
+    text, name = read_text_file(path)
     return parse_circuit_text(text, name)
 
 

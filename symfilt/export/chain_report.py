@@ -1,0 +1,286 @@
+"""The output of ``symfilt chain`` for a :class:`~symfilt.design.chain.ChainResult`: text, JSON, Markdown.
+
+Examples
+--------
+>>> from symfilt import catalogue
+>>> from symfilt.design.chain import chain_report
+>>> from symfilt.model.chain import Chain, ChainStage
+>>> rc = ChainStage("RC", catalogue.build("rc-lowpass"))
+>>> chain_dict(chain_report(Chain((rc, rc))))["worst_interface"]
+1
+"""
+
+from __future__ import annotations
+
+import math
+
+from symfilt.model.values import format_value
+
+#: Rows of the numbers table: label, key, unit ("" for a plain number, "dB" for a level).
+_ROWS = (("cutoff", "cutoff_hz", "Hz"), ("low edge", "low_edge_hz", "Hz"), ("high edge", "high_edge_hz", "Hz"),
+         ("f0", "f0_hz", "Hz"), ("Q", "q", ""), ("DC gain", "dc_gain", ""), ("DC gain (dB)", "dc_gain_db", "dB"))
+#: The columns of the numbers table: heading and where the numbers come from.
+_COLUMNS = (("connected", "loaded"), ("conn. ideal", "ideal"), ("stages alone", "product"),
+            ("all buffered", "buffered"))
+
+
+def _columns(r) -> dict:
+    return {"loaded": r.analysis.numeric["loaded"], "ideal": r.analysis.numeric["ideal"],
+            "product": r.product_numeric, "buffered": r.buffered_numeric}
+
+
+def _cell(d: dict, key: str, unit: str) -> str:
+    if key not in d:
+        return "—"
+    v = d[key]
+    if v is None:
+        return "none" if key == "cutoff_hz" and d.get("no_cutoff") else "undefined"
+    if unit == "dB":
+        return f"{v:.3f} dB"
+    return format_value(v, unit) if unit else f"{v:.6g}"
+
+
+def _ratio(x: float | None) -> str:
+    if x is None:
+        return "—"
+    return "∞ (open)" if math.isinf(x) else f"{x:.4g}"
+
+
+def _interface_lines(r) -> list[str]:
+    out = []
+    for i in r.interfaces:
+        lo = i.loading
+        out.append(f"  {i.index}  {i.upstream} → {i.downstream} (node {i.node})")
+        at = "" if lo["max_at_hz"] is None else f" at {format_value(lo['max_at_hz'], 'Hz')}"
+        band = "" if lo["cutoff_hz"] is None else f" (band {format_value(lo['cutoff_hz'] / 10**3, 'Hz')} … " \
+                                                    f"{format_value(lo['cutoff_hz'], 'Hz')})"
+        out.append(f"     |Zout/Zin|: DC {_ratio(lo['dc'])}, at fc {_ratio(lo['at_cutoff'])}, "
+                   f"largest {_ratio(lo['max'])}{at}{band}")
+        res = r.restored(i)
+        b = i.buffered
+        line = "     a unity-gain buffer here:"
+        if b.get("cutoff_hz"):
+            line += f" cutoff {_cell(r.analysis.numeric['loaded'], 'cutoff_hz', 'Hz')} → {format_value(b['cutoff_hz'], 'Hz')}"
+            if res["cutoff_share"] is not None:
+                line += f" ({100 * res['cutoff_share']:.0f} % of the interfaces' shift)"
+        if res["dc_gain_db"] is not None:
+            line += f", DC gain {res['dc_gain_db']:+.3f} dB"
+        out.append(line)
+        need = r.needs_buffer(i)
+        verdict = {True: f"buffer worth it: it moves the response by more than {100 * r.tolerance:g} %",
+                   False: f"no buffer needed: it would move the response by less than {100 * r.tolerance:g} %",
+                   None: "no verdict: give every part a value"}[need]
+        out.append(f"     {verdict}")
+    return out
+
+
+def chain_text(r) -> str:
+    """The text report of ``symfilt chain``.
+
+    Parameters
+    ----------
+    r : symfilt.design.chain.ChainResult
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.design.chain import chain_report
+    >>> from symfilt.model.chain import Chain, ChainStage
+    >>> rc = ChainStage("RC", catalogue.build("rc-lowpass"))
+    >>> print(chain_text(chain_report(Chain((rc, rc)))).splitlines()[2])
+      source (ideal) → [1] RC → x1 → [2] RC → out → load (open)
+    """
+    from symfilt.export.text import stage_formulas, transfer_line
+
+    ch = r.chain
+    c = r.analysis.circuit
+    rs = "R_s = " + format_value(ch.source.value, "Ω") if ch.source.value is not None else \
+        ("R_s (symbolic)" if ch.source.present else "source (ideal)")
+    loads = [f"{n} = {format_value(f.value, u)}" if f.value is not None else f"{n} (symbolic)"
+             for n, f, u in (("R_L", ch.load_resistance, "Ω"), ("C_L", ch.load_capacitance, "F")) if f.present]
+    path = " → ".join(f"[{k}] {st.name} → {node}" for k, (st, node) in
+                      enumerate(zip(ch.stages, ch.interfaces() + ["out"]), start=1))
+    out = [f"symfilt chain — {ch.title or 'chain'}", "", f"  {rs} → {path} → load "
+           + (", ".join(loads) if loads else "(open)")]
+    renames = [(k, old, new) for k, names in enumerate(ch.names(), start=1) for old, new in names.items()]
+    if renames:
+        out += ["", "Names in the chain (a name an earlier stage uses gets its stage number)"]
+        out += [f"  stage {k}: {old} → {new}" for k, old, new in renames]
+    out += ["", f"Connected chain, H(s) = V(out)/V(source), loaded", "    " + transfer_line(r.analysis.loaded.transfer)]
+    out += stage_formulas(r.analysis.loaded)[:1]
+    out += ["", "Stages designed alone (ideal source, open output)"]
+    for k, st in enumerate(r.stages, start=1):
+        d = st.numeric
+        cut = _cell(d, "cutoff_hz", "Hz") if "cutoff_hz" in d else "—"
+        out.append(f"  [{k}] {st.name} ({st.origin or 'Python'}): {st.view.form.kind}, order {st.view.form.order}, "
+                   f"cutoff {cut}, DC gain {_cell(d, 'dc_gain', '')}")
+        out.append("      H(s) = " + transfer_line(st.view.transfer))
+    cols = _columns(r)
+    out += ["", "Numbers at the given values", "  " + f"{'':<14}" + "".join(f"{h:>16}" for h, _k in _COLUMNS)]
+    for label, key, unit in _ROWS:
+        if any(key in cols[k] for _h, k in _COLUMNS):
+            out.append(f"  {label:<14}" + "".join(f"{_cell(cols[k], key, unit):>16}" for _h, k in _COLUMNS))
+    out.append("  connected: as wired, with the chain's source and load; conn. ideal: the same with R_s → 0, "
+               "R_L → ∞, C_L → 0;")
+    out.append("  stages alone: the product of each stage's own ideal response; all buffered: a unity-gain "
+               "buffer at every interface (source and load kept)")
+    if r.interfaces:
+        out += ["", "Interfaces (loaded: Zout looks back with the source, Zin looks forward with the load)"]
+        out += _interface_lines(r)
+        w = r.worst()
+        if w is not None:
+            out += ["", f"Worst interface: {w.index} ({w.upstream} → {w.downstream}, node {w.node})"]
+    return "\n".join(out) + "\n"
+
+
+def chain_dict(r) -> dict:
+    """The JSON of ``symfilt chain`` as a dict (schema in the README, "Chains").
+
+    Parameters
+    ----------
+    r : symfilt.design.chain.ChainResult
+
+    Returns
+    -------
+    dict
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.design.chain import chain_report
+    >>> from symfilt.model.chain import Chain, ChainStage
+    >>> rc = ChainStage("RC", catalogue.build("rc-lowpass"))
+    >>> sorted(chain_dict(chain_report(Chain((rc, rc)))))[:4]
+    ['buffered', 'connected', 'interfaces', 'product']
+    """
+    from symfilt.export.json import analysis_dict, numeric_dict, stage_dict
+
+    def view(st, numbers):
+        d = stage_dict(st)
+        return {**{k: v for k, v in d.items() if k not in ("input_impedance", "output_impedance", "sensitivity")},
+                "numeric": numeric_dict({"v": numbers})["v"]}
+
+    def num(x):
+        return None if x is None or (isinstance(x, float) and not math.isfinite(x)) else x
+
+    interfaces = []
+    for i in r.interfaces:
+        loading = {k: num(v) for k, v in i.loading.items()}
+        loading["dc_open"] = i.loading["dc"] is not None and math.isinf(i.loading["dc"])
+        interfaces.append({"index": i.index, "node": i.node, "upstream": i.upstream, "downstream": i.downstream,
+                           "zout": str(i.zout.as_expr()), "zin": str(i.zin.as_expr()), "loading": loading,
+                           "buffered": numeric_dict({"v": i.buffered})["v"],
+                           "restored": {k: num(v) for k, v in r.restored(i).items()},
+                           "needs_buffer": r.needs_buffer(i)})
+    w = r.worst()
+    return {"title": r.chain.title, "tolerance": r.tolerance,
+            "stages": [{"name": st.name, "circuit": st.origin, "renamed": names, "alone": view(st.view, st.numeric)}
+                       for st, names in zip(r.stages, r.chain.names())],
+            "connected": analysis_dict(r.analysis),
+            "product": view(r.product, r.product_numeric),
+            "buffered": view(r.buffered, r.buffered_numeric),
+            "interfaces": interfaces,
+            "worst_interface": None if w is None else w.index}
+
+
+#: Legend of each curve of the chain plot.
+CURVE_LABELS = {"loaded": "connected (source and load)", "ideal": "connected, R_s → 0, R_L → ∞, C_L → 0",
+                "product": "stages alone (product)", "buffered": "buffer at every interface"}
+
+
+def chain_plot_bytes(r, fmt: str = "svg", fmin=None, fmax=None, points: int = 400) -> bytes:
+    """The chain's Bode plot: connected (loaded and ideal), the stages alone, all buffered.
+
+    Parameters
+    ----------
+    r : symfilt.design.chain.ChainResult
+    fmt : {"svg", "png"}
+    fmin, fmax : float, optional
+        Sweep range in Hz.
+    points : int
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.design.chain import chain_report
+    >>> from symfilt.model.chain import Chain, ChainStage
+    >>> rc = ChainStage("RC", catalogue.build("rc-lowpass"))
+    >>> chain_plot_bytes(chain_report(Chain((rc, rc))), "png", points=20)[:4]
+    b'\\x89PNG'
+    """
+    from symfilt.design.chain import SWEEP_VIEWS, chain_sweep
+    from symfilt.export.plot import render_curves
+
+    f, curves = chain_sweep(r, fmin, fmax, points)
+    return render_curves(f, [(CURVE_LABELS[k], *curves[k]) for k in SWEEP_VIEWS], r.chain.title, fmt)
+
+
+def _md_table(head: list[str], rows: list[list[str]]) -> list[str]:
+    cell = lambda t: str(t).replace("|", "\\|")
+    return ["| " + " | ".join(head) + " |", "|" + "---|" * len(head)] + \
+        ["| " + " | ".join(cell(c) for c in row) + " |" for row in rows]
+
+
+def chain_markdown(r, plot_file: str | None = None) -> str:
+    """A design note of the chain in Markdown: the path, the stages, the numbers, the interfaces.
+
+    Parameters
+    ----------
+    r : symfilt.design.chain.ChainResult
+    plot_file : str, optional
+        The Bode plot's file name, linked from the note.
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.design.chain import chain_report
+    >>> from symfilt.model.chain import Chain, ChainStage
+    >>> rc = ChainStage("RC", catalogue.build("rc-lowpass"))
+    >>> chain_markdown(chain_report(Chain((rc, rc)))).splitlines()[0]
+    '# Chain: chain'
+    """
+    ch = r.chain
+    out = [f"# Chain: {_md_text(ch.title or 'chain')}", ""]
+    out += _md_table(["#", "stage", "circuit", "alone: kind, order", "alone: cutoff", "alone: DC gain"],
+                     [[str(k), _md_text(st.name), _md_text(st.origin or "Python"),
+                       f"{st.view.form.kind}, {st.view.form.order}", _cell(st.numeric, "cutoff_hz", "Hz"),
+                       _cell(st.numeric, "dc_gain", "")] for k, st in enumerate(r.stages, start=1)])
+    cols = _columns(r)
+    out += ["", "## Numbers at the given values", ""]
+    out += _md_table([""] + [h for h, _k in _COLUMNS],
+                     [[label] + [_cell(cols[k], key, unit) for _h, k in _COLUMNS]
+                      for label, key, unit in _ROWS if any(key in cols[k] for _h, k in _COLUMNS)])
+    if r.interfaces:
+        out += ["", "## Interfaces", ""]
+        rows = []
+        for i in r.interfaces:
+            res, lo = r.restored(i), i.loading
+            rows.append([str(i.index), _md_text(f"{i.upstream} → {i.downstream}"), i.node, _ratio(lo["dc"]),
+                         _ratio(lo["at_cutoff"]), _ratio(lo["max"]),
+                         "—" if not i.buffered.get("cutoff_hz") else format_value(i.buffered["cutoff_hz"], "Hz"),
+                         "—" if res["dc_gain_db"] is None else f"{res['dc_gain_db']:+.3f} dB",
+                         {True: "yes", False: "no", None: "—"}[r.needs_buffer(i)]])
+        out += _md_table(["#", "between", "node", "Zout/Zin DC", "at fc", "largest", "buffered cutoff",
+                          "buffer: DC gain", "buffer needed"], rows)
+        w = r.worst()
+        if w is not None:
+            out += ["", f"Worst interface: {w.index} ({_md_text(w.upstream)} → {_md_text(w.downstream)})."]
+    out += ["", f"A buffer is needed where it moves the loaded cutoff or DC gain by more than {100 * r.tolerance:g} %. "
+            "The buffer is an ideal unity-gain follower: a real one adds its own output resistance, "
+            "bandwidth and noise."]
+    if plot_file:
+        out += ["", f"![Bode plot of the chain]({plot_file})"]
+    return "\n".join(out) + "\n"
+
+
+def _md_text(text: str) -> str:
+    """Text from a file shown in Markdown: no raw HTML, no table breaks."""
+    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;").replace("|", "\\|")
