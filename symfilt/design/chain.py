@@ -248,8 +248,10 @@ def _dc_ratio(zout: NetworkFunction, zin: NetworkFunction, values) -> float | No
     if a is None or b is None:
         return None
     terms = [_low_order(p) for p in (*a, *b)]
-    if any(t is None for t in terms):  # a zero impedance
-        return None
+    if terms[0] is None:  # Zout = 0 (an ideal op-amp's output)
+        return 0.0
+    if terms[2] is None:  # Zin = 0: the interface is shorted
+        return math.inf
     (n1, p1), (d1, q1), (n2, p2), (d2, q2) = terms
     power = (p1 - q1) - (p2 - q2)
     if power > 0:

@@ -51,7 +51,7 @@ def _interface_lines(r) -> list[str]:
     for i in r.interfaces:
         lo = i.loading
         out.append(f"  {i.index}  {i.upstream} → {i.downstream} (node {i.node})")
-        at = "" if lo["max_at_hz"] is None else f" at {format_value(lo['max_at_hz'], 'Hz')}"
+        at = "" if lo["max_at_hz"] is None or not lo["max"] else f" at {format_value(lo['max_at_hz'], 'Hz')}"
         band = "" if lo["cutoff_hz"] is None else f" (band {format_value(lo['cutoff_hz'] / 10**3, 'Hz')} … " \
                                                     f"{format_value(lo['cutoff_hz'], 'Hz')})"
         out.append(f"     |Zout/Zin|: DC {_ratio(lo['dc'])}, at fc {_ratio(lo['at_cutoff'])}, "
@@ -62,7 +62,7 @@ def _interface_lines(r) -> list[str]:
         if b.get("cutoff_hz"):
             line += f" cutoff {_cell(r.analysis.numeric['loaded'], 'cutoff_hz', 'Hz')} → {format_value(b['cutoff_hz'], 'Hz')}"
             if res["cutoff_share"] is not None:
-                line += f" ({100 * res['cutoff_share']:.0f} % of the interfaces' shift)"
+                line += f" ({100 * res['cutoff_share']:.0f} % of what buffering every interface restores)"
         if res["dc_gain_db"] is not None:
             line += f", DC gain {res['dc_gain_db']:+.3f} dB"
         out.append(line)
@@ -94,7 +94,7 @@ def chain_text(r) -> str:
     >>> print(chain_text(chain_report(Chain((rc, rc)))).splitlines()[2])
       source (ideal) → [1] RC → x1 → [2] RC → out → load (open)
     """
-    from symfilt.export.text import stage_formulas, transfer_line
+    from symfilt.export.text import LONG, stage_formulas, transfer_line
 
     ch = r.chain
     c = r.analysis.circuit
@@ -110,8 +110,11 @@ def chain_text(r) -> str:
     if renames:
         out += ["", "Names in the chain (a name an earlier stage uses gets its stage number)"]
         out += [f"  stage {k}: {old} → {new}" for k, old, new in renames]
-    out += ["", f"Connected chain, H(s) = V(out)/V(source), loaded", "    " + transfer_line(r.analysis.loaded.transfer)]
-    out += stage_formulas(r.analysis.loaded)[:1]
+    out += ["", "Connected chain, H(s) = V(out)/V(source)"]
+    for key, st in (("loaded", r.analysis.loaded), ("ideal", r.analysis.ideal)):
+        line = transfer_line(st.transfer)
+        shown = line if len(line) <= LONG else f"({len(line)}-character expression; see --format json)"
+        out += [f"  {key}: {shown}", "  " + stage_formulas(st)[0]]
     out += ["", "Stages designed alone (ideal source, open output)"]
     for k, st in enumerate(r.stages, start=1):
         d = st.numeric
