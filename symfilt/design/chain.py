@@ -206,12 +206,16 @@ class ChainResult:
         >>> r.needs_buffer(r.interfaces[0])
         True
         """
+        if i.zout.as_expr() == 0:  # an ideal op-amp's output: nothing downstream can load it
+            return False
         r = self.restored(i)
-        if r["cutoff_ratio"] is None and r["dc_gain_db"] is None:
-            return None
-        moved = r["cutoff_ratio"] is not None and abs(r["cutoff_ratio"] - 1) > self.tolerance
         gain = r["dc_gain_db"] is not None and abs(10 ** (r["dc_gain_db"] / 20) - 1) > self.tolerance
-        return moved or gain
+        if r["cutoff_ratio"] is None:
+            has_cutoff = "cutoff_hz" in self.product_numeric or "cutoff_hz" in self.analysis.numeric["ideal"]
+            if has_cutoff and not gain:  # a cutoff that cannot be had here (a value missing): no verdict
+                return None
+            return True if gain else (None if r["dc_gain_db"] is None else False)
+        return abs(r["cutoff_ratio"] - 1) > self.tolerance or gain
 
     def worst(self) -> Interface | None:
         """The interface whose buffer alone moves the loaded chain most (cutoff and DC gain).

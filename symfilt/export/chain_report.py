@@ -47,30 +47,29 @@ def _ratio(x: float | None) -> str:
 
 
 def _interface_lines(r) -> list[str]:
-    out = []
+    """The interface table (one row each), then each interface's buffer verdict."""
+    rows = [("#", "between", "node", "|Zout/Zin| DC", "at fc", "largest", "at", "buffered fc", "DC gain", "share")]
     for i in r.interfaces:
-        lo = i.loading
-        out.append(f"  {i.index}  {i.upstream} → {i.downstream} (node {i.node})")
-        at = "" if lo["max_at_hz"] is None or not lo["max"] else f" at {format_value(lo['max_at_hz'], 'Hz')}"
-        band = "" if lo["cutoff_hz"] is None else f" (band {format_value(lo['cutoff_hz'] / 10**3, 'Hz')} … " \
-                                                    f"{format_value(lo['cutoff_hz'], 'Hz')})"
-        out.append(f"     |Zout/Zin|: DC {_ratio(lo['dc'])}, at fc {_ratio(lo['at_cutoff'])}, "
-                   f"largest {_ratio(lo['max'])}{at}{band}")
-        res = r.restored(i)
-        b = i.buffered
-        line = "     a unity-gain buffer here:"
-        if b.get("cutoff_hz"):
-            line += f" cutoff {_cell(r.analysis.numeric['loaded'], 'cutoff_hz', 'Hz')} → {format_value(b['cutoff_hz'], 'Hz')}"
-            if res["cutoff_share"] is not None:
-                line += f" ({100 * res['cutoff_share']:.0f} % of what buffering every interface restores)"
-        if res["dc_gain_db"] is not None:
-            line += f", DC gain {res['dc_gain_db']:+.3f} dB"
-        out.append(line)
-        need = r.needs_buffer(i)
-        verdict = {True: f"buffer worth it: it moves the response by more than {100 * r.tolerance:g} %",
-                   False: f"no buffer needed: it would move the response by less than {100 * r.tolerance:g} %",
-                   None: "no verdict: give every part a value"}[need]
-        out.append(f"     {verdict}")
+        lo, res = i.loading, r.restored(i)
+        rows.append((str(i.index), f"{i.upstream} → {i.downstream}", i.node, _ratio(lo["dc"]), _ratio(lo["at_cutoff"]),
+                     _ratio(lo["max"]), "—" if lo["max_at_hz"] is None or not lo["max"] else
+                     format_value(lo["max_at_hz"], "Hz"),
+                     format_value(i.buffered["cutoff_hz"], "Hz") if i.buffered.get("cutoff_hz") else "—",
+                     "—" if res["dc_gain_db"] is None else f"{res['dc_gain_db']:+.3f} dB",
+                     "—" if res["cutoff_share"] is None else f"{100 * res['cutoff_share']:.0f} %"))
+    widths = [max(len(row[k]) for row in rows) for k in range(len(rows[0]))]
+    out = ["  " + "  ".join(cell.ljust(w) if k < 3 else cell.rjust(w) for k, (cell, w) in enumerate(zip(row, widths)))
+           .rstrip() for row in rows]
+    fc = r.interfaces[0].loading["cutoff_hz"] if r.interfaces else None
+    if fc is not None:
+        out.append(f"  fc: the design cutoff {format_value(fc, 'Hz')} (stages alone); largest: over "
+                   f"{format_value(fc / 10**3, 'Hz')} … {format_value(fc, 'Hz')}; buffered fc and DC gain: the loaded chain")
+        out.append("  with a unity-gain buffer at that interface alone; share: of what buffering every interface restores")
+    for i in r.interfaces:
+        verdict = {True: f"a buffer is worth it (it moves the cutoff or DC gain by more than {100 * r.tolerance:g} %)",
+                   False: f"no buffer needed (it would move them by less than {100 * r.tolerance:g} %)",
+                   None: "no verdict: a symbol has no value (see \"needs values\" above)"}[r.needs_buffer(i)]
+        out.append(f"  interface {i.index}: {verdict}")
     return out
 
 
@@ -127,6 +126,10 @@ def chain_text(r) -> str:
     for label, key, unit in _ROWS:
         if any(key in cols[k] for _h, k in _COLUMNS):
             out.append(f"  {label:<14}" + "".join(f"{_cell(cols[k], key, unit):>16}" for _h, k in _COLUMNS))
+    missing = [n for n, info in r.analysis.circuit.symbols().items()
+               if info["value"] is None and info["role"] != "laplace" and "tie" not in info]
+    if missing:
+        out.append("  —: needs values; give " + ", ".join(missing) + " a value for these numbers")
     out.append("  connected: as wired, with the chain's source and load; conn. ideal: the same with R_s → 0, "
                "R_L → ∞, C_L → 0;")
     out.append("  stages alone: the product of each stage's own ideal response; all buffered: a unity-gain "
@@ -137,6 +140,11 @@ def chain_text(r) -> str:
         w = r.worst()
         if w is not None:
             out += ["", f"Worst interface: {w.index} ({w.upstream} → {w.downstream}, node {w.node})"]
+            conn = r.analysis.numeric["loaded"]
+            if conn.get("cutoff_hz") and w.buffered.get("cutoff_hz"):
+                alone = f" (stages alone: {_cell(r.product_numeric, 'cutoff_hz', 'Hz')})" if "cutoff_hz" in r.product_numeric else ""
+                out.append(f"  a unity-gain buffer there moves the loaded cutoff from {_cell(conn, 'cutoff_hz', 'Hz')} "
+                           f"to {format_value(w.buffered['cutoff_hz'], 'Hz')}{alone}")
     return "\n".join(out) + "\n"
 
 

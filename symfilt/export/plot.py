@@ -52,11 +52,16 @@ def _figure(data):
     for key, db in getattr(data, "floors", {}).items():
         mag.axhline(db, color=COLOURS[key], linestyle="--", linewidth=0.8,
                     label=f"{key} floor {db:.1f} dB")
-    finite = _finite(data.loaded_db) + _finite(data.ideal_db)
+    _finish(mag, ph, data.f, _finite(data.loaded_db) + _finite(data.ideal_db),
+            list(getattr(data, "floors", {}).values()), data.title)
+    return fig
+
+
+def _finish(mag, ph, f, finite: list[float], floors: list[float], title: str) -> None:
+    """Axes, limits (a notch does not take the whole magnitude axis), grid, legend and title."""
     if finite:
         top = max(finite)
         bottom = max(min(finite), top - DEPTH_DB)
-        floors = list(getattr(data, "floors", {}).values())
         if floors:
             bottom = min(bottom, min(floors) - 6.0)  # the floor line stays in view
         pad = max(1.0, 0.05 * (top - bottom))
@@ -67,13 +72,12 @@ def _figure(data):
     for ax in (mag, ph):
         ax.grid(True, which="major", color="#c9c9c9", linewidth=0.7)
         ax.grid(True, which="minor", color="#ececec", linewidth=0.5)
-        ax.set_xlim(data.f[0], data.f[-1])
+        ax.set_xlim(f[0], f[-1])
         for side in ("top", "right"):
             ax.spines[side].set_visible(False)
     mag.legend(loc="best", fontsize=8, frameon=False)
-    if data.title:
-        mag.set_title(data.title, fontsize=11, loc="left")
-    return fig
+    if title:
+        mag.set_title(title, fontsize=11, loc="left")
 
 
 #: Line colours and styles of extra curves (a chain's), in order.
@@ -111,20 +115,7 @@ def render_curves(f, curves, title: str = "", fmt: str = "svg") -> bytes:
             mag.semilogx(f, db, color=colour, linestyle=style, linewidth=1.8, label=label)
             ph.semilogx(f, phase, color=colour, linestyle=style, linewidth=1.8)
             finite += _finite(db)
-        if finite:
-            top = max(finite)
-            bottom = max(min(finite), top - DEPTH_DB)
-            pad = max(1.0, 0.05 * (top - bottom))
-            mag.set_ylim(bottom - pad, top + pad)
-        mag.set_ylabel("|H| / dB")
-        ph.set_ylabel("phase / degrees")
-        ph.set_xlabel("frequency / Hz")
-        for ax in (mag, ph):
-            ax.grid(True, which="major", color="#c9c9c9", linewidth=0.7)
-            ax.set_xlim(f[0], f[-1])
-        mag.legend(loc="best", fontsize=8, frameon=False)
-        if title:
-            mag.set_title(title, fontsize=11, loc="left")
+        _finish(mag, ph, f, finite, [], title)
         metadata = {"Date": None} if fmt == "svg" else {"Software": None}
         fig.savefig(buf, format=fmt, dpi=150 if fmt == "png" else 72, metadata=metadata)
     return buf.getvalue()

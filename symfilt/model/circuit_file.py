@@ -390,7 +390,7 @@ def read_text_file(path, what: str = "circuit file") -> tuple[str, str]:
     name = p.name
     try:
         if p.is_dir():
-            raise CircuitFileError(str(p), "is a folder, not a circuit file", f"give the path of a .toml {what}")
+            raise CircuitFileError(str(p), f"is a folder, not a {what}", f"give the path of a .toml {what}")
         with open(p, "rb") as fh:  # read at most one byte past the limit: /dev/zero must not hang us
             raw = fh.read(MAX_FILE_BYTES + 1)
         if len(raw) > MAX_FILE_BYTES:
