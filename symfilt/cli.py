@@ -459,7 +459,7 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
 @click.option("--plot", "plot_file", type=click.Path(dir_okay=False),
               help="Also draw the Bode plot of the chain (.svg or .png).")
 @click.option("--note", "note_file", type=click.Path(dir_okay=False),
-              help="Also write a Markdown design note (.md); its plot goes beside it unless --plot names one.")
+              help="Also write a design note: .html (plot inside) or .md (plot beside it unless --plot names one).")
 @click.option("--fmin", metavar="HZ", help="Lowest frequency of the plot.")
 @click.option("--fmax", metavar="HZ", help="Highest frequency of the plot.")
 def chain(chain_file, fmt, tolerance, plot_file, note_file, fmin, fmax):
@@ -467,15 +467,16 @@ def chain(chain_file, fmt, tolerance, plot_file, note_file, fmin, fmax):
     from pathlib import Path
 
     from symfilt.design.chain import chain_report
-    from symfilt.export.chain_report import chain_dict, chain_markdown, chain_plot_bytes, chain_text
+    from symfilt.export.chain_report import chain_dict, chain_html, chain_markdown, chain_plot_bytes, chain_text
     from symfilt.export.formats import plot_format
     from symfilt.export.outfile import output_target, write_bytes_atomic, write_text_atomic
     from symfilt.model.chain_file import load_chain
 
     tol = _percent(tolerance, "--tolerance")
-    if note_file and Path(note_file).suffix.lower() != ".md":
-        raise UsageError(note_file, "a chain note is Markdown", "name the note file with .md")
-    beside = str(Path(note_file).with_suffix(".svg")) if note_file and not plot_file else None
+    kind = Path(note_file).suffix.lower() if note_file else None
+    if kind not in (None, ".md", ".html"):
+        raise UsageError(note_file, "a chain note is Markdown or HTML", "name the note file with .md or .html")
+    beside = str(Path(note_file).with_suffix(".svg")) if kind == ".md" and not plot_file else None
     plot_target = plot_file or beside
     if plot_target:
         plot_format(plot_target, where=plot_target)
@@ -491,9 +492,14 @@ def chain(chain_file, fmt, tolerance, plot_file, note_file, fmin, fmax):
         plot_bytes = chain_plot_bytes(r, plot_format(plot_target), _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"))
     if plot_target:
         write_bytes_atomic(plot_target, plot_bytes, protect=protect)
-    if note_file:
+    if kind == ".md":
         link = Path(plot_target).name if Path(plot_target).parent == Path(note_file).parent else str(Path(plot_target).resolve())
         write_text_atomic(note_file, chain_markdown(r, link), protect=protect)
+    elif kind == ".html":
+        from symfilt.export.plot import inline_svg
+
+        svg = inline_svg(chain_plot_bytes(r, "svg", _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax")))
+        write_text_atomic(note_file, chain_html(r, svg), protect=protect)
     if fmt == "json":
         from symfilt.export.json import dumps
 

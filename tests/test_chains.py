@@ -222,7 +222,7 @@ def test_cli_chain_text_json_note_and_plot(tmp_path):
     r = run(cli, ["chain", str(EXAMPLE)])
     assert r.exit_code == 0, r.output
     assert "Worst interface: 1 (EMI RC → anti-alias Sallen-Key, node x1)" in r.output
-    assert "buffer worth it" in r.output and "no buffer needed" in r.output
+    assert "interface 1: a buffer is worth it" in r.output and "interface 2: no buffer needed" in r.output
     r = run(cli, ["chain", str(EXAMPLE), "--format", "json"])
     data = json.loads(r.output)
     assert data["worst_interface"] == 1 and [i["needs_buffer"] for i in data["interfaces"]] == [True, False]
@@ -234,7 +234,9 @@ def test_cli_chain_text_json_note_and_plot(tmp_path):
     assert r.exit_code == 0 and note.exists() and (tmp_path / "chain.svg").exists()
     assert "![Bode plot of the chain](chain.svg)" in note.read_text()
     r = run(cli, ["chain", str(EXAMPLE), "--note", str(tmp_path / "x.html")])
-    assert r.exit_code == 2 and "a chain note is Markdown" in r.output
+    assert r.exit_code == 0 and "<svg" in (tmp_path / "x.html").read_text()
+    r = run(cli, ["chain", str(EXAMPLE), "--note", str(tmp_path / "x.tex")])
+    assert r.exit_code == 2 and "a chain note is Markdown or HTML" in r.output
 
 
 def test_text_report_of_a_single_stage_has_no_interfaces():

@@ -231,13 +231,48 @@ def chain_plot_bytes(r, fmt: str = "svg", fmin=None, fmax=None, points: int = 40
 
 
 def _md_table(head: list[str], rows: list[list[str]]) -> list[str]:
-    cell = lambda t: str(t).replace("|", "\\|")
+    cell = lambda t: _md_text(str(t))
     return ["| " + " | ".join(head) + " |", "|" + "---|" * len(head)] + \
         ["| " + " | ".join(cell(c) for c in row) + " |" for row in rows]
 
 
+def _note_sections(r) -> list[tuple[str, list[str], list[list[str]]]]:
+    """The chain note's tables as (heading, column heads, rows) of plain text."""
+    out = [("Stages", ["#", "stage", "circuit", "alone: kind, order", "alone: cutoff", "alone: DC gain"],
+            [[str(k), st.name, st.origin or "Python", f"{st.view.form.kind}, {st.view.form.order}",
+              _cell(st.numeric, "cutoff_hz", "Hz"), _cell(st.numeric, "dc_gain", "")]
+             for k, st in enumerate(r.stages, start=1)])]
+    cols = _columns(r)
+    out.append(("Numbers at the given values", [""] + [h for h, _k in _COLUMNS],
+                [[label] + [_cell(cols[k], key, unit) for _h, k in _COLUMNS]
+                 for label, key, unit in _ROWS if any(key in cols[k] for _h, k in _COLUMNS)]))
+    if r.interfaces:
+        rows = []
+        for i in r.interfaces:
+            res, lo = r.restored(i), i.loading
+            rows.append([str(i.index), f"{i.upstream} → {i.downstream}", i.node, _ratio(lo["dc"]),
+                         _ratio(lo["at_cutoff"]), _ratio(lo["max"]),
+                         "—" if not i.buffered.get("cutoff_hz") else format_value(i.buffered["cutoff_hz"], "Hz"),
+                         "—" if res["dc_gain_db"] is None else f"{res['dc_gain_db']:+.3f} dB",
+                         {True: "yes", False: "no", None: "—"}[r.needs_buffer(i)]])
+        out.append(("Interfaces", ["#", "between", "node", "Zout/Zin DC", "at fc", "largest", "buffered cutoff",
+                                   "buffer: DC gain", "buffer needed"], rows))
+    return out
+
+
+def _note_prose(r) -> list[str]:
+    out = []
+    w = r.worst()
+    if w is not None:
+        out.append(f"Worst interface: {w.index} ({w.upstream} → {w.downstream}).")
+    out.append(f"A buffer is needed where it moves the loaded cutoff or DC gain by more than {100 * r.tolerance:g} %. "
+               "The buffer is an ideal unity-gain follower: a real one adds its own output resistance, "
+               "bandwidth and noise.")
+    return out
+
+
 def chain_markdown(r, plot_file: str | None = None) -> str:
-    """A design note of the chain in Markdown: the path, the stages, the numbers, the interfaces.
+    """A design note of the chain in Markdown: the stages, the numbers, the interfaces, the plot.
 
     Parameters
     ----------
@@ -258,38 +293,58 @@ def chain_markdown(r, plot_file: str | None = None) -> str:
     >>> chain_markdown(chain_report(Chain((rc, rc)))).splitlines()[0]
     '# Chain: chain'
     """
-    ch = r.chain
-    out = [f"# Chain: {_md_text(ch.title or 'chain')}", ""]
-    out += _md_table(["#", "stage", "circuit", "alone: kind, order", "alone: cutoff", "alone: DC gain"],
-                     [[str(k), _md_text(st.name), _md_text(st.origin or "Python"),
-                       f"{st.view.form.kind}, {st.view.form.order}", _cell(st.numeric, "cutoff_hz", "Hz"),
-                       _cell(st.numeric, "dc_gain", "")] for k, st in enumerate(r.stages, start=1)])
-    cols = _columns(r)
-    out += ["", "## Numbers at the given values", ""]
-    out += _md_table([""] + [h for h, _k in _COLUMNS],
-                     [[label] + [_cell(cols[k], key, unit) for _h, k in _COLUMNS]
-                      for label, key, unit in _ROWS if any(key in cols[k] for _h, k in _COLUMNS)])
-    if r.interfaces:
-        out += ["", "## Interfaces", ""]
-        rows = []
-        for i in r.interfaces:
-            res, lo = r.restored(i), i.loading
-            rows.append([str(i.index), _md_text(f"{i.upstream} → {i.downstream}"), i.node, _ratio(lo["dc"]),
-                         _ratio(lo["at_cutoff"]), _ratio(lo["max"]),
-                         "—" if not i.buffered.get("cutoff_hz") else format_value(i.buffered["cutoff_hz"], "Hz"),
-                         "—" if res["dc_gain_db"] is None else f"{res['dc_gain_db']:+.3f} dB",
-                         {True: "yes", False: "no", None: "—"}[r.needs_buffer(i)]])
-        out += _md_table(["#", "between", "node", "Zout/Zin DC", "at fc", "largest", "buffered cutoff",
-                          "buffer: DC gain", "buffer needed"], rows)
-        w = r.worst()
-        if w is not None:
-            out += ["", f"Worst interface: {w.index} ({_md_text(w.upstream)} → {_md_text(w.downstream)})."]
-    out += ["", f"A buffer is needed where it moves the loaded cutoff or DC gain by more than {100 * r.tolerance:g} %. "
-            "The buffer is an ideal unity-gain follower: a real one adds its own output resistance, "
-            "bandwidth and noise."]
+    out = [f"# Chain: {_md_text(r.chain.title or 'chain')}"]
+    for heading, head, rows in _note_sections(r):
+        out += ["", f"## {heading}", ""] + _md_table(head, rows)
+    out += [""] + [_md_text(p) + "\n" for p in _note_prose(r)]
     if plot_file:
-        out += ["", f"![Bode plot of the chain]({plot_file})"]
-    return "\n".join(out) + "\n"
+        out += [f"![Bode plot of the chain]({plot_file})"]
+    return "\n".join(out).rstrip("\n") + "\n"
+
+
+def chain_html(r, svg: str | None = None) -> str:
+    """A design note of the chain as one standalone HTML page (tables, inline SVG plot, no scripts).
+
+    Parameters
+    ----------
+    r : symfilt.design.chain.ChainResult
+    svg : str, optional
+        The Bode plot as an inline ``<svg>`` element.
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.design.chain import chain_report
+    >>> from symfilt.model.chain import Chain, ChainStage
+    >>> rc = ChainStage("RC", catalogue.build("rc-lowpass"))
+    >>> page = chain_html(chain_report(Chain((rc, rc))))
+    >>> page.startswith("<!DOCTYPE html>"), "<script" in page, page.count("<table>")
+    (True, False, 3)
+    """
+    from html import escape
+
+    from symfilt.export.note_html import NOTE_CSS
+    from symfilt.version import __version__
+
+    title = escape(r.chain.title or "Chain")
+    body = ["<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
+            '<meta name="viewport" content="width=device-width, initial-scale=1">',
+            f"<title>{title} — chain note</title>", f"<style>{NOTE_CSS}</style>", "</head>", "<body>", "<main>",
+            f'<header><p class="kicker">Chain note</p><h1>{title}</h1></header>']
+    for heading, head, rows in _note_sections(r):
+        body += [f"<section><h2>{escape(heading)}</h2>", "<table>",
+                 "<tr>" + "".join(f"<th>{escape(h)}</th>" for h in head) + "</tr>"]
+        body += ["<tr>" + "".join(f"<td>{escape(str(c))}</td>" for c in row) + "</tr>" for row in rows]
+        body += ["</table>", "</section>"]
+    body += ["<section>"] + [f"<p>{escape(p)}</p>" for p in _note_prose(r)] + ["</section>"]
+    if svg:
+        body += ['<section id="bode"><h2>Frequency response</h2>', svg, "</section>"]
+    body += [f"<footer>Derived exactly by symfilt {escape(__version__)}.</footer>", "</main>", "</body>", "</html>"]
+    return "\n".join(body) + "\n"
 
 
 def _md_text(text: str) -> str:

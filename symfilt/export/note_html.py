@@ -19,7 +19,8 @@ from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations,
                    opamp_error_lines, part_rows, plain_number, tie_lines, sensitivity_table, stability_row, standard_form_tex,
                    sweep, views)
 
-_CSS = """
+#: The notes' style sheet (the chain note uses it too).
+NOTE_CSS = """
 :root { --ink: #1d2433; --muted: #5b6475; --rule: #d9dde5; --loaded: #a23b2a; --ideal: #2f5d8a;
         --paper: #fbfaf7; --band: #f1efe9; }
 * { box-sizing: border-box; }
@@ -259,7 +260,7 @@ def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=Non
     body = [
         "<!DOCTYPE html>", '<html lang="en">', "<head>", '<meta charset="utf-8">',
         '<meta name="viewport" content="width=device-width, initial-scale=1">',
-        f"<title>{escape(title)} — design note</title>", f"<style>{_CSS}</style>", "</head>", "<body>", "<main>",
+        f"<title>{escape(title)} — design note</title>", f"<style>{NOTE_CSS}</style>", "</head>", "<body>", "<main>",
         f'<header><p class="kicker">Design note</p><h1>{escape(title)}</h1><p class="lede">{escape(lede)}</p></header>',
         '<section id="numbers"><h2>Loaded and ideal</h2>', *_html_numbers(a), "</section>",
         *_html_real_opamps(opamp_error),

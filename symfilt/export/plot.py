@@ -166,7 +166,23 @@ def bode_svg(data) -> str:
     >>> svg.startswith("<svg") and svg.rstrip().endswith("</svg>")
     True
     """
-    text = render_bode(data, "svg").decode("utf-8")
+    return inline_svg(render_bode(data, "svg"))
+
+
+def inline_svg(svg: bytes) -> str:
+    """An SVG file's bytes as an ``<svg>`` element for an HTML page: no prolog or metadata, scalable.
+
+    Parameters
+    ----------
+    svg : bytes
+        A whole SVG document (as :func:`render_bode` or :func:`render_curves` give it).
+
+    Examples
+    --------
+    >>> inline_svg(b'<?xml version="1.0"?><svg width="1pt" height="2pt" viewBox="0 0 1 2"></svg>')
+    '<svg viewBox="0 0 1 2"></svg>'
+    """
+    text = svg.decode("utf-8")
     start = text.index("<svg")
     body = re.sub(r"\s*<metadata>.*?</metadata>", "", text[start:], count=1, flags=re.S)
     # size from the viewBox only, so that the page can scale it
