@@ -243,3 +243,9 @@ def test_text_report_of_a_single_stage_has_no_interfaces():
     r = chain_report(Chain((ChainStage("only", rc("R1", "C1", ("1k", "1u"))),)))
     text = chain_text(r)
     assert "Interfaces" not in text and chain_dict(r)["worst_interface"] is None
+
+
+def test_a_shunt_stage_is_refused_with_a_hint():
+    shunt = Circuit.build([Part.resistor("R9", "a", "0", "1k")], input="a", output="a")
+    with pytest.raises(SymfiltError, match="its input and output are the same node, put a shunt part into the stage"):
+        Chain((ChainStage("RC", rc("R1", "C1")), ChainStage("shunt", shunt)))

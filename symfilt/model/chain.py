@@ -94,6 +94,10 @@ class Chain:
         if len(self.stages) > MAX_STAGES:
             raise SizeLimitError("chain", f"{len(self.stages)} stages is over the limit of {MAX_STAGES}",
                                  "split the chain and study it in parts")
+        for k, st in enumerate(self.stages, start=1):
+            if st.circuit.input == st.circuit.output:
+                raise CircuitError(f"chain stage {k} ({st.name})", "its input and output are the same node",
+                                   "put a shunt part into the stage before or after it")
         total = sum(len(st.circuit.parts) for st in self.stages)
         if total > MAX_PARTS:
             raise SizeLimitError("chain", f"the stages have {total} parts together, over the limit of {MAX_PARTS}",
