@@ -100,6 +100,8 @@ class NoiseView:
         ``exact`` or ``numeric``.
     whole_power : float or None
         Output power over all frequencies, exact; None where it diverges.
+    density_closed : tuple of (str, sympy.Expr), or None
+        The output density in ω (:func:`density_form`).
     whole_closed : tuple of (str, sympy.Expr), or None
         That power as a closed form: pairs (factor, expression), factor ``kT`` for the
         resistors (the sum is kT times the expression) or an op-amp's ``en_U1**2``, ``in_U1**2``.
@@ -112,7 +114,7 @@ class NoiseView:
 
     Examples
     --------
-    >>> NoiseView((), (), (), None, None, None, None, None, None, None, None, ()).rms is None
+    >>> NoiseView((), (), (), None, None, None, None, None, None, None, None, None, ()).rms is None
     True
     """
 
@@ -124,6 +126,7 @@ class NoiseView:
     rms: float | None
     method: str | None
     whole_power: float | None
+    density_closed: tuple | None
     whole_closed: tuple | None
     gain: float | None
     input_rms: float | None
@@ -321,11 +324,52 @@ def _closed_whole(terms, four_kt) -> tuple | None:
         i = spectrum_integral(num, den)
         if i is None:
             return None
-        if t.source.kind == "thermal":
-            key, factor = "kT", sympy.cancel(t.source.level * 4 / four_kt)
-        else:
-            key, factor = str(t.source.level), sympy.Integer(1)
+        key, factor = _group(t.source, four_kt)
         groups[key] = groups.get(key, sympy.Integer(0)) + factor * i
+    return tuple((k, sympy.factor(sympy.cancel(v))) for k, v in groups.items())
+
+
+def _group(source, four_kt) -> tuple[str, sympy.Expr]:
+    """(factor, multiplier): ``kT`` and 4/R for a resistor, the level itself (en², in²) and 1 otherwise."""
+    if source.kind == "thermal":
+        return "kT", sympy.cancel(source.level * 4 / four_kt)
+    return str(source.level), sympy.Integer(1)
+
+
+#: Largest transfer (terms of numerator and denominator) written into the density's closed form.
+FORM_TERMS = 60
+
+
+def density_form(terms, four_kt) -> tuple | None:
+    """The output power density (V²/Hz) as a closed form in ω (:data:`W`) and the parts.
+
+    Pairs (factor, expression) as in :attr:`NoiseView.whole_closed`; the 1/f factor
+    (1 + fc/f) of a source with a corner is left out (white part only). None when a
+    transfer is larger than :data:`FORM_TERMS` terms.
+
+    Parameters
+    ----------
+    terms : sequence of NoiseTerm
+    four_kt : sympy.Rational
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.noise import derive_noise
+    >>> n = derive_noise(catalogue.build("rc-lowpass").without_fixtures())
+    >>> density_form(n.loaded, n.spec.four_kt)
+    (('kT', 4*R1/(C1**2*R1**2*w**2 + 1)),)
+    """
+    groups: dict[str, sympy.Expr] = {}
+    for t in terms:
+        if t.transfer.ratio.terms > FORM_TERMS:
+            return None
+        num, den = t.transfer.coefficients()
+        zero = sympy.Integer(0)
+        n2 = sum(c * W ** (2 * k) for k, c in enumerate(magnitude_squared(num, zero)))
+        d2 = sum(c * W ** (2 * k) for k, c in enumerate(magnitude_squared(den, zero)))
+        key, factor = _group(t.source, four_kt)
+        groups[key] = groups.get(key, zero) + factor * n2 / d2
     return tuple((k, sympy.factor(sympy.cancel(v))) for k, v in groups.items())
 
 
@@ -401,6 +445,7 @@ def noise_view(analysis: NoiseAnalysis, view: str, at=DEFAULT_AT) -> NoiseView:
     whole_total = sum(whole) if have and all(w is not None for w in whole) else None
     return NoiseView(frequencies=freqs, density=density, input_density=input_density, band=band, power=total,
                      rms=rms, method=method if total is not None else None, whole_power=whole_total,
+                     density_closed=density_form(terms, spec.four_kt),
                      whole_closed=closed, gain=gain, input_rms=None if rms is None or not gain else rms / gain,
                      contributions=tuple(contributions))
 
@@ -455,3 +500,28 @@ def noise_numbers(analysis: NoiseAnalysis, at=DEFAULT_AT) -> NoiseReport:
         found.append(finding("noise-no-total"))
     adc = None if spec.adc is None else adc_check(spec.adc, views)
     return NoiseReport(analysis=analysis, loaded=views["loaded"], ideal=views["ideal"], adc=adc, findings=tuple(found))
+
+
+def noise_report(circuit, spec=None, *, at=DEFAULT_AT, max_terms: int | None = None) -> NoiseReport:
+    """Everything ``symfilt noise`` shows: :func:`~symfilt.analysis.noise.derive_noise`, then :func:`noise_numbers`.
+
+    Parameters
+    ----------
+    circuit : Circuit
+    spec : NoiseSpec, optional
+    at : sequence of float
+        Frequencies (Hz) of the density table.
+    max_terms : int, optional
+        Size budget of each elimination.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> noise_report(catalogue.build("rc-lowpass"), at=(100,)).loaded.frequencies
+    (100.0,)
+    """
+    from symfilt.analysis.noise import derive_noise
+    from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+
+    n = derive_noise(circuit, spec, max_terms=max_terms or DEFAULT_MAX_TERMS)
+    return noise_numbers(n, at)

@@ -230,7 +230,10 @@ def parse_temperature(text, where: str = "--temperature") -> sympy.Rational:
     """
     if isinstance(text, str):
         text = re.sub(r"(?<=[0-9.])\s*K$", "", text.strip())
-    return _positive(text, where, "temperature (K)")
+    value = _positive(text, where, "temperature (K)")
+    if value > 10**4:
+        raise CircuitFileError(where, f"a temperature of {clip_name(text)} K is out of range", "give kelvin, e.g. 300")
+    return value
 
 
 def parse_band(text: str, where: str = "--band") -> tuple:
@@ -249,8 +252,8 @@ def parse_band(text: str, where: str = "--band") -> tuple:
     pieces = str(text).split(",")
     if len(pieces) != 2:
         raise UsageError(where, f"band {clip_name(text)} is not two frequencies", "write it as F1,F2, e.g. 0.1,20k")
-    lo = sympy.Integer(0) if pieces[0].strip() in ("0", "0Hz") else _positive(pieces[0].strip(), where, "band edge")
-    hi = _positive(pieces[1].strip(), where, "band edge")
+    lo = sympy.Integer(0) if pieces[0].strip() in ("0", "0Hz") else _usage(lambda: _positive(pieces[0].strip(), where, "band edge"))
+    hi = _usage(lambda: _positive(pieces[1].strip(), where, "band edge"))
     if hi <= lo:
         raise UsageError(where, "the band's upper edge is not above its lower edge", "write it as F1,F2 with F1 < F2")
     return lo, hi
@@ -273,7 +276,7 @@ def parse_adc(text: str, where: str = "--adc") -> Adc:
     m = re.fullmatch(r"\s*([0-9]{1,2})\s*(bits?|b)?\s*", pieces[0]) if len(pieces) == 2 else None
     if m is None or not 1 <= int(m.group(1)) <= 32:
         raise UsageError(where, f"converter {clip_name(text)} is not BITS,RANGE", "write it as e.g. 16bit,4.096V")
-    return Adc(int(m.group(1)), _positive(pieces[1].strip(), where, "full-scale range"))
+    return Adc(int(m.group(1)), _usage(lambda: _positive(pieces[1].strip(), where, "full-scale range")))
 
 
 def _opamp_noise(pname: str, spec: dict, where: str) -> OpampNoise | None:
@@ -404,3 +407,52 @@ def load_noise(path, circuit=None) -> NoiseSpec:
     p = Path(path)
     data = tomllib.loads(p.read_bytes().decode("utf-8").removeprefix("\ufeff"))
     return noise_from_dict(data, p.name, circuit)
+
+
+def with_options(spec: NoiseSpec, *, temperature=None, band=None, sample_rate=None, adc=None,
+                 thermal_load: bool = False) -> NoiseSpec:
+    """The spec with command-line options put over the file's values (text as on the command line).
+
+    A band replaces the file's sample rate and the other way round.
+
+    Parameters
+    ----------
+    spec : NoiseSpec
+    temperature, band, sample_rate, adc : str or None
+        ``"310"``, ``"0.1,20k"``, ``"48k"``, ``"16bit,4.096V"``.
+    thermal_load : bool
+        Count R_L's thermal noise.
+
+    Raises
+    ------
+    UsageError
+        For both a band and a sample rate.
+
+    Examples
+    --------
+    >>> with_options(NoiseSpec(), band="1,1k", adc="12bit,2V").band
+    (1, 1000)
+    """
+    from dataclasses import replace
+
+    if band is not None and sample_rate is not None:
+        raise UsageError("--band", "both --band and --sample-rate are given", "give one of them")
+    changes: dict = {}
+    if temperature is not None:
+        changes["temperature"] = parse_temperature(temperature)
+    if band is not None:
+        changes.update(band=parse_band(band), sample_rate=None)
+    if sample_rate is not None:
+        changes.update(band=None, sample_rate=_usage(lambda: _positive(sample_rate, "--sample-rate", "sample rate")))
+    if adc is not None:
+        changes["adc"] = parse_adc(adc)
+    if thermal_load:
+        changes["load_thermal"] = True
+    return replace(spec, **changes)
+
+
+def _usage(make):
+    try:
+        return make()
+    except CircuitFileError as exc:
+        raise UsageError(exc.where, exc.what, exc.fix) from None

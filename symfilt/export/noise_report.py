@@ -1,0 +1,246 @@
+"""Text and JSON of ``symfilt noise``: densities, RMS in the band, contributors, the converter.
+
+>>> from symfilt import catalogue
+>>> from symfilt.analysis.noise import derive_noise
+>>> from symfilt.analysis.noise_numbers import noise_numbers
+>>> r = noise_numbers(derive_noise(catalogue.build("rc-lowpass")))
+>>> noise_text(r).splitlines()[0]
+'Noise of RC low-pass at 300 K, over all frequencies (exact)'
+>>> sorted(noise_dict(r))[:3]
+['adc', 'band_hz', 'findings']
+"""
+
+from __future__ import annotations
+
+import math
+
+from symfilt.export.findings import describe_all
+from symfilt.export.text import one_line
+from symfilt.model.values import format_value
+
+#: Views in the order they are shown.
+VIEWS = (("loaded", "loaded"), ("ideal", "ideal"))
+_DENSITY = "V/√Hz"
+
+
+def _num(x):
+    if x is None:
+        return None
+    x = float(x)
+    return x if math.isfinite(x) else None
+
+
+def _fmt(x, unit: str, digits: int = 4) -> str:
+    if x is None or not math.isfinite(float(x)):
+        return "—"
+    if x == 0:
+        return f"0 {unit}"
+    return format_value(x, unit, digits)
+
+
+def _pct(x) -> str:
+    return "—" if x is None else f"{100 * x:.1f} %"
+
+
+def band_words(view) -> str:
+    """How the RMS was found: the band and the method.
+
+    Parameters
+    ----------
+    view : NoiseView
+
+    Examples
+    --------
+    >>> from types import SimpleNamespace as NS
+    >>> band_words(NS(band=(0.1, 20000.0), method="numeric"))
+    'over 100 mHz to 20 kHz (numeric integration)'
+    """
+    if view.band is None:
+        return "over all frequencies (exact)"
+    lo = "0 Hz" if view.band[0] == 0 else _fmt(view.band[0], "Hz")
+    return f"over {lo} to {_fmt(view.band[1], 'Hz')} (numeric integration)"
+
+
+def form_text(form) -> str:
+    """A grouped closed form as one line: ``kT·(...) + en_U1^2·(...)``.
+
+    Parameters
+    ----------
+    form : tuple of (str, sympy.Expr) or None
+
+    Examples
+    --------
+    >>> import sympy
+    >>> form_text((("kT", 1 / sympy.Symbol("C1", positive=True)),))
+    'kT·(1/C1)'
+    """
+    if form is None:
+        return "—"
+    return " + ".join(f"{k.replace('**', '^')}·({one_line(v)})" for k, v in form)
+
+
+def source_level_text(source, values) -> str:
+    """A source's white density in words: ``4kT/R1 (1.355 pA/√Hz)``, ``en_U1 = 10 nV/√Hz``.
+
+    Parameters
+    ----------
+    source : NoiseSource
+    values : mapping
+        Symbol -> value.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> from symfilt.analysis.noise import NoiseSource
+    >>> en = sympy.Symbol("en_U1", positive=True)
+    >>> source_level_text(NoiseSource("U1 en", "voltage", "U1", en**2), {en: sympy.Rational(1, 10**8)})
+    'en_U1 = 10 nV/√Hz'
+    """
+    level = source.level.xreplace(dict(values))
+    unit = "V/√Hz" if source.kind == "voltage" else "A/√Hz"
+    shown = _fmt(math.sqrt(float(level)), unit) if level.is_number else "needs values"
+    corner = "" if source.corner is None else f", 1/f corner {_fmt(float(source.corner), 'Hz')}"
+    if source.kind == "thermal":
+        return f"√(4kT/{source.part}) = {shown}{corner}"
+    name = "en" if source.kind == "voltage" else "in"
+    return f"{name}_{source.part} = {shown}{corner}"
+
+
+def _density_rows(r) -> list[str]:
+    out = ["Output noise density            loaded           ideal      input-referred (loaded)"]
+    lo, hi = r.loaded, r.ideal
+    for i, f in enumerate(lo.frequencies):
+        cells = [_fmt(v.density[i], _DENSITY) if v.density else "needs values" for v in (lo, hi)]
+        ref = lo.input_density[i] if lo.input_density else None
+        out.append(f"  at {_fmt(f, 'Hz'):<12} {cells[0]:>16} {cells[1]:>15} {_fmt(ref, _DENSITY):>19}")
+    return out
+
+
+def _totals(r) -> list[str]:
+    lo, hi = r.loaded, r.ideal
+    rows = [("RMS " + band_words(lo), lo.rms, hi.rms, "V"),
+            ("  input-referred (RMS / |K|)", lo.input_rms, hi.input_rms, "V")]
+    if lo.band is not None:
+        rows.append(("RMS over all frequencies (exact)", _sqrt(lo.whole_power), _sqrt(hi.whole_power), "V"))
+    out = [f"{label:<44} {_fmt(a, u):>12} {_fmt(b, u):>12}" for label, a, b, u in rows]
+    for name, v in VIEWS:
+        view = getattr(r, name)
+        if view.whole_closed is not None:
+            out.append(f"  power over all frequencies, {name}: {form_text(view.whole_closed)} V²")
+    return out
+
+
+def _sqrt(x):
+    return None if x is None else math.sqrt(x)
+
+
+def _contributors(r, view_name: str) -> list[str]:
+    view = getattr(r, view_name)
+    out = [f"Contributors, {view_name} (largest first)      share         RMS   density at {_fmt(view.frequencies[0], 'Hz')}"
+           if view.frequencies else f"Contributors, {view_name}"]
+    for c in view.contributions:
+        dens = _fmt(c.density[0], _DENSITY) if c.density else "—"
+        out.append(f"  {c.name:<36} {_pct(c.share):>8} {_fmt(c.rms, 'V'):>11} {dens:>14}")
+    return out
+
+
+def _adc_lines(r) -> list[str]:
+    a = r.adc
+    if a is None:
+        return []
+    out = [f"Converter {a.bits} bit, {_fmt(a.full_scale, 'V')} full scale: LSB {_fmt(a.lsb, 'V')}, "
+           f"quantisation noise LSB/√12 = {_fmt(a.quantisation_rms, 'V')} RMS"]
+    for name, _ in VIEWS:
+        ratio = a.ratio.get(name)
+        if ratio is None:
+            out.append(f"  {name}: no RMS noise (give a band)")
+            continue
+        verdict = "below one LSB" if a.below[name] else "ABOVE one LSB"
+        q = getattr(r, name).rms / a.quantisation_rms
+        out.append(f"  {name}: {ratio:.4g} LSB RMS ({verdict}), {q:.3g} × the quantisation noise")
+    return out
+
+
+def noise_text(r) -> str:
+    """The text report of ``symfilt noise``.
+
+    Parameters
+    ----------
+    r : NoiseReport
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.noise import derive_noise
+    >>> from symfilt.analysis.noise_numbers import noise_numbers
+    >>> "Contributors, loaded" in noise_text(noise_numbers(derive_noise(catalogue.build("rc-lowpass"))))
+    True
+    """
+    n = r.analysis
+    title = n.circuit.title or "the stage"
+    out = [f"Noise of {title} at {_fmt(float(n.spec.temperature), 'K')}, {band_words(r.loaded)}"]
+    values = n.values()
+    out.append("Sources (each uncorrelated; resistors 4kT/R as a current across the part):")
+    out += [f"  {t.source.name:<10} {source_level_text(t.source, values)}" for t in n.loaded]
+    for name, _ in VIEWS:
+        out.append(f"Output density S(ω), ω = 2πf, {name}: {form_text(getattr(r, name).density_closed)} V²/Hz")
+    if any(t.source.corner is not None for t in n.loaded):
+        out.append("  (white parts; a source with a 1/f corner fc has its term times 1 + fc/f)")
+    out += _density_rows(r) + _totals(r)
+    for name, _ in VIEWS:
+        out += _contributors(r, name)
+    out += _adc_lines(r)
+    out += [f"note: {x}" for x in describe_all(r.findings)]
+    return "\n".join(out) + "\n"
+
+
+def _form_dict(form):
+    return None if form is None else {k: str(v) for k, v in form}
+
+
+def _view_dict(view, terms) -> dict:
+    return {
+        "density_v_per_rthz": [_num(x) for x in view.density],
+        "input_density_v_per_rthz": [_num(x) for x in view.input_density],
+        "density_form": _form_dict(view.density_closed),
+        "power_v2": _num(view.power), "rms_v": _num(view.rms), "method": view.method,
+        "gain": _num(view.gain), "input_rms_v": _num(view.input_rms),
+        "whole_power_v2": _num(view.whole_power), "whole_form": _form_dict(view.whole_closed),
+        "contributors": [{"name": c.name, "kind": c.kind, "part": c.part, "share": _num(c.share),
+                          "power_v2": _num(c.power), "rms_v": _num(c.rms),
+                          "density_v_per_rthz": [_num(x) for x in c.density]} for c in view.contributions],
+        "transfers": {t.source.name: str(t.transfer.as_expr()) for t in terms},
+    }
+
+
+def noise_dict(r) -> dict:
+    """The JSON of ``symfilt noise`` as a dict (see the README's JSON section).
+
+    Parameters
+    ----------
+    r : NoiseReport
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.noise import derive_noise
+    >>> from symfilt.analysis.noise_numbers import noise_numbers
+    >>> d = noise_dict(noise_numbers(derive_noise(catalogue.build("rc-lowpass"))))
+    >>> d["loaded"]["whole_form"]
+    {'kT': 'R_L/(C1*(R1 + R_L + R_s))'}
+    """
+    n = r.analysis
+    a = r.adc
+    return {
+        "title": n.circuit.title, "temperature_k": _num(n.spec.temperature),
+        "band_hz": None if r.loaded.band is None else [_num(x) for x in r.loaded.band],
+        "frequencies_hz": list(r.loaded.frequencies),
+        "sources": [{"name": t.source.name, "kind": t.source.kind, "part": t.source.part,
+                     "level": str(t.source.level), "unit": t.source.unit,
+                     "corner_hz": _num(t.source.corner)} for t in n.loaded],
+        "loaded": _view_dict(r.loaded, n.loaded), "ideal": _view_dict(r.ideal, n.ideal),
+        "adc": None if a is None else {"bits": a.bits, "full_scale_v": a.full_scale, "lsb_v": a.lsb,
+                                       "quantisation_rms_v": a.quantisation_rms,
+                                       "ratio": {k: _num(v) for k, v in a.ratio.items()}, "below_lsb": a.below},
+        "findings": describe_all(r.findings),
+    }
