@@ -283,7 +283,10 @@ def derive_noise(circuit: Circuit, spec: NoiseSpec | None = None, *,
 
     spec = spec if spec is not None else NoiseSpec()
     loaded, ideal = [], []
+    kept = {p.name for p in _grounded(circuit)} | {LOAD_R}
     for source in noise_sources(circuit, spec):
+        if source.part not in kept:
+            continue  # a resistor across the grounded input
         h = noise_transfer(circuit, source, max_terms=max_terms)
         if h.as_expr() == 0:
             continue

@@ -311,15 +311,19 @@ def _whole(terms, values, spec_values, four_kt) -> tuple[list | None, tuple | No
             continue
         i = spectrum_integral(*cv)
         powers.append(None if i is None else float(level * i))
-    return powers, _closed_whole(terms, four_kt) if powers and all(p is not None for p in powers) else None
+    return powers, _closed_whole(terms, four_kt) if terms else None
 
 
 def _closed_whole(terms, four_kt) -> tuple | None:
-    """The whole-spectrum power in the parts: kT times the resistors' sum, en², in² times theirs."""
+    """The whole-spectrum power in the parts: kT times the resistors' sum, en², in² times theirs.
+
+    Only for white sources and denominators of order 1 or 2 whose coefficients are all
+    positive (for those orders exactly the condition for poles in the left half-plane).
+    """
     groups: dict[str, sympy.Expr] = {}
     for t in terms:
         num, den = t.transfer.coefficients()
-        if len(den) - 1 > CLOSED_FORM_ORDER:
+        if t.source.corner is not None or len(den) - 1 > CLOSED_FORM_ORDER or not all(c.is_positive for c in den):
             return None
         i = spectrum_integral(num, den)
         if i is None:
@@ -428,7 +432,7 @@ def noise_view(analysis: NoiseAnalysis, view: str, at=DEFAULT_AT) -> NoiseView:
     fns = [_density_fn(t, values, values) for t in terms]
     have = all(fn is not None for fn in fns)
     freqs = tuple(float(f) for f in at)
-    whole, closed = _whole(terms, values, values, spec.four_kt) if have else ([None] * len(terms), None)
+    whole, closed = _whole(terms, values, values, spec.four_kt)
     if band is not None and have:
         powers, method = [band_power(fn, *band) for fn in fns], "numeric"
     else:
