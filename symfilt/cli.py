@@ -404,7 +404,12 @@ def note(circuit, output, fmin, fmax, opamp_model):
     c = load(circuit)
     if opamp_model:
         c = c.with_opamp_model(opamp_model)
-    written = write_note(c, output, protect=_inputs(circuit), source=circuit,
+    spec, noise_data = _noise_spec(circuit, c), None
+    if spec.given:  # the note gets a noise section when the file has noise data
+        from symfilt.analysis.noise_numbers import noise_report
+
+        noise_data = noise_report(c, spec)
+    written = write_note(c, output, protect=_inputs(circuit), source=circuit, noise=noise_data,
                          fmin=_frequency(fmin, "--fmin"), fmax=_frequency(fmax, "--fmax"), progress=_progress())
     _wrote(*written)
 

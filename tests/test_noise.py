@@ -320,3 +320,22 @@ def test_cli_noise_bad_options_are_one_line(run_cli, args, words):
     code, out, err = run_cli("noise", "@rc-lowpass", *args)
     assert code == 2 and not out
     assert err.startswith("error: ") and words in err and err.count("\n") == 1
+
+
+# --- the design note ------------------------------------------------------------------
+
+def test_note_has_a_noise_section_only_with_noise_data(run_cli, tmp_path):
+    code, _out, err = run_cli("note", str(EXAMPLES / "demo_noise_buffered.toml"), "-o", str(tmp_path / "b.md"))
+    assert code == 0, err
+    md = (tmp_path / "b.md").read_text(encoding="utf-8")
+    section = md.split("## Noise", 1)[1].split("## Assumptions", 1)[0]
+    rms = noise_report(load_circuit(EXAMPLES / "demo_noise_buffered.toml"),
+                       load_noise(EXAMPLES / "demo_noise_buffered.toml")).loaded.rms
+    assert f"{rms * 1e6:.4g} µV" in section and "U2 en" in section and "RMS in LSB of 16 bit" in section
+    assert all(line.count("|") - line.count("\\|") == 4 for line in section.splitlines() if line.startswith("| "))
+    code, _out, err = run_cli("note", str(EXAMPLES / "demo_noise_passive.toml"), "-o", str(tmp_path / "p.html"))
+    assert code == 0, err
+    assert 'id="noise"' in (tmp_path / "p.html").read_text(encoding="utf-8")
+    code, _out, err = run_cli("note", "@rc-lowpass", "-o", str(tmp_path / "r.html"))
+    assert code == 0, err
+    assert 'id="noise"' not in (tmp_path / "r.html").read_text(encoding="utf-8")

@@ -30,7 +30,20 @@ def _num(x):
     return x if math.isfinite(x) else None
 
 
-def _fmt(x, unit: str, digits: int = 4) -> str:
+def number_text(x, unit: str, digits: int = 4) -> str:
+    """A noise number with an engineering prefix (``9.055 nV/√Hz``); ``—`` for None.
+
+    Parameters
+    ----------
+    x : float or None
+    unit : str
+    digits : int
+
+    Examples
+    --------
+    >>> number_text(1.6e-7, "V"), number_text(None, "V")
+    ('160 nV', '—')
+    """
     if x is None or not math.isfinite(float(x)):
         return "—"
     if x == 0:
@@ -57,8 +70,8 @@ def band_words(view) -> str:
     """
     if view.band is None:
         return "over all frequencies (exact)"
-    lo = "0 Hz" if view.band[0] == 0 else _fmt(view.band[0], "Hz")
-    return f"over {lo} to {_fmt(view.band[1], 'Hz')} (numeric integration)"
+    lo = "0 Hz" if view.band[0] == 0 else number_text(view.band[0], "Hz")
+    return f"over {lo} to {number_text(view.band[1], 'Hz')} (numeric integration)"
 
 
 def form_text(form) -> str:
@@ -98,8 +111,8 @@ def source_level_text(source, values) -> str:
     """
     level = source.level.xreplace(dict(values))
     unit = "V/√Hz" if source.kind == "voltage" else "A/√Hz"
-    shown = _fmt(math.sqrt(float(level)), unit) if level.is_number else "needs values"
-    corner = "" if source.corner is None else f", 1/f corner {_fmt(float(source.corner), 'Hz')}"
+    shown = number_text(math.sqrt(float(level)), unit) if level.is_number else "needs values"
+    corner = "" if source.corner is None else f", 1/f corner {number_text(float(source.corner), 'Hz')}"
     if source.kind == "thermal":
         return f"√(4kT/{source.part}) = {shown}{corner}"
     name = "en" if source.kind == "voltage" else "in"
@@ -110,9 +123,9 @@ def _density_rows(r) -> list[str]:
     out = ["Output noise density            loaded           ideal      input-referred (loaded)"]
     lo, hi = r.loaded, r.ideal
     for i, f in enumerate(lo.frequencies):
-        cells = [_fmt(v.density[i], _DENSITY) if v.density else "needs values" for v in (lo, hi)]
+        cells = [number_text(v.density[i], _DENSITY) if v.density else "needs values" for v in (lo, hi)]
         ref = lo.input_density[i] if lo.input_density else None
-        out.append(f"  at {_fmt(f, 'Hz'):<12} {cells[0]:>16} {cells[1]:>15} {_fmt(ref, _DENSITY):>19}")
+        out.append(f"  at {number_text(f, 'Hz'):<12} {cells[0]:>16} {cells[1]:>15} {number_text(ref, _DENSITY):>19}")
     return out
 
 
@@ -122,7 +135,7 @@ def _totals(r) -> list[str]:
             ("  input-referred (RMS / |K|)", lo.input_rms, hi.input_rms, "V")]
     if lo.band is not None:
         rows.append(("RMS over all frequencies (exact)", _sqrt(lo.whole_power), _sqrt(hi.whole_power), "V"))
-    out = [f"{label:<44} {_fmt(a, u):>12} {_fmt(b, u):>12}" for label, a, b, u in rows]
+    out = [f"{label:<44} {number_text(a, u):>12} {number_text(b, u):>12}" for label, a, b, u in rows]
     for name, v in VIEWS:
         view = getattr(r, name)
         if view.whole_closed is not None:
@@ -136,11 +149,11 @@ def _sqrt(x):
 
 def _contributors(r, view_name: str) -> list[str]:
     view = getattr(r, view_name)
-    out = [f"Contributors, {view_name} (largest first)      share         RMS   density at {_fmt(view.frequencies[0], 'Hz')}"
+    out = [f"Contributors, {view_name} (largest first)      share         RMS   density at {number_text(view.frequencies[0], 'Hz')}"
            if view.frequencies else f"Contributors, {view_name}"]
     for c in view.contributions:
-        dens = _fmt(c.density[0], _DENSITY) if c.density else "—"
-        out.append(f"  {c.name:<36} {_pct(c.share):>8} {_fmt(c.rms, 'V'):>11} {dens:>14}")
+        dens = number_text(c.density[0], _DENSITY) if c.density else "—"
+        out.append(f"  {c.name:<36} {_pct(c.share):>8} {number_text(c.rms, 'V'):>11} {dens:>14}")
     return out
 
 
@@ -148,8 +161,8 @@ def _adc_lines(r) -> list[str]:
     a = r.adc
     if a is None:
         return []
-    out = [f"Converter {a.bits} bit, {_fmt(a.full_scale, 'V')} full scale: LSB {_fmt(a.lsb, 'V')}, "
-           f"quantisation noise LSB/√12 = {_fmt(a.quantisation_rms, 'V')} RMS"]
+    out = [f"Converter {a.bits} bit, {number_text(a.full_scale, 'V')} full scale: LSB {number_text(a.lsb, 'V')}, "
+           f"quantisation noise LSB/√12 = {number_text(a.quantisation_rms, 'V')} RMS"]
     for name, _ in VIEWS:
         ratio = a.ratio.get(name)
         if ratio is None:
@@ -178,7 +191,7 @@ def noise_text(r) -> str:
     """
     n = r.analysis
     title = n.circuit.title or "the stage"
-    out = [f"Noise of {title} at {_fmt(float(n.spec.temperature), 'K')}, {band_words(r.loaded)}"]
+    out = [f"Noise of {title} at {number_text(float(n.spec.temperature), 'K')}, {band_words(r.loaded)}"]
     values = n.values()
     out.append("Sources (each uncorrelated; resistors 4kT/R as a current across the part):")
     out += [f"  {t.source.name:<10} {source_level_text(t.source, values)}" for t in n.loaded]
@@ -244,3 +257,61 @@ def noise_dict(r) -> dict:
                                        "ratio": {k: _num(v) for k, v in a.ratio.items()}, "below_lsb": a.below},
         "findings": describe_all(r.findings),
     }
+
+
+def summary_rows(r) -> list[tuple[str, str, str]]:
+    """(label, loaded, ideal) rows of the main noise numbers, for the design note.
+
+    Parameters
+    ----------
+    r : NoiseReport
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.noise_numbers import noise_report
+    >>> summary_rows(noise_report(catalogue.build("rc-lowpass"), at=(10,)))[0]
+    ('output density at 10 Hz', '6.125 nV/√Hz', '8.824 nV/√Hz')
+    """
+    lo, hi = r.loaded, r.ideal
+    rows = [(f"output density at {number_text(f, 'Hz')}", number_text(lo.density[i] if lo.density else None, _DENSITY),
+             number_text(hi.density[i] if hi.density else None, _DENSITY)) for i, f in enumerate(lo.frequencies)]
+    rows.append(("RMS " + band_words(lo), number_text(lo.rms, "V"), number_text(hi.rms, "V")))
+    rows.append(("input-referred RMS (RMS / |K|)", number_text(lo.input_rms, "V"), number_text(hi.input_rms, "V")))
+    if lo.band is not None:
+        rows.append(("RMS over all frequencies (exact)", number_text(_sqrt(lo.whole_power), "V"),
+                     number_text(_sqrt(hi.whole_power), "V")))
+    if r.adc is not None:
+        rows.append((f"RMS in LSB of {r.adc.bits} bit, {number_text(r.adc.full_scale, 'V')}",
+                     *(("—" if r.adc.ratio[k] is None else f"{r.adc.ratio[k]:.4g}") for k in ("loaded", "ideal"))))
+    return rows
+
+
+def note_lines(r) -> list[str]:
+    """The prose lines of the note's noise section: sources, closed forms, converter, findings.
+
+    Parameters
+    ----------
+    r : NoiseReport
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.noise_numbers import noise_report
+    >>> note_lines(noise_report(catalogue.build("rc-lowpass")))[0]
+    'Temperature 300 K; every resistor and R_s has thermal noise 4kTR; capacitors and op-amp model resistances are noiseless.'
+    """
+    n = r.analysis
+    values = n.values()
+    out = [f"Temperature {number_text(float(n.spec.temperature), 'K')}; every resistor and R_s has thermal noise 4kTR; "
+           "capacitors and op-amp model resistances are noiseless."]
+    out += [f"{t.source.name}: {source_level_text(t.source, values)}." for t in n.loaded if t.source.kind != "thermal"]
+    for name, _ in VIEWS:
+        view = getattr(r, name)
+        if view.whole_closed is not None:
+            out.append(f"Noise power over all frequencies, {name}: {form_text(view.whole_closed)} V².")
+    if r.adc is not None:
+        out.append(f"Converter: LSB {number_text(r.adc.lsb, 'V')}, quantisation noise LSB/√12 = "
+                   f"{number_text(r.adc.quantisation_rms, 'V')} RMS.")
+    out += [x[:1].upper() + x[1:] + "." for x in describe_all(r.findings)]
+    return out
