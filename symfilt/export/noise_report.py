@@ -89,7 +89,8 @@ def form_text(form) -> str:
     """
     if form is None:
         return "—"
-    return " + ".join(f"{k.replace('**', '^')}·({one_line(v)})" for k, v in form)
+    text = " + ".join(f"{k.replace('**', '^')}·({one_line(v)})" for k, v in form)
+    return text.replace("see --format json or latex", "see --format json")
 
 
 def source_level_text(source, values) -> str:
