@@ -339,3 +339,12 @@ def test_note_has_a_noise_section_only_with_noise_data(run_cli, tmp_path):
     code, _out, err = run_cli("note", "@rc-lowpass", "-o", str(tmp_path / "r.html"))
     assert code == 0, err
     assert 'id="noise"' not in (tmp_path / "r.html").read_text(encoding="utf-8")
+
+
+def test_readme_noise_example_is_what_the_command_prints(run_cli):
+    readme = (Path(__file__).resolve().parent.parent / "README.md").read_text(encoding="utf-8")
+    block = readme.split("$ symfilt noise examples/demo_noise_passive.toml\n", 1)[1].split("```", 1)[0]
+    code, out, err = run_cli("noise", str(EXAMPLES / "demo_noise_passive.toml"))
+    assert code == 0, err
+    shown = [line for line in block.splitlines() if line != "..."]
+    assert len(shown) > 10 and all(line in out.splitlines() for line in shown)
