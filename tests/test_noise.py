@@ -62,7 +62,20 @@ def test_loaded_rc_with_a_thermal_load_is_kt_over_the_total_capacitance():
     assert key == "kT" and sympy.simplify(form - 1 / (C1 + sympy.Symbol("C_L", positive=True))) == 0
 
 
+@settings(max_examples=10, deadline=None)
+@given(st.lists(st.integers(min_value=2, max_value=6), min_size=4, max_size=4))
+def test_rc_ladder_output_capacitor_holds_kt_over_c2(exps):
+    # equipartition (common practice): a capacitor of a passive RC network in equilibrium has
+    # <V²> = kT/C, whatever the resistors; here the output capacitor of a two-section ladder
+    r1, r2, c1, c2 = (f"1e{exps[0]}", f"1e{exps[1]}", f"1e-{exps[2] + 4}", f"1e-{exps[3] + 4}")
+    c = Circuit.build([Part.resistor("R1", "in", "a", r1), Part.capacitor("C1", "a", "0", c1),
+                       Part.resistor("R2", "a", "out", r2), Part.capacitor("C2", "out", "0", c2)], source="1k")
+    r = noise_report(c)
+    assert r.loaded.whole_power == pytest.approx(K_B * 300 / float(c2), rel=1e-9)
+
+
 def test_spectrum_integral_against_scipy_for_a_second_order():
+    # Åström, Introduction to Stochastic Control Theory, ch. 5 (table I_n) (from memory);
     # ∫0^∞ |1/(1 + s/(w0 Q) + s²/w0²)|² df against scipy.integrate.quad (independent numeric)
     w0, q = 2 * math.pi * 1000, sympy.Rational(7, 10)
     exact = spectrum_integral([1], [1, 1 / (sympy.Float(w0) * q), 1 / sympy.Float(w0) ** 2])
