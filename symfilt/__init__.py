@@ -34,6 +34,9 @@ from symfilt.errors import (
 )
 from symfilt.analysis.network import NetworkFunction, derive
 from symfilt.model.values import format_value, parse_value
+from symfilt.model.noise import NoiseSpec, OpampNoise, load_noise
+from symfilt.analysis.noise import derive_noise
+from symfilt.analysis.noise_numbers import NoiseReport, noise_report
 
 from symfilt.version import __version__
 
@@ -48,6 +51,9 @@ __all__ = [
     "LoadLimit",
     "Loop",
     "NetworkFunction",
+    "NoiseReport",
+    "NoiseSpec",
+    "OpampNoise",
     "OutputError",
     "Part",
     "Probe",
@@ -64,11 +70,14 @@ __all__ = [
     "catalogue",
     "circuit_to_text",
     "derive",
+    "derive_noise",
     "equivalent",
     "format_value",
     "load_circuit",
     "load_limits",
+    "load_noise",
     "loops",
+    "noise_report",
     "parse_circuit_text",
     "parse_claim",
     "parse_value",

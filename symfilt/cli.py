@@ -406,7 +406,12 @@ def note(circuit, output, fmin, fmax, opamp_model):
     c = load(circuit)
     if opamp_model:
         c = c.with_opamp_model(opamp_model)
-    written = write_note(c, output, protect=_inputs(circuit), source=circuit,
+    spec, noise_data = _noise_spec(circuit, c), None
+    if spec.given:  # the note gets a noise section when the file has noise data
+        from symfilt.analysis.noise_numbers import noise_report
+
+        noise_data = noise_report(c, spec)
+    written = write_note(c, output, protect=_inputs(circuit), source=circuit, noise=noise_data,
                          fmin=_frequency(fmin, "--fmin"), fmax=_frequency(fmax, "--fmax"), progress=_progress())
     _wrote(*written)
 
@@ -507,6 +512,36 @@ def chain(chain_file, fmt, tolerance, plot_file, note_file, fmin, fmax):
     else:
         _emit(chain_text(r))
     _wrote(plot_target, note_file)
+
+
+def _noise_spec(source: str, circuit):
+    """The noise data of a circuit file (defaults for a built-in circuit)."""
+    from symfilt.model.noise import NoiseSpec, load_noise
+
+    return NoiseSpec() if source.startswith("@") else load_noise(source, circuit)
+
+
+@cli.command(short_help="Output noise, loaded and ideal, against the converter's LSB.")
+@click.argument("circuit")
+@click.option("--format", "fmt", type=click.Choice(DESIGN_FORMATS), default="text", show_default=True)
+@click.option("--temperature", metavar="K", help="Temperature in kelvin (default 300, or [noise] temperature).")
+@click.option("--band", metavar="F1,F2", help="Integrate the noise from F1 to F2 Hz, e.g. 0.1,20k.")
+@click.option("--sample-rate", "sample_rate", metavar="FS", help="Integrate from 0 Hz to FS/2 (the Nyquist frequency).")
+@click.option("--adc", metavar="BITS,RANGE", help="Compare with a converter, e.g. 16bit,4.096V.")
+@click.option("--at", "at", metavar="F[,F...]", help="Frequencies of the density table (default 10,1k,10k).")
+@click.option("--thermal-load", "thermal_load", is_flag=True, help="Count R_L's own thermal noise.")
+@click.option("--max-terms", type=click.IntRange(min=10), default=None, help="Size budget of each derivation.")
+def noise(circuit, fmt, temperature, band, sample_rate, adc, at, thermal_load, max_terms):
+    """Noise of CIRCUIT (a file or @name): each source's share, RMS in a band, the converter's LSB."""
+    from symfilt.analysis.noise_numbers import DEFAULT_AT, noise_report
+    from symfilt.export.noise_report import noise_dict, noise_text
+    from symfilt.model.noise import with_options
+
+    c = load(circuit)
+    spec = with_options(_noise_spec(circuit, c), temperature=temperature, band=band, sample_rate=sample_rate,
+                        adc=adc, thermal_load=thermal_load)
+    freqs = DEFAULT_AT if at is None else [_frequency(f, "--at") for f in at.split(",")]
+    _emit_report(fmt, noise_dict, noise_text, noise_report(c, spec, at=freqs, max_terms=max_terms))
 
 
 @cli.command(short_help="The built-in scenario: a sensor into an ADC, passive vs buffered.")

@@ -25,6 +25,8 @@ KINDS = frozenset({
     # design/opamp_error.py
     "ideal-dc-gain-zero", "cutoff-error-too-large", "no-closed-form-real-cutoff",
     "first-order-cutoff-too-large", "first-order-needs-dc-passband", "opamp-error-exact-only",
+    # analysis/noise_numbers.py
+    "noise-opamp-noiseless", "noise-no-total",
 })
 
 

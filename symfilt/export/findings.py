@@ -52,6 +52,10 @@ _WORDS: dict[str, Callable[[dict], str]] = {
     "opamp-error-exact-only": lambda d: ("the op-amps' " + ", ".join(d["parameters"]) + " stay as the open-loop "
                                          "gain grows, so there are no first-order terms in 1/A and 1/GBW: "
                                          "the error shown is the exact one, real against ideal"),
+    "noise-opamp-noiseless": lambda d: ("no noise data (en, in) for " + ", ".join(d["names"])
+                                        + ": counted noiseless"),
+    "noise-no-total": lambda d: ("the noise over all frequencies is not finite (a flat or 1/f density): "
+                                 "give --band F1,F2 or --sample-rate FS"),
 }
 
 

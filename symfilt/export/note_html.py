@@ -15,6 +15,7 @@ from html import escape
 from symfilt.analysis.stage import Analysis
 from symfilt.export.findings import describe
 from symfilt.export.latex import sensitivity_rows
+from symfilt.export.noise_note import noise_html
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, has_fixtures, kind_words, node_name, number_rows,
                    opamp_error_lines, part_rows, plain_number, tie_lines, sensitivity_table, stability_row, standard_form_tex,
                    sweep, views)
@@ -228,7 +229,8 @@ def _html_real_opamps(e) -> list[str]:
             "</ul></section>"]
 
 
-def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=None, opamp_error=None) -> str:
+def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=None, opamp_error=None,
+              noise=None) -> str:
     """The design note as one standalone HTML page (MathML equations, inline SVG plot, no scripts).
 
     Parameters
@@ -243,6 +245,8 @@ def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=Non
         Frequencies in the Bode plot.
     opamp_error : OpampError, optional
         Real against ideal op-amps, shown as a "Real op-amps" section.
+    noise : NoiseReport, optional
+        Shown as a "Noise" section (:mod:`symfilt.export.noise_note`).
 
     Examples
     --------
@@ -268,6 +272,7 @@ def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=Non
         '<section id="equations"><h2>Equations</h2>', *_html_equations(a), "</section>",
         '<section id="bode"><h2>Frequency response</h2>', *_html_plot(a, fmin, fmax, points), "</section>",
         '<section id="sensitivity"><h2>Sensitivities</h2>', *_html_sensitivity(a), "</section>",
+        *noise_html(noise),
         '<section id="assumptions"><h2>Assumptions</h2><ul>',
         *[f"<li>{_html_prose(x)}</li>" for x in assumptions(a)], "</ul></section>",
         '<section id="cautions" class="cautions"><h2>Cautions</h2><ul>',

@@ -19,6 +19,7 @@ from pathlib import Path
 from symfilt.analysis.stage import Analysis
 from symfilt.export.formats import note_kind
 from symfilt.export.latex import stage_equations
+from symfilt.export.noise_note import noise_markdown
 from symfilt.export.outfile import write_bytes_atomic, write_text_atomic
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, kind_words, node_name,
                                  number_rows, part_rows, sensitivity_table, tie_lines, show_number, stability_row,
@@ -29,7 +30,8 @@ def _md_cell(text: str) -> str:
     return text.replace("|", "\\|")
 
 
-def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = "", opamp_error=None) -> str:
+def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = "", opamp_error=None,
+                  noise=None) -> str:
     """The design note as Markdown: tables, ``$$`` LaTeX equations, and a link to the plot file.
 
     Parameters
@@ -41,6 +43,8 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
         Where the circuit came from, for the footer.
     opamp_error : OpampError, optional
         Real against ideal op-amps, shown under "Real op-amps".
+    noise : NoiseReport, optional
+        Shown under "Noise" (:mod:`symfilt.export.noise_note`).
 
     Examples
     --------
@@ -102,6 +106,7 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
         for name, cells in srows:
             out.append(f"| {name} | " + " | ".join(c["text"] for c in cells) + " |")
         out.append("")
+    out += noise_markdown(noise)
     out += ["## Assumptions", "", *[f"- {x}" for x in assumptions(a)], "",
             "## Cautions", "", *[f"- {x}" for x in cautions(a)], "",
             f"*Derived exactly by symfilt {__version__}" + (f" from {source}" if source else "")
@@ -161,7 +166,7 @@ def note_latex(a: Analysis) -> str:
 
 
 def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=None, points=None,
-               progress=None) -> list[Path]:
+               progress=None, noise=None) -> list[Path]:
     """Analyse a circuit and write its design note; the format follows the suffix (.html, .md, .tex).
 
     A Markdown note gets its Bode plot as ``<name>-bode.svg`` beside it.
@@ -178,6 +183,8 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
         Bode plot range (Hz) and number of frequencies.
     progress : callable, optional
         Receives stage names while deriving.
+    noise : NoiseReport, optional
+        Adds a "Noise" section to the HTML and Markdown notes.
 
     Returns
     -------
@@ -197,7 +204,8 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
     p = Path(path)
     write = _WRITERS[note_kind(p)]
     a = circuit if isinstance(circuit, Analysis) else analyse(circuit, progress=progress)
-    return write(a, p, protect=protect, source=source, fmin=fmin, fmax=fmax, points=points, error=_opamp_error(a))
+    return write(a, p, protect=protect, source=source, fmin=fmin, fmax=fmax, points=points, error=_opamp_error(a),
+                 noise=noise)
 
 
 def _opamp_error(a: Analysis):
@@ -213,20 +221,20 @@ def _opamp_error(a: Analysis):
         return None
 
 
-def _write_html(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None) -> list[Path]:
+def _write_html(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None) -> list[Path]:
     from symfilt.export.note_html import note_html
 
-    write_text_atomic(p, note_html(a, source=source, fmin=fmin, fmax=fmax, points=points, opamp_error=error),
-                      protect=protect)
+    write_text_atomic(p, note_html(a, source=source, fmin=fmin, fmax=fmax, points=points, opamp_error=error,
+                                   noise=noise), protect=protect)
     return [p]
 
 
-def _write_latex(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None) -> list[Path]:
+def _write_latex(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None) -> list[Path]:
     write_text_atomic(p, note_latex(a), protect=protect)
     return [p]
 
 
-def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None) -> list[Path]:
+def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None) -> list[Path]:
     from symfilt.export.plot import render_bode
 
     data, _ = sweep(a, fmin, fmax, points)
@@ -237,7 +245,8 @@ def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points
         write_bytes_atomic(svg_path, render_bode(data, "svg"), protect=protect)
         written.append(svg_path)
         plot_name = svg_path.name
-    write_text_atomic(p, note_markdown(a, plot_file=plot_name, source=source, opamp_error=error), protect=protect)
+    write_text_atomic(p, note_markdown(a, plot_file=plot_name, source=source, opamp_error=error, noise=noise),
+                      protect=protect)
     written.append(p)
     return written
 

@@ -19,6 +19,7 @@ from pathlib import Path
 
 from symfilt.model.circuit import PART_PINS, Circuit, Fixture, Parameter, Part, clip_name
 from symfilt.errors import CircuitFileError, SizeLimitError, SymfiltError
+from symfilt.model.noise import noise_from_dict
 from symfilt.model.structure import MAX_PARTS
 from symfilt.model.values import format_value
 
@@ -27,12 +28,13 @@ MAX_FILE_BYTES = 256 * 1024
 #: Longest title, in characters.
 MAX_TITLE = 200
 
-_TOP_KEYS = {"title", "ports", "source", "load", "parameters", "parts", "probes"}
+_TOP_KEYS = {"title", "ports", "source", "load", "parameters", "parts", "probes", "noise"}  # [noise]: symfilt.model.noise
 _PART_KEYS = {
     "resistor": {"kind", "nodes", "value"},
     "capacitor": {"kind", "nodes", "value"},
     "inductor": {"kind", "nodes", "value"},
-    "opamp": {"kind", "plus", "minus", "out", "model", "gain", "gbw", "pole2", "rout", "rin", "cin", "iout_max", "slew"},
+    "opamp": {"kind", "plus", "minus", "out", "model", "gain", "gbw", "pole2", "rout", "rin", "cin", "iout_max", "slew",
+              "en", "in", "fc_en", "fc_in"},  # noise data, read by symfilt.model.noise
     "vcvs": {"kind", "nodes", "gain"},
     "vccs": {"kind", "nodes", "gain"},
     "ccvs": {"kind", "nodes", "gain", "control"},
@@ -223,7 +225,8 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
     if unknown:
         key = sorted(unknown)[0]
         raise CircuitFileError(name, f"unknown section or key {clip_name(key)!r}",
-                               _suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parameters], [parts], [probes]")
+                               _suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parameters], "
+                               "[parts], [probes], [noise]")
     title = data.get("title", "")
     if not isinstance(title, str):
         raise CircuitFileError(f"{name} title", "the title must be text", "write title = \"...\"")
@@ -267,6 +270,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
         circuit.check()
     except SymfiltError as exc:
         raise type(exc)(f"{name} {_file_place(exc.where)}", exc.what, exc.fix) from None
+    noise_from_dict(data, name, circuit)  # a bad [noise] table or en/in is refused by every command
     return circuit
 
 

@@ -19,9 +19,11 @@ capacitances::
   an open circuit and no capacitance; ``"symbol"`` keeps the parameter as the
   symbol ``Rout_<name>``, ``Rin_<name>``, ``Cin_<name>``; a value fixes it. ``cin``
   is from each input to ground (the same value on both).
+* ``en``, ``in``, ``fc_en``, ``fc_in``: noise data (densities in V/√Hz and A/√Hz, 1/f
+  corners in Hz); they never enter the equations (:mod:`symfilt.model.noise`).
 
 >>> [p.key for p in PARAMETERS]
-['gain', 'gbw', 'pole2', 'rout', 'rin', 'cin', 'iout_max', 'slew']
+['gain', 'gbw', 'pole2', 'rout', 'rin', 'cin', 'iout_max', 'slew', 'en', 'in', 'fc_en', 'fc_in']
 """
 
 from __future__ import annotations
@@ -105,6 +107,11 @@ PARAMETERS = (
     Parameter("cin", "Cin_", "input capacitance to ground on each input", "F"),
     Parameter("iout_max", None, "output current limit", "A"),
     Parameter("slew", None, "slew rate", "V/µs"),
+    # noise data: no Part field, no symbol in the MNA equations (read by symfilt.model.noise)
+    Parameter("en", None, "voltage noise density", "V/√Hz"),
+    Parameter("in", None, "current noise density", "A/√Hz"),
+    Parameter("fc_en", None, "1/f corner of the voltage noise", "Hz"),
+    Parameter("fc_in", None, "1/f corner of the current noise", "Hz"),
 )
 #: key -> Parameter.
 PARAMETER = {p.key: p for p in PARAMETERS}
