@@ -467,7 +467,9 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
               help="Also write a design note: .html (plot inside) or .md (plot beside it unless --plot names one).")
 @click.option("--fmin", metavar="HZ", help="Lowest frequency of the plot.")
 @click.option("--fmax", metavar="HZ", help="Highest frequency of the plot.")
-def chain(chain_file, fmt, tolerance, plot_file, note_file, fmin, fmax):
+@click.option("--max-terms", type=click.IntRange(min=10), default=None,
+              help="Size budget of each elimination (terms per polynomial).")
+def chain(chain_file, fmt, tolerance, plot_file, note_file, fmin, fmax, max_terms):
     """Analyse CHAIN_FILE: stages connected output to input, each interface's loading, where a buffer helps."""
     from pathlib import Path
 
@@ -491,7 +493,7 @@ def chain(chain_file, fmt, tolerance, plot_file, note_file, fmin, fmax):
     for target in (plot_target, note_file):  # refused before the work, not after the first file
         if target:
             output_target(target, protect=protect)
-    r = chain_report(ch, tolerance=tol, progress=_progress())
+    r = chain_report(ch, tolerance=tol, progress=_progress(), **({} if max_terms is None else {"max_terms": max_terms}))
     plot_bytes = None
     if plot_target:
         plot_bytes = chain_plot_bytes(r, plot_format(plot_target), _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"))
