@@ -11,8 +11,7 @@ import sympy
 from symfilt.model.circuit import S
 from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.numeric import band_edges, cutoff_from_coefficients, finite_float, passband_gain, trim
-from symfilt.analysis.response import (cutoff_sensitivities, pole_values, reduce_at_values, response_kind,
-                                      response_numbers)
+from symfilt.analysis.response import cutoff_sensitivities, pole_values, response_numbers
 
 if TYPE_CHECKING:
     from symfilt.analysis.stage import StageResult
@@ -54,7 +53,7 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
         return finite_float(sympy.sympify(e).xreplace(dict(values)))
 
     response = response_numbers(stage.transfer, values) if stage.transfer.order() >= 1 else {}
-    out.update(_cutoff_number(stage, values, response.get("kind")))
+    out.update(_cutoff_number(stage, values, response))
     if stage.cutoff.edges is not None and all(known(e) for e in stage.cutoff.edges):
         lo, hi = (num(e) for e in stage.cutoff.edges)
         out["low_edge_hz"] = None if lo is None else lo / (2 * math.pi)
@@ -85,15 +84,15 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
 NO_CUTOFF_KINDS = ("notch", "allpass")
 
 
-def _cutoff_number(stage: StageResult, values: Mapping, kind: str | None = None) -> dict:
+def _cutoff_number(stage: StageResult, values: Mapping, response: Mapping | None = None) -> dict:
     """``cutoff_hz`` from the closed form when it has values, else found numerically.
 
     Every response of any order gets a numeric cutoff when its transfer function has all
     its values (the pass band by :func:`~symfilt.analysis.numeric.passband_gain`), except a
     band-pass (its two edges, numeric ones for a response with no pass band at DC or HF),
-    a notch and an all-pass (by the symbolic kind, or by ``kind``, the kind at the values
-    after exact cancellation, :func:`~symfilt.analysis.response.response_kind`: a balanced
-    twin-T). ``cutoff_hz`` None with ``no_cutoff`` True: the response never falls 3 dB below
+    a notch and an all-pass (by the symbolic kind, or by the kind at the values after exact
+    cancellation in ``response``, :func:`~symfilt.analysis.response.response_numbers`: a
+    balanced twin-T), and any response with a null on the jw axis. ``cutoff_hz`` None with ``no_cutoff`` True: the response never falls 3 dB below
     its pass-band gain.
     """
     cut = stage.cutoff
@@ -107,7 +106,8 @@ def _cutoff_number(stage: StageResult, values: Mapping, kind: str | None = None)
     coeffs = stage.transfer.coefficient_values(values)  # None when a symbol it uses has no value
     if coeffs is None:
         return {}
-    if kind in NO_CUTOFF_KINDS:  # a notch or all-pass at the values (a twin-T): no single cutoff
+    response = response or {}
+    if response.get("kind") in NO_CUTOFF_KINDS or response.get("notch_null"):  # a twin-T: no single cutoff
         return {}
     if passband_gain(*coeffs)[0] is None:  # no pass band at DC or at HF: a band-pass shape
         edges = band_edges(*coeffs)
@@ -329,9 +329,7 @@ def _numeric_cutoff_sensitivity(stage: StageResult, values: Mapping) -> dict | N
     h = stage.transfer
     if h.free_symbols() - {S} - set(values):
         return None
-    response = reduce_at_values(h, values)
-    kind = None if response is None else response_kind(response)
-    hz = _cutoff_number(stage, values, kind).get("cutoff_hz")
+    hz = _cutoff_number(stage, values, response_numbers(h, values)).get("cutoff_hz")
     if hz is None:
         return None
     return cutoff_sensitivities(h, values, 2 * math.pi * hz)

@@ -299,6 +299,9 @@ def response_kind(red: Reduced) -> str:
 def notch_numbers(red: Reduced) -> dict:
     """A notch's frequency, depth and -3 dB edges (relative to the pass-band gain).
 
+    Also used for a null on the jw axis in a response of another kind (a heavily loaded
+    twin-T is a high-pass with a null); its caller keeps only frequency and depth there.
+
     The frequency is the exact jw-axis zero when N has one (``notch_null`` True, depth None:
     infinite), else the deepest minimum of |H(jw)|. The pass-band gain is the DC gain when it
     is not zero, else the HF gain (:func:`~symfilt.analysis.numeric.passband_gain`); the edges
@@ -447,8 +450,9 @@ def response_numbers(h: NetworkFunction, values: Mapping) -> dict:
         if a0 * a2 > 0:
             out["f0_hz"] = math.sqrt(a0 / a2) / (2 * math.pi)
             out["q"] = math.sqrt(a0 * a2) / a1
-    if kind == "notch":
-        out.update(notch_numbers(red))
+    if kind == "notch" or jw_nulls(red.num):  # a null on the jw axis is a notch in any shape
+        notch = notch_numbers(red)
+        out.update(notch if kind == "notch" else {k: v for k, v in notch.items() if k.startswith("notch")})
     tau = group_delay_dc(red)
     if tau is not None:
         out["group_delay_dc_s"] = tau
