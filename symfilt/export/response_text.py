@@ -9,6 +9,7 @@ from symfilt.model.values import format_value
 
 #: Rows of the numbers table (JSON key, label, LaTeX label, unit), after the band edges.
 RESPONSE_ROWS = (
+    ("order", "order at these values", "n", ""),
     ("notch_hz", "notch frequency", "f_{n}", "Hz"),
     ("notch_depth_db", "notch depth", "\\mathrm{depth}_{n}", "dB"),
     ("bandwidth_hz", "bandwidth", "f_{H} - f_{L}", "Hz"),
@@ -129,7 +130,7 @@ def pole_zero_lines(numeric: dict) -> list[str]:
     >>> from symfilt import catalogue
     >>> from symfilt.analysis.stage import analyse
     >>> lines = pole_zero_lines(analyse(catalogue.build("twin-t-notch"), sensitivity=False).numeric)
-    >>> lines[0], lines[-2]
+    >>> lines[0], lines[-1]
     ('Poles and zeros at the given values', '    zeros: pair on the jω axis at 1.061 kHz')
     """
     out = []
@@ -144,4 +145,85 @@ def pole_zero_lines(numeric: dict) -> list[str]:
     return ["Poles and zeros at the given values"] + out if out else []
 
 
-__all__ = ["NULL_TEXT", "RESPONSE_ROWS", "depth_text", "kind_rows", "pole_zero_lines", "roots_text"]
+_ROOT_LISTS = (("poles", "pole", "p"), ("zeros", "zero", "z"), ("cancelled", "cancelled pole-zero", "c"))
+_NONE = {"value": None, "text": "—", "key": None}
+
+
+def word_rows(numeric: dict) -> list[dict]:
+    """Rows of words for a note's numbers table: the kind at the values, and whether a notch is an exact null.
+
+    Parameters
+    ----------
+    numeric : dict
+        ``Analysis.numeric``.
+
+    Returns
+    -------
+    list of dict
+        ``{"label", "loaded", "ideal"}``, each cell ``{"value", "text", "key"}`` (key None where absent).
+
+    Examples
+    --------
+    >>> word_rows({"loaded": {"kind": "notch", "order": 2, "notch_null": True}, "ideal": {}})[1]["loaded"]["text"]
+    'yes: infinite depth'
+    """
+    rows = []
+    for key, label, words in (("kind", "kind at these values", None),
+                              ("notch_null", "exact null at the notch", {True: "yes: infinite depth",
+                                                                         False: "no: finite depth"})):
+        cells = {}
+        for view in ("loaded", "ideal"):
+            v = numeric.get(view, {}).get(key)
+            text = "—" if v is None else (words[v] if words else str(v))
+            cells[view] = {"value": None if v is None else str(v), "text": text,
+                           "key": None if v is None else f"numeric.{view}.{key}"}
+        if cells["loaded"]["key"] or cells["ideal"]["key"]:
+            rows.append({"label": label, **cells})
+    return rows
+
+
+def root_rows(numeric: dict, show) -> list[dict]:
+    """Number rows for a note: each real root's corner frequency and each complex pair's f0 and Q.
+
+    One row per root with ``imag >= 0`` (a conjugate pair once), by position in the lists of
+    :func:`symfilt.analysis.response.root_list`, loaded and ideal side by side.
+
+    Parameters
+    ----------
+    numeric : dict
+        ``Analysis.numeric``.
+    show : callable
+        (number, unit) -> display text.
+
+    Returns
+    -------
+    list of dict
+        Rows shaped as :func:`symfilt.export.note.number_rows` makes them.
+
+    Examples
+    --------
+    >>> p = {"real": -1.0, "imag": 0.0, "f_hz": 0.159, "q": None}
+    >>> [r["label"] for r in root_rows({"loaded": {"poles": [p]}, "ideal": {}}, lambda v, u: f"{v} {u}")]
+    ['pole 1 frequency']
+    """
+    rows = []
+    for key, word, tex in _ROOT_LISTS:
+        picked = {view: [(i, r) for i, r in enumerate(numeric.get(view, {}).get(key) or []) if r["imag"] >= 0]
+                  for view in ("loaded", "ideal")}
+        for k in range(max(len(v) for v in picked.values())):
+            for field, what, unit, t in (("f_hz", "frequency", "Hz", f"|{tex}_{{{k + 1}}}|/2\\pi"),
+                                         ("q", "Q", "", f"Q_{{{tex}{k + 1}}}")):
+                cells = {}
+                for view, roots in picked.items():
+                    i, r = roots[k] if k < len(roots) else (None, {})
+                    v = r.get(field)
+                    cells[view] = _NONE if v is None else {"value": v, "text": show(v, unit),
+                                                           "key": f"numeric.{view}.{key}.{i}.{field}"}
+                if cells["loaded"]["key"] or cells["ideal"]["key"]:
+                    rows.append({"key": f"{key}.{k}.{field}", "label": f"{word} {k + 1} {what}", "tex": t,
+                                 "unit": unit, **cells, "ratio": _NONE})
+    return rows
+
+
+__all__ = ["NULL_TEXT", "RESPONSE_ROWS", "depth_text", "kind_rows", "pole_zero_lines", "root_rows", "roots_text",
+           "word_rows"]
