@@ -284,8 +284,8 @@ def magnitude_extrema(num: Sequence[float], den: Sequence[float]) -> list[tuple[
     for i, a in enumerate(p):
         for j, b in enumerate(dq):
             crit[i + j] -= a * b
-    value = lambda u: sum(c * u**k for k, c in enumerate(p)) / sum(c * u**k for k, c in enumerate(q))
-    return [(u, value(u)) for u in positive_roots(crit) if math.isfinite(value(u))]
+    at = lambda cs, u: sum(c * u**k for k, c in enumerate(cs))
+    return [(u, at(p, u) / at(q, u)) for u in positive_roots(crit) if at(q, u) != 0 and math.isfinite(at(p, u) / at(q, u))]
 
 
 def numeric_cutoff(h, values: Mapping) -> float | None:
@@ -415,7 +415,8 @@ def log_difference(hi, lo, rel_step: float) -> float | None:
 def numeric_sensitivity(f: Callable[[float], float | None], x0: float, rel_step: float = 1e-6) -> float | None:
     """Normalized sensitivity of a numeric function at x0 by a central difference in log x.
 
-    Used where a quantity has no closed form (cutoff beyond second order).
+    A second opinion where a quantity has no closed form (the tests check the numeric cutoff's
+    implicit derivative, :func:`symfilt.analysis.response.cutoff_sensitivities`, against it).
 
     Parameters
     ----------

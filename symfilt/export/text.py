@@ -245,7 +245,7 @@ def _sens_table(a: Analysis, st: StageResult, key: str) -> list[str]:
     if not st.sensitivity:
         return []
     numeric = a.numeric.get(key, {}).get("sensitivity", {})
-    # a cutoff found numerically has numeric sensitivities only (central differences)
+    # a cutoff found numerically has numeric sensitivities only (the implicit derivative of the root)
     quantities = sensitivity_quantities({q: st.sensitivity.get(q) or numeric.get(q) for q in {*st.sensitivity, *numeric}})
     if not quantities:
         return ["  no closed-form quantity to take sensitivities of"]
