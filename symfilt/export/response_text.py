@@ -64,12 +64,12 @@ def kind_rows(lo: dict, hi: dict) -> list[str]:
     Examples
     --------
     >>> kind_rows({"kind": "notch", "order": 2}, {"kind": "notch", "order": 2})[0].split()
-    ['kind', 'here', 'notch', 'notch']
+    ['kind', '(values)', 'notch', 'notch']
     """
     rows = []
     if "kind" in lo or "kind" in hi:
-        rows.append(f"  {'kind here':<14}{lo.get('kind', '—'):>16}{hi.get('kind', '—'):>16}")
-        rows.append(f"  {'order here':<14}{str(lo.get('order', '—')):>16}{str(hi.get('order', '—')):>16}")
+        rows.append(f"  {'kind (values)':<14}{lo.get('kind', '—'):>16}{hi.get('kind', '—'):>16}")
+        rows.append(f"  {'order (values)':<14}{str(lo.get('order', '—')):>16}{str(hi.get('order', '—')):>16}")
     lo_d, hi_d = depth_text(lo), depth_text(hi)
     if lo_d or hi_d:
         rows.append(f"  {'notch depth':<14}loaded {lo_d or '—'}; ideal {hi_d or '—'} (below the pass-band gain)")

@@ -196,8 +196,8 @@ def _numbers(a: Analysis) -> list[str]:
         f = lambda v: "—" if v is None else f"{v:.3f} dB"
         rows.append(f"  {'DC gain (dB)':<14}{f(lo.get('dc_gain_db')):>16}{f(hi.get('dc_gain_db')):>16}")
     add("group delay", "group_delay_dc_s", "s")
-    add("peaking", "peaking_db", "dB", raw=True)
-    add("ripple", "ripple_db", "dB", raw=True)
+    add("peaking (dB)", "peaking_db", raw=True)
+    add("ripple (dB)", "ripple_db", raw=True)
     add("Zout at DC", "zout_dc_ohm", "Ω")
     add("|Zout| at fc", "zout_cutoff_ohm", "Ω")
     rows += _hf_rows(lo, hi)
