@@ -303,3 +303,15 @@ def test_implicit_cutoff_sensitivity_against_the_closed_form(name):
         assert set(implicit) == set(closed)
         for k in closed:
             assert implicit[k] == pytest.approx(closed[k], abs=1e-9)
+
+
+def test_a_finite_notch_depth_is_printed_in_db(tmp_path):
+    # The text report of the 1 % mismatched twin-T names its depth in dB, not "infinite".
+    from symfilt.model.circuit_file import circuit_to_text
+
+    f = tmp_path / "twin.toml"
+    f.write_text(circuit_to_text(twin_t("50", "100k", R3=5050.0)), encoding="utf-8")
+    text = CliRunner().invoke(cli, ["derive", str(f)]).output
+    n = analyse(twin_t("50", "100k", R3=5050.0), sensitivity=False).numeric
+    line = next(x for x in text.splitlines() if x.strip().startswith("notch depth"))
+    assert f"loaded {n['loaded']['notch_depth_db']:.2f} dB" in line and "infinite" not in line
