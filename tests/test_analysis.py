@@ -771,7 +771,8 @@ STAGE_KEYS = {"transfer", "numerator", "denominator", "order", "kind", "dc_gain"
 NUMERIC_KEYS = {"cutoff_hz", "f0_hz", "q", "dc_gain", "dc_gain_db"}
 #: Numbers present only where they exist (README "JSON output").
 OPTIONAL_NUMERIC_KEYS = {"sensitivity", "low_edge_hz", "high_edge_hz", "stability", "hf_slope_db_per_decade", "hf_gain",
-                         "hf_gain_db"}
+                         "hf_gain_db", "kind", "order", "poles", "zeros", "cancelled", "bandwidth_hz", "notch_hz",
+                         "notch_depth_db", "notch_null", "group_delay_dc_s", "peaking_db", "ripple_db", "no_cutoff"}
 
 
 def _run(args):

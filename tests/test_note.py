@@ -33,7 +33,7 @@ NOTE_CIRCUITS = ["sallen-key-lowpass", "rc-lowpass", "mfb-bandpass", "twin-t-not
 VOID = {"meta", "br", "hr", "img", "input", "link", "col", "area", "base", "source", "wbr", "mspace",
         "path", "use", "stop", "rect", "circle", "ellipse", "line", "polyline", "polygon"}
 PREFIX = {"p": 1e-12, "n": 1e-9, "u": 1e-6, "µ": 1e-6, "m": 1e-3, "": 1.0, "k": 1e3, "M": 1e6, "G": 1e9}
-NUMBER = re.compile(r"(?<![\w.(])(-?\d+(?:\.\d+)?(?:e[-+]?\d+)?)(?:\s?([pnuµmkMG]?)(?:Hz|Ω|F|H|dB))?(?![\w.])")
+NUMBER = re.compile(r"(?<![\w.(])(-?\d+(?:\.\d+)?(?:e[-+]?\d+)?)(?:\s?([pnuµmkMG]?)(?:Hz|Ω|F|H|dB|s))?(?![\w.])")
 
 
 @pytest.fixture(scope="module")
@@ -189,7 +189,12 @@ def test_every_html_number_equals_derive_json(analyses, name):
     keys = {attrs.get("data-key") for attrs, _ in p.cells}
     for view in ("loaded", "ideal"):
         for quantity, value in data["numeric"][view].items():
-            if quantity != "sensitivity" and value is not None:  # numbers and the stability word
+            if isinstance(value, list):  # poles, zeros, cancelled: each root once per conjugate pair
+                for i, r in enumerate(value):
+                    if r["imag"] >= 0:
+                        assert f"numeric.{view}.{quantity}.{i}.f_hz" in keys, (view, quantity, i)
+                        assert r["q"] is None or f"numeric.{view}.{quantity}.{i}.q" in keys, (view, quantity, i)
+            elif quantity != "sensitivity" and value is not None:  # numbers and the words (stability, kind)
                 assert f"numeric.{view}.{quantity}" in keys, (view, quantity)
             if quantity == "sensitivity":
                 for q, table in value.items():
@@ -303,8 +308,11 @@ def test_latex_fragment_is_balanced_and_its_numbers_are_derive_numbers(analyses,
     for line in body.splitlines():
         m = re.fullmatch(r"\s*(f_\{[^}]*\}|Q|H\(0\)|20 \\log_\{10\} \\left\|H\(0\)\\right\|"
                          r"|(?:20 \\log_\{10\} )?\\left\|H\(j\\infty\)\\right\||\\mathrm\{slope\}_\{\\infty\}"
-                         r"|Z_\{out\}\(0\)|\\left\|Z_\{out\}\(j\\omega_c\)\\right\|) "
-                         r"&\\approx (-?[\d.e+-]+)(?:\\,\\mathrm\{(\\mu |[pnmkMG])?(Hz|dB/decade|dB|\\Omega)\})?( \\\\)?", line)
+                         r"|Z_\{out\}\(0\)|\\left\|Z_\{out\}\(j\\omega_c\)\\right\|"
+                         # the response at the values: order, notch, bandwidth, delay, peaking, ripple, roots
+                         r"|n|f_\{H\} - f_\{L\}|\\mathrm\{depth\}_\{n\}|\\tau_\{g\}\(0\)|\\mathrm\{peak\}"
+                         r"|\\mathrm\{ripple\}|\|[pzc]_\{\d+\}\|/2\\pi|Q_\{[pzc]\d+\}) "
+                         r"&\\approx (-?[\d.e+-]+)(?:\\,\\mathrm\{(\\mu |[pnmkMG])?(Hz|dB/decade|dB|\\Omega|s)\})?( \\\\)?", line)
         if m:
             numbers += 1
             prefix = {"\\mu ": 1e-6}.get(m.group(3), PREFIX.get(m.group(3) or "", 1.0))

@@ -377,7 +377,8 @@ class NetworkFunction:
             return self
         return NetworkFunction.from_ratio(self.ratio.subs(values), self.quantity)
 
-    def coefficient_values(self, values: Mapping, *, exact: bool = False) -> tuple[list, list] | None:
+    def coefficient_values(self, values: Mapping, *, exact: bool = False,
+                           derivative: str | None = None) -> tuple[list, list] | None:
         """Coefficients of numerator and denominator (lowest power of s first) as floats at
         the given values; None when a symbol the coefficients use has no value.
 
@@ -391,6 +392,9 @@ class NetworkFunction:
         exact : bool
             Return exact sympy Rationals instead of floats (pi, where it occurs, as the
             nearest double).
+        derivative : str, optional
+            A symbol's name: the coefficients' partial derivatives by it instead (exact, on
+            the flint polynomials), at the same values.
 
         Examples
         --------
@@ -399,17 +403,24 @@ class NetworkFunction:
         ([1.0], [1.0, 0.001])
         >>> NetworkFunction(sympy.Integer(1), 1 + S * R * C).coefficient_values({R: 1000, C: sympy.Rational(1, 3)}, exact=True)
         ([1], [1, 1000/3])
+        >>> NetworkFunction(sympy.Integer(1), 1 + S * R * C).coefficient_values({R: 1000, C: 1e-6}, derivative="R")
+        ([0.0], [0.0, 1e-06])
         """
         if self.infinite:
             return None
         given = {(k.name if hasattr(k, "name") else str(k)): v for k, v in values.items()}
-        return self._coefficient_values_exact(given, exact)
+        return self._coefficient_values_exact(given, exact, derivative)
 
-    def _coefficient_values_exact(self, given: dict, exact: bool = False):
-        """Evaluate the coefficient polynomials exactly (flint fmpq) at the values."""
+    def _coefficient_values_exact(self, given: dict, exact: bool = False, derivative: str | None = None):
+        """Evaluate the coefficient polynomials (or their derivatives by one name) exactly (flint fmpq) at the values."""
         import flint
 
         ctx, ncs, dcs = self._coefficient_polys_q
+        if derivative is not None:
+            if derivative not in ctx.names():
+                ncs, dcs = [0 * c for c in ncs], [0 * c for c in dcs]
+            else:
+                ncs, dcs = [c.derivative(derivative) for c in ncs], [c.derivative(derivative) for c in dcs]
         used = self._coefficient_names_used
         point = []
         for k, name in enumerate(ctx.names()):

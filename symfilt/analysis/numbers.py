@@ -10,8 +10,8 @@ import sympy
 
 from symfilt.model.circuit import S
 from symfilt.analysis.network import NetworkFunction
-from symfilt.analysis.numeric import (band_edges, cutoff_from_coefficients, finite_float, numeric_cutoff,
-                                     numeric_sensitivity, passband_gain, positive_roots, trim)
+from symfilt.analysis.numeric import band_edges, cutoff_from_coefficients, finite_float, passband_gain, trim
+from symfilt.analysis.response import cutoff_sensitivities, pole_values, response_numbers
 
 if TYPE_CHECKING:
     from symfilt.analysis.stage import StageResult
@@ -52,7 +52,8 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
     def num(e):
         return finite_float(sympy.sympify(e).xreplace(dict(values)))
 
-    out.update(_cutoff_number(stage, values))
+    response = response_numbers(stage.transfer, values) if stage.transfer.order() >= 1 else {}
+    out.update(_cutoff_number(stage, values, response))
     if stage.cutoff.edges is not None and all(known(e) for e in stage.cutoff.edges):
         lo, hi = (num(e) for e in stage.cutoff.edges)
         out["low_edge_hz"] = None if lo is None else lo / (2 * math.pi)
@@ -67,6 +68,10 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
         g = num(dc)
         out["dc_gain"] = g
         out["dc_gain_db"] = 20 * math.log10(abs(g)) if g not in (None, 0) else None
+    for key, v in response.items():  # the closed forms' f0, Q and band edges win where they exist
+        out.setdefault(key, v)
+    if out.get("low_edge_hz") is not None and out.get("high_edge_hz") is not None:
+        out.setdefault("bandwidth_hz", out["high_edge_hz"] - out["low_edge_hz"])
     if stage.zout is not None:  # None for a probe (an inner node has no load port)
         out.update(output_impedance_values(stage.zout, values, out.get("cutoff_hz")))
     out.update(high_frequency(stage, values))
@@ -80,14 +85,16 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
 NO_CUTOFF_KINDS = ("notch", "allpass")
 
 
-def _cutoff_number(stage: StageResult, values: Mapping) -> dict:
+def _cutoff_number(stage: StageResult, values: Mapping, response: Mapping | None = None) -> dict:
     """``cutoff_hz`` from the closed form when it has values, else found numerically.
 
     Every response of any order gets a numeric cutoff when its transfer function has all
     its values (the pass band by :func:`~symfilt.analysis.numeric.passband_gain`), except a
     band-pass (its two edges, numeric ones for a response with no pass band at DC or HF),
-    a notch and an all-pass (by kind, or a general response with a null on the jw axis). ``cutoff_hz`` None with
-    ``no_cutoff`` True: the response never falls 3 dB below its pass-band gain.
+    a notch and an all-pass (by the symbolic kind, or by the kind at the values after exact
+    cancellation in ``response``, :func:`~symfilt.analysis.response.response_numbers`: a
+    balanced twin-T), and any response with a null on the jw axis. ``cutoff_hz`` None with ``no_cutoff`` True: the response never falls 3 dB below
+    its pass-band gain.
     """
     cut = stage.cutoff
     closed = cut.value is not None and not (sympy.sympify(cut.value).free_symbols - set(values))
@@ -100,7 +107,8 @@ def _cutoff_number(stage: StageResult, values: Mapping) -> dict:
     coeffs = stage.transfer.coefficient_values(values)  # None when a symbol it uses has no value
     if coeffs is None:
         return {}
-    if _null_on_jw_axis(coeffs[0]):  # a notch shape (a loaded twin-T): no single cutoff
+    response = response or {}
+    if response.get("kind") in NO_CUTOFF_KINDS or response.get("notch_null"):  # a twin-T: no single cutoff
         return {}
     if passband_gain(*coeffs)[0] is None:  # no pass band at DC or at HF: a band-pass shape
         edges = band_edges(*coeffs)
@@ -110,14 +118,6 @@ def _cutoff_number(stage: StageResult, values: Mapping) -> dict:
     if w is None:
         return {"cutoff_hz": None, "no_cutoff": True}
     return {"cutoff_hz": w / (2 * math.pi)}
-
-
-def _null_on_jw_axis(num) -> bool:
-    """True when N(jw) = 0 at some w > 0: N has only even powers of s (exactly, at the values)
-    and N(jw), a polynomial in u = w^2, has a positive root."""
-    if len(num) < 3 or any(c != 0 for c in num[1::2]):
-        return False
-    return bool(positive_roots([c * (-1) ** k for k, c in enumerate(num[::2])]))
 
 
 def output_impedance_values(zout: NetworkFunction, values: Mapping, cutoff_hz: float | None) -> dict:
@@ -281,49 +281,6 @@ def stability(h: NetworkFunction, values: Mapping) -> str | None:
     return "stable"
 
 
-def pole_values(poly: sympy.Poly) -> list[complex]:
-    """The roots of an exact polynomial in s, found on a scaled variable.
-
-    Circuit coefficients span many decades (picofarads against megohms), which can stop
-    sympy's root finder; the variable is scaled by the geometric mean root size
-    (|a0/an|^(1/n)) first, with 30 digits and a numpy fallback.
-
-    Parameters
-    ----------
-    poly : sympy.Poly
-        A polynomial in s with numeric coefficients, degree 1 or more.
-
-    Returns
-    -------
-    list of complex
-
-    Examples
-    --------
-    >>> sorted(round(r.real, 9) for r in pole_values(sympy.Poly(S**2 + 3 * S + 2, S)))
-    [-2.0, -1.0]
-    """
-    import mpmath
-
-    coeffs = [c if c.is_Rational else sympy.N(c, 45) for c in poly.all_coeffs()]
-    n = len(coeffs) - 1
-    while coeffs[-1] == 0:  # roots at s = 0
-        coeffs.pop()
-    zeros = [0j] * (n - (len(coeffs) - 1))
-    n = len(coeffs) - 1
-    if n < 1:
-        return zeros
-    k = sympy.Float(abs(coeffs[-1] / coeffs[0]), 40) ** sympy.Rational(1, n)
-    scaled = [c * k ** (n - i) / coeffs[0] for i, c in enumerate(coeffs)]
-    try:
-        with mpmath.workdps(40):
-            found = mpmath.polyroots([mpmath.mpf(str(sympy.N(c, 45))) for c in scaled], maxsteps=400, extraprec=200)
-        return zeros + [complex(r) * float(k) for r in found]
-    except mpmath.libmp.libhyper.NoConvergence:
-        import numpy as np
-
-        return zeros + [complex(r) * float(k) for r in np.roots([float(c) for c in scaled])]
-
-
 def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
     """Sensitivities of a stage as numbers at the given values.
 
@@ -361,22 +318,19 @@ def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
         if row is not None:
             out[quantity] = row
     if "cutoff" not in out and stage.sensitivity and stage.cutoff.value is None and stage.cutoff.edges is None:
-        row = _numeric_cutoff_sensitivity(stage.transfer, values)
+        row = _numeric_cutoff_sensitivity(stage, values)
         if row is not None:
             out["cutoff"] = row
     return out
 
 
-def _numeric_cutoff_sensitivity(h: NetworkFunction, values: Mapping) -> dict | None:
-    """S_x^cutoff by a central difference in log x of the numeric cutoff (no closed form)."""
-    if h.free_symbols() - {S} - set(values) or numeric_cutoff(h, values) is None:
+def _numeric_cutoff_sensitivity(stage: StageResult, values: Mapping) -> dict | None:
+    """S_x^cutoff where the cutoff was found numerically (no closed form), by the exact
+    implicit-function derivative of the root (:func:`~symfilt.analysis.response.cutoff_sensitivities`)."""
+    h = stage.transfer
+    if h.free_symbols() - {S} - set(values):
         return None
-    row = {}
-    for x in sorted(h.free_symbols() - {S}, key=str):
-        x0 = values[x]
-
-        def f(v, x=x):
-            return numeric_cutoff(h, {**values, x: sympy.Rational(repr(v))})
-
-        row[str(x)] = numeric_sensitivity(f, float(x0))
-    return row
+    hz = _cutoff_number(stage, values, response_numbers(h, values)).get("cutoff_hz")
+    if hz is None:
+        return None
+    return cutoff_sensitivities(h, values, 2 * math.pi * hz)

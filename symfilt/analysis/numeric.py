@@ -241,21 +241,7 @@ def band_edges(num: Sequence[float], den: Sequence[float]) -> tuple[float, float
     >>> round(lo, 6), round(hi, 6), round(hi - lo, 6)
     (0.618034, 1.618034, 1.0)
     """
-    p, q = trim(magnitude_squared(trim(num))), trim(magnitude_squared(trim(den)))
-    if not any(p) or not any(q):
-        return None
-    dp = [k * c for k, c in enumerate(p)][1:] or [0.0]
-    dq = [k * c for k, c in enumerate(q)][1:] or [0.0]
-    size = len(p) + len(q)
-    crit = [0.0] * size
-    for i, a in enumerate(dp):
-        for j, b in enumerate(q):
-            crit[i + j] += a * b
-    for i, a in enumerate(p):
-        for j, b in enumerate(dq):
-            crit[i + j] -= a * b
-    value = lambda u: sum(c * u**k for k, c in enumerate(p)) / sum(c * u**k for k, c in enumerate(q))
-    peaks = [(value(u), u) for u in positive_roots(crit) if math.isfinite(value(u))]
+    peaks = [(v, u) for u, v in magnitude_extrema(num, den)]
     if not peaks:
         return None
     top, u0 = max(peaks)
@@ -264,6 +250,42 @@ def band_edges(num: Sequence[float], den: Sequence[float]) -> tuple[float, float
     if not below or not above:
         return None
     return math.sqrt(below[-1]), math.sqrt(above[0])
+
+
+def magnitude_extrema(num: Sequence[float], den: Sequence[float]) -> list[tuple[float, float]]:
+    """The stationary points (u = w^2 > 0, |H(jw)|^2) of H = N/D on the jw axis, by u.
+
+    |H(jw)|^2 = P(u)/Q(u); they are the positive roots of P'Q - PQ' (mpmath, scaled as in
+    :func:`positive_roots`), where |H|^2 is finite.
+
+    Parameters
+    ----------
+    num, den : sequence of float
+        Coefficients of N(s) and D(s), lowest power first.
+
+    Returns
+    -------
+    list of (float, float)
+
+    Examples
+    --------
+    >>> [(round(u, 6), round(v, 6)) for u, v in magnitude_extrema([1.0], [1.0, 0.5, 1.0])]  # Q = 2 low-pass
+    [(0.875, 4.266667)]
+    """
+    p, q = trim(magnitude_squared(trim(num))), trim(magnitude_squared(trim(den)))
+    if not any(p) or not any(q):
+        return []
+    dp = [k * c for k, c in enumerate(p)][1:] or [0.0]
+    dq = [k * c for k, c in enumerate(q)][1:] or [0.0]
+    crit = [0.0] * (len(p) + len(q))
+    for i, a in enumerate(dp):
+        for j, b in enumerate(q):
+            crit[i + j] += a * b
+    for i, a in enumerate(p):
+        for j, b in enumerate(dq):
+            crit[i + j] -= a * b
+    at = lambda cs, u: sum(c * u**k for k, c in enumerate(cs))
+    return [(u, at(p, u) / at(q, u)) for u in positive_roots(crit) if at(q, u) != 0 and math.isfinite(at(p, u) / at(q, u))]
 
 
 def numeric_cutoff(h, values: Mapping) -> float | None:
@@ -393,7 +415,8 @@ def log_difference(hi, lo, rel_step: float) -> float | None:
 def numeric_sensitivity(f: Callable[[float], float | None], x0: float, rel_step: float = 1e-6) -> float | None:
     """Normalized sensitivity of a numeric function at x0 by a central difference in log x.
 
-    Used where a quantity has no closed form (cutoff beyond second order).
+    A second opinion where a quantity has no closed form (the tests check the numeric cutoff's
+    implicit derivative, :func:`symfilt.analysis.response.cutoff_sensitivities`, against it).
 
     Parameters
     ----------
@@ -571,5 +594,5 @@ def _mp_float(c) -> float:
 
 
 __all__ = ["IMAG_TOL", "ROOT_IMAG_TOL", "band_edges", "batch_cutoff", "cutoff_from_coefficients", "cutoff_polynomial",
-           "finite_float", "log_difference", "magnitude_squared", "numeric_cutoff", "numeric_sensitivity",
+           "finite_float", "log_difference", "magnitude_extrema", "magnitude_squared", "numeric_cutoff", "numeric_sensitivity",
            "passband_gain", "poly_values", "positive_roots", "tidy", "trim"]

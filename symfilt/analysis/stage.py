@@ -28,7 +28,8 @@ from symfilt.analysis.numeric import magnitude_squared, numeric_cutoff, tidy as 
 from symfilt.analysis.loop import check_polarity, loops, substitute_loop
 
 #: Numbers left out of a view whose poles are in the right half-plane.
-UNSTABLE_DROPS = ("cutoff_hz", "low_edge_hz", "high_edge_hz")
+UNSTABLE_DROPS = ("cutoff_hz", "low_edge_hz", "high_edge_hz", "bandwidth_hz", "notch_hz", "notch_depth_db", "notch_null",
+                  "group_delay_dc_s", "peaking_db", "ripple_db")
 
 
 @dataclass(frozen=True)

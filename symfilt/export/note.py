@@ -23,6 +23,7 @@ from symfilt.model.opamp import opamp_parameters
 from symfilt.model.values import format_value
 from symfilt.export.common import sensitivity_quantities
 from symfilt.export.latex import stage_equations
+from symfilt.export.response_text import RESPONSE_ROWS, root_rows
 
 #: Numeric quantities of the loaded-versus-ideal table: JSON key, label, LaTeX label, unit.
 NUMBER_ROWS = (
@@ -38,7 +39,7 @@ NUMBER_ROWS = (
     ("hf_gain", "stop-band floor", "\\left|H(j\\infty)\\right|", ""),
     ("hf_gain_db", "stop-band floor", "20 \\log_{10} \\left|H(j\\infty)\\right|", "dB"),
     ("hf_slope_db_per_decade", "slope far above the poles", "\\mathrm{slope}_{\\infty}", "dB/decade"),
-)
+) + RESPONSE_ROWS
 #: Quantities whose loaded/ideal ratio the analysis reports.
 RATIO_KEYS = ("cutoff_hz", "f0_hz", "q", "dc_gain")
 #: Sensitivity columns: key, plain label, LaTeX of the quantity.
@@ -287,7 +288,7 @@ def number_rows(a: Analysis) -> list[dict]:
         row["ratio"] = {"value": r if ok else None, "text": plain_number(r) if ok else "—",
                         "key": f"ratios.{key}" if ok else None}
         rows.append(row)
-    return rows + _margin_rows(a)
+    return rows + _margin_rows(a) + root_rows(a.numeric, show_number)
 
 
 def _margin_rows(a: Analysis) -> list[dict]:

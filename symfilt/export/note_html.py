@@ -14,6 +14,7 @@ from html import escape
 
 from symfilt.analysis.stage import Analysis
 from symfilt.export.findings import describe
+from symfilt.export.response_text import word_rows
 from symfilt.export.latex import sensitivity_rows
 from symfilt.export.noise_note import noise_html
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, has_fixtures, kind_words, node_name, number_rows,
@@ -139,8 +140,7 @@ def _html_numbers(a: Analysis) -> list[str]:
            '<th class="num tag-ideal">Ideal</th><th class="num">Loaded / ideal</th></tr></thead><tbody>']
     out.append(f'<tr><td>response</td><td class="num">{escape(kind_words(a.loaded))}</td>'
                f'<td class="num">{escape(kind_words(a.ideal))}</td><td class="num">—</td></tr>')
-    stab = stability_row(a)
-    if stab:
+    for stab in [w for w in (stability_row(a), *word_rows(a.numeric)) if w]:
         out.append(f"<tr><td>{escape(stab['label'])}</td>{_word_cell(stab['loaded'])}{_word_cell(stab['ideal'])}"
                    '<td class="num">—</td></tr>')
     for r in rows:

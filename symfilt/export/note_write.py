@@ -20,6 +20,7 @@ from symfilt.analysis.stage import Analysis
 from symfilt.export.formats import note_kind
 from symfilt.export.latex import stage_equations
 from symfilt.export.noise_note import noise_markdown
+from symfilt.export.response_text import word_rows
 from symfilt.export.outfile import write_bytes_atomic, write_text_atomic
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, kind_words, node_name,
                                  number_rows, part_rows, sensitivity_table, tie_lines, show_number, stability_row,
@@ -64,8 +65,7 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
     if rows:
         out += ["| Quantity | Loaded | Ideal | Loaded / ideal |", "|---|---:|---:|---:|",
                 f"| response | {kind_words(a.loaded)} | {kind_words(a.ideal)} | — |"]
-        stab = stability_row(a)
-        if stab:
+        for stab in [w for w in (stability_row(a), *word_rows(a.numeric)) if w]:
             out.append(f"| {stab['label']} | {stab['loaded']['text']} | {stab['ideal']['text']} | — |")
         for r in rows:
             label = r["label"] + (" (dB)" if r["unit"] == "dB" else "")

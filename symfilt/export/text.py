@@ -11,6 +11,7 @@ from symfilt.model.values import format_value
 from symfilt.engine.polybridge import smaller_than
 from symfilt.export.common import impedance_display, parallel_display, sensitivity_quantities, transfer_parts
 from symfilt.export.findings import describe
+from symfilt.export.response_text import kind_rows, pole_zero_lines
 
 LONG = 400  # one-line expressions longer than this are not printed in the text report
 _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
@@ -199,21 +200,33 @@ def numbers_rows(a: Analysis) -> list[str]:
     add("cutoff", "cutoff_hz", "Hz")
     add("low edge", "low_edge_hz", "Hz")
     add("high edge", "high_edge_hz", "Hz")
+    add("bandwidth", "bandwidth_hz", "Hz")
+    add("notch", "notch_hz", "Hz")
     add("f0", "f0_hz", "Hz")
     add("Q", "q", raw=True)
     add("DC gain", "dc_gain", raw=True)
     if "dc_gain_db" in lo or "dc_gain_db" in hi:
         f = lambda v: "—" if v is None else f"{v:.3f} dB"
         rows.append(f"  {'DC gain (dB)':<14}{f(lo.get('dc_gain_db')):>16}{f(hi.get('dc_gain_db')):>16}")
+    add("group delay", "group_delay_dc_s", "s")
+    add("peaking (dB)", "peaking_db", raw=True)
+    add("ripple (dB)", "ripple_db", raw=True)
     add("Zout at DC", "zout_dc_ohm", "Ω")
     add("|Zout| at fc", "zout_cutoff_ohm", "Ω")
     rows += _hf_rows(lo, hi)
     if "stability" in lo or "stability" in hi:
         rows.append(f"  {'poles':<14}{lo.get('stability', '—'):>16}{hi.get('stability', '—'):>16}")
+    rows += kind_rows(lo, hi)
     if len(rows) == 1:
         return []
+    return rows + _number_notes(a, lo, hi)
+
+
+def _number_notes(a: Analysis, lo: dict, hi: dict) -> list[str]:
+    """The lines under the numbers table: what undefined, none and needs values mean, and warnings."""
+    rows = []
     if any(v is None for d in (lo, hi) for k, v in d.items()
-           if k not in ("dc_gain_db", "hf_gain_db") and not (k == "cutoff_hz" and d.get("no_cutoff"))):
+           if k not in ("dc_gain_db", "hf_gain_db", "notch_depth_db") and not (k == "cutoff_hz" and d.get("no_cutoff"))):
         rows.append("  undefined: the formula divides by zero at these values (the formulas above still hold)")
     if lo.get("no_cutoff") or hi.get("no_cutoff"):
         rows.append("  none: |H| never falls 3 dB below its pass-band gain at these values (no cutoff)")
@@ -245,7 +258,7 @@ def _sens_table(a: Analysis, st: StageResult, key: str) -> list[str]:
     if not st.sensitivity:
         return []
     numeric = a.numeric.get(key, {}).get("sensitivity", {})
-    # a cutoff found numerically has numeric sensitivities only (central differences)
+    # a cutoff found numerically has numeric sensitivities only (the implicit derivative of the root)
     quantities = sensitivity_quantities({q: st.sensitivity.get(q) or numeric.get(q) for q in {*st.sensitivity, *numeric}})
     if not quantities:
         return ["  no closed-form quantity to take sensitivities of"]
@@ -377,6 +390,9 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
                 "circuit, and no cutoff is given" for key in ("loaded", "ideal")
                 if a.numeric.get(key, {}).get("stability") == "unstable"]
         out += rows
+    poles = pole_zero_lines(a.numeric)
+    if poles:
+        out += [""] + poles
     for key, st in (("loaded", a.loaded), ("ideal", a.ideal)):
         table = _sens_table(a, st, key)
         if table:
