@@ -18,7 +18,8 @@ from symfilt.model.values import format_value
 
 #: Rows of the numbers table: label, key, unit ("" for a plain number, "dB" for a level).
 _ROWS = (("cutoff", "cutoff_hz", "Hz"), ("low edge", "low_edge_hz", "Hz"), ("high edge", "high_edge_hz", "Hz"),
-         ("f0", "f0_hz", "Hz"), ("Q", "q", ""), ("DC gain", "dc_gain", ""), ("DC gain (dB)", "dc_gain_db", "dB"))
+         ("notch", "notch_hz", "Hz"), ("f0", "f0_hz", "Hz"), ("Q", "q", ""), ("DC gain", "dc_gain", ""),
+         ("DC gain (dB)", "dc_gain_db", "dB"), ("group delay", "group_delay_dc_s", "s"), ("peaking", "peaking_db", "dB"))
 #: The columns of the numbers table: heading and where the numbers come from.
 _COLUMNS = (("connected", "loaded"), ("conn. ideal", "ideal"), ("stages alone", "product"),
             ("all buffered", "buffered"))
@@ -93,6 +94,7 @@ def chain_text(r) -> str:
     >>> print(chain_text(chain_report(Chain((rc, rc)))).splitlines()[2])
       source (ideal) → [1] RC → x1 → [2] RC → out → load (open)
     """
+    from symfilt.export.response_text import pole_zero_lines
     from symfilt.export.text import LONG, stage_formulas, transfer_line
 
     ch = r.chain
@@ -114,6 +116,10 @@ def chain_text(r) -> str:
         line = transfer_line(st.transfer)
         shown = line if len(line) <= LONG else f"({len(line)}-character expression; see --format json)"
         out += [f"  {key}: {shown}", "  " + stage_formulas(st)[0]]
+    views = {"loaded": r.analysis.numeric["loaded"], "ideal": r.analysis.numeric["ideal"]}
+    roots = pole_zero_lines(views)
+    if roots:
+        out += ["", roots[0].replace("Poles and zeros", "Poles and zeros of the connected chain")] + roots[1:]
     out += ["", "Stages designed alone (ideal source, open output)"]
     for k, st in enumerate(r.stages, start=1):
         d = st.numeric
