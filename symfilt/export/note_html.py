@@ -210,7 +210,7 @@ def _html_sensitivity(a: Analysis) -> list[str]:
 
 
 def _html_plot(a: Analysis, fmin=None, fmax=None, points=None) -> list[str]:
-    from symfilt.export.plot import bode_svg
+    from symfilt.export.svgplot import bode_svg
 
     data, reason = sweep(a, fmin, fmax, points)
     if data is None:

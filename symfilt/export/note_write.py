@@ -235,14 +235,15 @@ def _write_latex(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, e
 
 
 def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None) -> list[Path]:
-    from symfilt.export.plot import render_bode
+    from symfilt.export.svgplot import bode_svg
 
     data, _ = sweep(a, fmin, fmax, points)
     written = []
     plot_name = None
     if data is not None:
         svg_path = p.with_name(p.stem + "-bode.svg")
-        write_bytes_atomic(svg_path, render_bode(data, "svg"), protect=protect)
+        write_bytes_atomic(svg_path, ('<?xml version="1.0" encoding="utf-8"?>\n' + bode_svg(data) + "\n").encode("utf-8"),
+                           protect=protect)
         written.append(svg_path)
         plot_name = svg_path.name
     write_text_atomic(p, note_markdown(a, plot_file=plot_name, source=source, opamp_error=error, noise=noise),

@@ -59,7 +59,15 @@ def pretty(expr) -> str:
     ─────
     s + 1
     """
-    return sympy.pretty(expr, use_unicode=True, wrap_line=False)
+    from sympy.printing.pretty.pretty_symbology import pretty_use_unicode
+
+    from symfilt.export.pretty import Printer
+
+    flag = pretty_use_unicode(True)  # as sympy.pretty does
+    try:
+        return Printer({"use_unicode": True, "wrap_line": False}).doprint(expr)
+    finally:
+        pretty_use_unicode(flag)
 
 
 def transfer_pretty(h) -> str:
@@ -79,15 +87,16 @@ def transfer_pretty(h) -> str:
     ────⋅───────────
      R₁  C₁⋅R₂⋅s + 1
     """
-    from sympy.printing.pretty.pretty import PrettyPrinter
     from sympy.printing.pretty.stringpict import prettyForm
+
+    from symfilt.export.pretty import Printer
 
     if h.infinite:
         return "∞"
     if h.ratio is not None and h.ratio.terms > 10 * LONG:
         return f"({h.ratio.terms}-term transfer function; see --format json or latex)"
     k, n, d = transfer_parts(h)
-    pp = PrettyPrinter({"use_unicode": True, "order": "none", "wrap_line": False})
+    pp = Printer({"use_unicode": True, "order": "none", "wrap_line": False})
     if d == 1:
         ratio = n
     elif n == 1:

@@ -1,0 +1,50 @@
+"""sympy's 2-D printer without the import of ``sympy.physics.units`` that it does not need here.
+
+sympy's ``PrettyPrinter._print_Mul`` imports ``sympy.physics.units`` on every product only to
+move unit quantities to the end; expressions of symfilt never hold one, and that import costs a
+quarter of a bare ``import sympy`` on the first 2-D print. :class:`Printer` runs the method with
+a stand-in module in ``sys.modules`` (a ``Quantity`` class nothing is an instance of) when the
+real module has not been imported, and takes the stand-in away afterwards, so a later
+``import sympy.physics.units`` gets the real module. Output is the same character for character.
+"""
+
+from __future__ import annotations
+
+import sys
+import types
+
+from sympy.printing.pretty.pretty import PrettyPrinter
+
+_UNITS = "sympy.physics.units"
+
+
+class _NoQuantity:
+    """Nothing is an instance of this class: the stand-in for sympy's unit Quantity."""
+
+
+class Printer(PrettyPrinter):
+    """sympy's PrettyPrinter, the same output, without importing ``sympy.physics.units``.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> R, C = sympy.symbols("R C")
+    >>> print(Printer({"use_unicode": True}).doprint(R * C / (1 + R)))
+     C⋅R 
+    ─────
+    R + 1
+    >>> import sys; "sympy.physics.units" in sys.modules or "not imported"
+    'not imported'
+    """
+
+    def _print_Mul(self, product):
+        if _UNITS in sys.modules:
+            return super()._print_Mul(product)
+        stand_in = types.ModuleType(_UNITS)
+        stand_in.Quantity = _NoQuantity
+        sys.modules[_UNITS] = stand_in
+        try:
+            return super()._print_Mul(product)
+        finally:
+            if sys.modules.get(_UNITS) is stand_in:
+                del sys.modules[_UNITS]
