@@ -23,6 +23,7 @@ test: $(STAMP)
 
 bench: $(STAMP)
 	$(PY) benchmarks/run.py
+	$(PY) benchmarks/commands.py
 
 clean:
 	rm -rf $(VENV) build *.egg-info .pytest_cache .hypothesis

@@ -249,3 +249,4 @@ def test_a_shunt_stage_is_refused_with_a_hint():
     shunt = Circuit.build([Part.resistor("R9", "a", "0", "1k")], input="a", output="a")
     with pytest.raises(SymfiltError, match="its input and output are the same node, put a shunt part into the stage"):
         Chain((ChainStage("RC", rc("R1", "C1")), ChainStage("shunt", shunt)))
+
