@@ -21,6 +21,7 @@ from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
 from symfilt.errors import SingularCircuitError
 from symfilt.engine.rational import Ratio, cancel_pair, poly_to_sympy, tidy_quotient
+from symfilt.engine.polybridge import to_fmpq
 
 #: Quantities derive() knows, with the MNA mode that gives each.
 NETWORK_QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
@@ -465,7 +466,7 @@ class NetworkFunction:
         ncs, dcs = self.ratio.coefficients(S)
         names = tuple(self.ratio.num.context().names())
         ctx = flint.fmpq_mpoly_ctx.get(names, "degrevlex")
-        conv = lambda cs: [ctx.from_dict(c.to_dict()) for c in cs]
+        conv = lambda cs: [to_fmpq(c, ctx) for c in cs]
         return ctx, conv(ncs), conv(dcs)
 
     def evaluate(self, values: Mapping, s_values):

@@ -99,9 +99,32 @@ def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
             out[str(x)] = sympy.Integer(0)
             continue
         n, d = cancel_pair(num, den)
-        value = bridge.to_sympy(n) / bridge.to_sympy(d)
-        out[str(x)] = sympy.factor(value) if sympy.count_ops(value) < _SMALL else value
+        out[str(x)] = _factored(bridge, n, d)
     return out
+
+
+def _factored(bridge, n, d) -> sympy.Expr:
+    """n/d in sympy, factored by python-flint when small (as sympy.factor would, much faster).
+
+    Each factor gets the sign sympy.factor gives it (leading coefficient positive in sympy's
+    order of its symbols), so the text is the one sympy.factor prints.
+    """
+    value = bridge.to_sympy(n) / bridge.to_sympy(d)
+    if len(n) + len(d) > _SMALL // 2:
+        return value
+    number, args = sympy.Integer(1), []
+    for p, power in ((n, 1), (d, -1)):
+        const, factors = p.factor()
+        number *= sympy.Rational(int(const.p), int(const.q)) ** power
+        for f, e in factors:
+            fe = bridge.to_sympy(f)
+            gens = sorted(fe.free_symbols, key=sympy.default_sort_key)
+            if gens and sympy.Poly(fe, *gens).LC() < 0:
+                fe, number = -fe, number * (-1) ** (e * power)
+            args.append(fe ** (e * power))
+    from sympy.core.mul import _keep_coeff  # how sympy.factor keeps 2*(R1 + R2) from multiplying out
+
+    return _keep_coeff(number, sympy.Mul(*args))
 
 
 def sensitivities(y: sympy.Expr | None, symbols) -> dict[str, sympy.Expr] | None:

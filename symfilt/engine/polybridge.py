@@ -308,3 +308,28 @@ def _poly_to_sympy_slow(p, gens) -> sympy.Expr:
                 factors.append(gsym**e)
         terms.append(sympy.Mul(*factors))
     return sympy.Add(*terms)
+
+
+def to_fmpq(p, qctx):
+    """An integer polynomial as a rational one in ``qctx`` (same names, in the same order).
+
+    A direct copy when both contexts have the same names and ordering (python-flint copies
+    the exponent vectors as they are); otherwise term by term.
+
+    Parameters
+    ----------
+    p : flint.fmpz_mpoly
+    qctx : flint.fmpq_mpoly_ctx
+        Holds exactly p's names.
+
+    Examples
+    --------
+    >>> ctx = flint.fmpz_mpoly_ctx.get(("x", "y"), "lex")
+    >>> x, y = ctx.gens()
+    >>> to_fmpq(x**2 * y + 3 * y, flint.fmpq_mpoly_ctx.get(("x", "y"), "degrevlex"))
+    x^2*y + 3*y
+    """
+    src = p.context()
+    if tuple(src.names()) == tuple(qctx.names()) and src.ordering() == qctx.ordering():
+        return flint.fmpq_mpoly(p, qctx)
+    return qctx.from_dict(p.to_dict())

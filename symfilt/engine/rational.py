@@ -22,7 +22,7 @@ import flint
 import sympy
 from sympy.polys.polyerrors import BasePolynomialError
 
-from symfilt.engine.polybridge import PolyContext, poly_to_sympy, smaller_than
+from symfilt.engine.polybridge import PolyContext, poly_to_sympy, smaller_than, to_fmpq
 
 #: A cancelled ratio with at most this many terms is shown factored by :meth:`Ratio.quotient`.
 FACTOR_TERMS = 60
@@ -328,8 +328,8 @@ class Ratio:
         if not point:
             return self
         qctx = flint.fmpq_mpoly_ctx.get(tuple(self.num.context().names()), "degrevlex")
-        num = qctx.from_dict(self.num.to_dict()).subs(point)
-        den = qctx.from_dict(self.den.to_dict()).subs(point)
+        num = to_fmpq(self.num, qctx).subs(point)
+        den = to_fmpq(self.den, qctx).subs(point)
         return reringed(num, den, self.symbols)
 
 
