@@ -5,8 +5,8 @@ of parts held in a ratio) as there are targets: w0 and Q, cutoff and DC gain, ..
 finds the continuous solution by a damped Newton iteration on the logarithms of the
 parts (the residuals are ln(quantity/target)), started from the best points of a
 logarithmic grid, then gives *every* varied part its two neighbouring series values
-and ranks each combination by the loaded error of every target (the worst target
-first, then the sum of squares). :func:`sized_circuit` puts the chosen values into the
+(around every solution found) and ranks each combination by the loaded error of every
+target (the worst target first, then the sum of squares). :func:`sized_circuit` puts the chosen values into the
 circuit, for ``size --write``. A target no values reach is an error that gives the
 range each quantity covers and the limit (a part -> 0 or -> oo) that binds.
 
@@ -87,10 +87,10 @@ class JointResult:
     targets : tuple of (str, sympy.Expr, str or None)
         Quantity, target value and the alignment name it came from (``butterworth``), if any.
     solution : dict
-        Part name -> continuous solution (float, SI base units).
+        Part name -> continuous solution (float, SI base units): the one whose series
+        neighbours gave the chosen combination.
     solutions : int
-        How many distinct solutions the search found (``solution`` is the one nearest the
-        present values).
+        How many distinct solutions the search found; the neighbours of each are ranked together.
     series : str
         The preferred-number series.
     candidates : tuple of Candidate
@@ -372,7 +372,7 @@ def _reach_error(problem: _Problem) -> UsageError:
 
 
 def _candidates(problem: _Problem, solution: dict, series: str) -> list[Candidate]:
-    """Every combination of the neighbouring series values of every varied part, best first."""
+    """Every combination of the neighbouring series values of every varied part."""
     names = list(solution)
     options = [sorted(set(series_neighbours(solution[n], series))) for n in names]
     out = []
@@ -386,9 +386,12 @@ def _candidates(problem: _Problem, solution: dict, series: str) -> list[Candidat
         worst = None if any(e is None for e in errs.values()) else max(abs(e) for e in errs.values())
         out.append(Candidate(parts, {q: loaded.get(q) for q in problem.goal},
                              {q: ideal.get(q) for q in problem.goal}, errs, worst))
-    out.sort(key=lambda c: (c.worst_pct is None, c.worst_pct or 0,
-                            sum(e * e for e in c.error_pct.values() if e is not None)))
     return out
+
+
+def _rank(c: Candidate) -> tuple:
+    """Worst target error first, then the sum of squares; a missing quantity last."""
+    return (c.worst_pct is None, c.worst_pct or 0, sum(e * e for e in c.error_pct.values() if e is not None))
 
 
 def size_joint(circuit, targets: Sequence, vary: Sequence, *, series: str = "E24",
@@ -442,16 +445,24 @@ def size_joint(circuit, targets: Sequence, vary: Sequence, *, series: str = "E24
     found = _solve(problem)
     if not found:
         raise _reach_error(problem)
-    firsts = np.exp(found[0])
-    solution = {n: float(v) for n, v in problem.values_of(firsts).items()}
+    solutions = [{n: float(v) for n, v in problem.values_of(np.exp(u)).items()} for u in found]
+    ranked, seen = [], set()
+    for k, sol in enumerate(solutions):  # the neighbours of every solution compete
+        for cand in _candidates(problem, sol, series):
+            key = tuple(sorted(cand.values.items()))
+            if key not in seen:
+                seen.add(key)
+                ranked.append((cand, k))
+    ranked.sort(key=lambda ck: _rank(ck[0]))
     notes = []
     if len(found) > 1:
         notes.append(finding("joint-solutions", count=len(found)))
     present = {}
     if all(v is not None for v in problem.present.values()):
         present = {q: v for q, v in problem.measure(dict(problem.present)).items() if q in problem.goal}
-    return JointResult(groups, dict(problem.ratio), tlist, solution, len(found), series.strip().upper(),
-                       tuple(_candidates(problem, solution, series)), present, dict(problem.kind), tuple(notes))
+    return JointResult(groups, dict(problem.ratio), tlist, solutions[ranked[0][1]], len(found),
+                       series.strip().upper(), tuple(c for c, _k in ranked), present, dict(problem.kind),
+                       tuple(notes))
 
 
 def chosen_values(result) -> dict:

@@ -72,7 +72,7 @@ def joint_text(r) -> str:
       R1 = 5.6 kΩ, R2 = 27 kΩ     2.075 kHz    +3.77 %      0.6916    -2.19 %     3.77 %
       R1 = 6.2 kΩ, R2 = 24 kΩ     2.108 kHz    +5.38 %      0.7334    +3.72 %     5.38 %
       R1 = 5.6 kΩ, R2 = 24 kΩ     2.201 kHz    +10.1 %       0.716    +1.25 %     10.1 %
-    note: 2 solutions found; shown is the one nearest the present values
+    note: 2 solutions found; the series values around each were ranked together
     <BLANKLINE>
     """
     names = [n for g in r.groups for n in g]
