@@ -233,7 +233,8 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     _emit(render(r, quantity))
 
 
-@cli.command(short_help="Is a hand derivation equal to the derived quantity? Says where not.")
+@cli.command(short_help="Is a hand derivation equal to the derived quantity? Says where not.",
+             context_settings={"ignore_unknown_options": True})  # a claim may start with a minus sign
 @click.argument("circuit")
 @click.argument("claim")
 @click.option("--quantity", type=click.Choice([q for q in CLI_QUANTITIES if q != "sensitivity"]), default="transfer",
@@ -258,7 +259,7 @@ def check(circuit, claim, quantity, ideal, fmt):
         raise UsageError(f"--quantity {quantity}", f"the circuit has no closed form for {quantity}",
                          "check another quantity, such as transfer")
     values = {str(k): v for k, v in c.values().items()}
-    result = equivalent(claim, derived, symbols=c.symbol_table(), values=values, ties=c.ties())
+    result = equivalent(claim, derived, symbols=c.symbol_table(), values=values, ties=c.ties(), quantity=quantity)
     _emit(check_json(result) + "\n" if fmt == "json" else check_text(result))
     return 0 if result.equivalent else 1
 
