@@ -236,3 +236,46 @@ def test_one_target_with_write_takes_the_closest_neighbour(run_cli, tmp_path):
     assert code == 0, err
     # loaded cutoff 1/(2 pi C ((R_s + R) || R_L)) (Thevenin, common practice): 4k7 gives +4.4 %, 5k1 -2.9 %
     assert load_circuit(out_file).part("R1").value == 5100
+
+
+# --- load limits against the actual fixtures ---------------------------------------------------
+
+def sk_cutoff(r1p: float, r2: float) -> float:
+    """-3 dB frequency (Hz) of the unity-gain Sallen-Key: w_c = w0 sqrt(x + sqrt(x^2 + 1)),
+    x = 1 - 1/(2 Q^2) (second-order low-pass, common practice; REFERENCES.md)."""
+    f0, q = sk_w0_q(r1p, r2, 0)
+    x = 1 - 1 / (2 * q * q)
+    return f0 * math.sqrt(x + math.sqrt(x * x + 1))
+
+
+def test_load_limits_set_against_the_actual_fixtures():
+    from symfilt.analysis.loading import load_limits
+    from symfilt.analysis.stage import analyse
+
+    # RC low-pass, R1 = 4k7, C1 = 22n, R_s = 600, R_L = 10k (Thevenin, common practice): R_s alone
+    # moves the cutoff by R1/(R1 + R_s) - 1, R_L alone by (R1 + R_L)/R_L - 1; the limits are R1/49 and 50 R1.
+    lims = {x.fixture: x for x in load_limits(analyse(catalogue.build("rc-lowpass"), sensitivity=False), 0.02)}
+    assert lims["R_s"].actual == 600 and rel(lims["R_s"].factor, 600 / (4700 / 49)) < 1e-12
+    assert rel(lims["R_s"].shift, 4700 / 5300 - 1) < 1e-9
+    assert lims["R_L"].actual == 10000 and rel(lims["R_L"].factor, 50 * 4700 / 10000) < 1e-12
+    assert rel(lims["R_L"].shift, (4700 + 10000) / 10000 - 1) < 1e-9
+    thev = 1 / (1 / (600 + 4700) + 1 / 10000)
+    assert lims["all"].bound == "combined" and rel(lims["all"].shift, 4700 / thev - 1) < 1e-9
+    # The issue's Sallen-Key from a 5 kOhm source: far beyond its limit, and the combined shift is
+    # the closed-form cutoff with R1' = R1 + R_s against R1 alone.
+    c = catalogue.build("sallen-key-lowpass", source="5k")
+    lims = {x.fixture: x for x in load_limits(analyse(c, sensitivity=False), 0.02)}
+    rs = lims["R_s"]
+    assert rs.actual == 5000 and rs.factor > 10 and rel(rs.factor, 5000 / rs.value) < 1e-12
+    assert rel(sk_cutoff(6800 + rs.value, 15e3) / sk_cutoff(6800, 15e3), 0.98) < 1e-6
+    assert rel(1 + lims["all"].shift, sk_cutoff(11800, 15e3) / sk_cutoff(6800, 15e3)) < 1e-9
+
+
+def test_load_limit_text_says_actual_factor_and_combined(run_cli):
+    code, out, _ = run_cli("derive", "@rc-lowpass", "--load-limit", "2%", "--quantity", "cutoff")
+    assert code == 0
+    assert ("  R_s ≤ 95.92 Ω keeps the cutoff within 2% of ideal  (R_s ≤ R1/49); actual 600 Ω, 6.26x above "
+            "the limit, alone it moves the cutoff -11.3 %\n") in out
+    assert ("  R_L ≥ 235 kΩ keeps the cutoff within 2% of ideal  (R_L ≥ 50·R1); actual 10 kΩ, 23.5x below "
+            "the limit, alone it moves the cutoff +47 %\n") in out
+    assert "  all fixtures at their values together: the cutoff moves +35.7 % from ideal\n" in out

@@ -32,7 +32,9 @@ def load_limit_dicts(limits) -> list[dict[str, Any]]:
     Returns
     -------
     list of dict
-        ``fixture``, ``bound``, ``tolerance``, ``value``, ``exact`` (text or None), ``note`` (or None).
+        ``fixture``, ``bound``, ``tolerance``, ``value``, ``exact`` (text or None), ``note`` (or None),
+        ``actual``, ``factor`` and ``shift`` (None where unknown); the last entry, fixture ``all``
+        and bound ``combined``, has the shift with every fixture at its value.
 
     Examples
     --------
@@ -41,7 +43,8 @@ def load_limit_dicts(limits) -> list[dict[str, Any]]:
     True
     """
     return [{"fixture": x.fixture, "bound": x.bound, "tolerance": x.tolerance, "value": x.value,
-             "exact": None if x.exact is None else str(x.exact), "note": describe(x.note) or None} for x in limits]
+             "exact": None if x.exact is None else str(x.exact), "note": describe(x.note) or None,
+             "actual": x.actual, "factor": x.factor, "shift": x.shift} for x in limits]
 
 
 def _select_json(data: dict, quantity: str) -> dict:

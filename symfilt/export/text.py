@@ -407,15 +407,31 @@ def render_limit(lim) -> str:
     >>> render_limit(LoadLimit("R_L", "min", 0.02, 235000.0, sympy.Symbol("R1") * 50, ""))
     '  R_L ≥ 235 kΩ keeps the cutoff within 2% of ideal  (R_L ≥ 50·R1)'
     """
-    if lim.value is None:
-        return f"  {lim.fixture}: {describe(lim.note)}"
+    if lim.bound == "combined":
+        shift = "unknown (needs every value)" if lim.shift is None else f"{lim.shift * 100:+.3g} %"
+        return f"  all fixtures at their values together: the cutoff moves {shift} from ideal"
     unit = "F" if lim.fixture == "C_L" else "Ω"
+    if lim.value is None:
+        return f"  {lim.fixture}: {describe(lim.note)}" + _against_actual(lim, unit)
     op = "≥" if lim.bound == "min" else "≤"
     text = f"  {lim.fixture} {op} {format_value(lim.value, unit)} keeps the cutoff within {lim.tolerance * 100:g}% of ideal"
     if lim.exact is not None:
         text += f"  ({lim.fixture} {op} {one_line(lim.exact)})"
     if lim.note:
         text += f"; {describe(lim.note)}"
+    return text + _against_actual(lim, unit)
+
+
+def _against_actual(lim, unit: str) -> str:
+    """``; actual 5 kΩ, 12.9x above the limit, alone it moves the cutoff -20.4 %``."""
+    if lim.actual is None:
+        return ""
+    text = f"; actual {format_value(lim.actual, unit)}"
+    if lim.factor is not None:
+        text += (f", {lim.factor:.3g}x {'above' if lim.bound == 'max' else 'below'} the limit" if lim.factor > 1
+                 else f", within the limit (factor {lim.factor:.3g})")
+    if lim.shift is not None:
+        text += f", alone it moves the cutoff {lim.shift * 100:+.3g} %"
     return text
 
 
