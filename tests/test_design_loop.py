@@ -279,3 +279,18 @@ def test_load_limit_text_says_actual_factor_and_combined(run_cli):
     assert ("  R_L ≥ 235 kΩ keeps the cutoff within 2% of ideal  (R_L ≥ 50·R1); actual 10 kΩ, 23.5x below "
             "the limit, alone it moves the cutoff +47 %\n") in out
     assert "  all fixtures at their values together: the cutoff moves +35.7 % from ideal\n" in out
+
+
+def test_the_readme_size_example_is_what_the_command_prints(run_cli, sk_file, tmp_path):
+    readme = (Path(__file__).resolve().parents[1] / "README.md").read_text(encoding="utf-8")
+    block = readme.split("$ symfilt size sk.toml --target cutoff=2k", 1)[1].split("```", 1)[0]
+    shown = [ln for ln in block.splitlines()[1:] if ln.strip()]
+    out_file = tmp_path / "sk-e24.toml"
+    code, out, err = run_cli("size", str(sk_file), "--target", "cutoff=2k", "--target", "q=butterworth",
+                             "--vary", "R1", "--vary", "R2", "--write", str(out_file))
+    assert code == 0
+    printed = [ln for ln in out.splitlines() if ln.strip()]
+    cut = shown.index("  ...")
+    assert printed[:cut] == shown[:cut]
+    assert printed[-1] == shown[cut + 1]
+    assert shown[-1] == "wrote sk-e24.toml" and err == f"wrote {out_file}\n"
