@@ -712,7 +712,7 @@ def test_load_limits_when_the_cutoff_does_not_move():
                       source="600", load="2k")
     a = analyse(c, sensitivity=False)
     assert same(a.loaded.cutoff.value, 1 / (R2 * C1))
-    for lim in [x for x in load_limits(a, 0.02) if x.bound != "combined"]:  # issue 15 added "all"
+    for lim in load_limits(a, 0.02):
         assert lim.value is None and lim.exact is None and lim.note, lim
 
 
@@ -744,7 +744,7 @@ def test_numeric_load_limits_second_order(build, tol):
     c = build()
     a = analyse(c, sensitivity=False)
     ideal = brentq_cutoff(derive(c.without_fixtures()), c.values())
-    lims = [x for x in load_limits(a, tol) if x.bound != "combined"]  # the "all" entry: tests/test_design_loop.py
+    lims = load_limits(a, tol)
     assert lims
     checked = 0
     for lim in lims:

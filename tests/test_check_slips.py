@@ -93,6 +93,13 @@ def test_a_name_written_for_another(run_cli, files):
     code, out, _ = run_cli("check", files["inverting"], "-R3/R1")
     assert code == 1
     assert "  - agrees when R3 is read as R2: R3 was written for R2\n" in out
+    from symfilt.model.circuit_file import load_circuit
+
+    inv = load_circuit(files["inverting"])
+    assert "agrees when R3 is read as R2: R3 was written for R2" in api_lines("-R3/R1", inv, "transfer")
+    text = api_lines("R1/R2", inv, "transfer")
+    assert "a sign was lost (together with the next slip)" in text
+    assert "agrees when R1 and R2 are exchanged (together with the slip above)" in text
 
 
 def test_a_claim_may_start_with_a_minus_sign_and_sign_plus_exchange_is_a_pair(run_cli, files):

@@ -12,6 +12,7 @@ import sympy
 from scipy import optimize, signal
 
 from symfilt import catalogue
+from symfilt.analysis.stage import analyse
 from symfilt.design.eseries import series_values
 from symfilt.design.joint import size_joint
 from symfilt.design.targets import ALIGNMENTS, parse_target
@@ -51,7 +52,7 @@ def test_bessel_target_gives_the_tables_cutoff_to_w0_ratio():
     # bessel(2, norm="mag") has its -3 dB point at 1 and w0 = sqrt(1.618).
     c = catalogue.build("sallen-key-lowpass", source="600")
     r = size_joint(c, ["w0=1k", "q=bessel"], ["R1", "R2"])
-    from symfilt.analysis.stage import analyse, numeric_values
+    from symfilt.analysis.stage import numeric_values
 
     sized = c.with_values({k: sympy.Rational(repr(v)) for k, v in r.solution.items()})
     got = numeric_values(analyse(sized, sensitivity=False).loaded, sized.values())
@@ -249,8 +250,7 @@ def sk_cutoff(r1p: float, r2: float) -> float:
 
 
 def test_load_limits_set_against_the_actual_fixtures():
-    from symfilt.analysis.loading import load_limits
-    from symfilt.analysis.stage import analyse
+    from symfilt.analysis.loading import combined_shift, load_limits
 
     # RC low-pass, R1 = 4k7, C1 = 22n, R_s = 600, R_L = 10k (Thevenin, common practice): R_s alone
     # moves the cutoff by R1/(R1 + R_s) - 1, R_L alone by (R1 + R_L)/R_L - 1; the limits are R1/49 and 50 R1.
@@ -260,7 +260,8 @@ def test_load_limits_set_against_the_actual_fixtures():
     assert lims["R_L"].actual == 10000 and rel(lims["R_L"].factor, 50 * 4700 / 10000) < 1e-12
     assert rel(lims["R_L"].shift, (4700 + 10000) / 10000 - 1) < 1e-9
     thev = 1 / (1 / (600 + 4700) + 1 / 10000)
-    assert lims["all"].bound == "combined" and rel(lims["all"].shift, 4700 / thev - 1) < 1e-9
+    a = analyse(catalogue.build("rc-lowpass"), sensitivity=False)
+    assert rel(combined_shift(a), 4700 / thev - 1) < 1e-9
     # The issue's Sallen-Key from a 5 kOhm source: far beyond its limit, and the combined shift is
     # the closed-form cutoff with R1' = R1 + R_s against R1 alone.
     c = catalogue.build("sallen-key-lowpass", source="5k")
@@ -268,7 +269,7 @@ def test_load_limits_set_against_the_actual_fixtures():
     rs = lims["R_s"]
     assert rs.actual == 5000 and rs.factor > 10 and rel(rs.factor, 5000 / rs.value) < 1e-12
     assert rel(sk_cutoff(6800 + rs.value, 15e3) / sk_cutoff(6800, 15e3), 0.98) < 1e-6
-    assert rel(1 + lims["all"].shift, sk_cutoff(11800, 15e3) / sk_cutoff(6800, 15e3)) < 1e-9
+    assert rel(1 + combined_shift(analyse(c, sensitivity=False)), sk_cutoff(11800, 15e3) / sk_cutoff(6800, 15e3)) < 1e-9
 
 
 def test_load_limit_text_says_actual_factor_and_combined(run_cli):
@@ -294,3 +295,17 @@ def test_the_readme_size_example_is_what_the_command_prints(run_cli, sk_file, tm
     assert printed[:cut] == shown[:cut]
     assert printed[-1] == shown[cut + 1]
     assert shown[-1] == "wrote sk-e24.toml" and err == f"wrote {out_file}\n"
+
+
+def test_load_limit_json_carries_actual_factor_shift_and_combined(run_cli):
+    import json
+
+    code, out, _ = run_cli("derive", "@rc-lowpass", "--load-limit", "2%", "--format", "json")
+    assert code == 0
+    data = json.loads(out)
+    rs = next(x for x in data["load_limit"] if x["fixture"] == "R_s")
+    # Thevenin (common practice): the limit is R1/49, R_s = 600 alone gives R1/(R1 + R_s) - 1
+    assert rs["actual"] == 600 and rel(rs["factor"], 600 * 49 / 4700) < 1e-12
+    assert rel(rs["shift"], 4700 / 5300 - 1) < 1e-9
+    thev = 1 / (1 / (600 + 4700) + 1 / 10000)
+    assert rel(data["load_limit_combined"]["shift"], 4700 / thev - 1) < 1e-9

@@ -4,8 +4,8 @@ Each fixture is taken alone (the others at their ideal limits): the smallest R_L
 the largest R_s and the largest C_L that keep the cutoff within a tolerance of the
 ideal cutoff. Closed form for first order, else a logarithmic scan and bisection at
 the circuit's values. Each limit is set against the fixture's actual value (the factor
-between them, and the cutoff's shift with that fixture alone), and a last entry
-(fixture ``all``) gives the shift with every fixture at its actual value together.
+between them, and the cutoff's shift with that fixture alone); :func:`combined_shift`
+gives the shift with every fixture at its actual value together.
 """
 
 from __future__ import annotations
@@ -50,8 +50,7 @@ class LoadLimit:
         How far the actual value lies beyond the limit: actual/limit for a ``max`` bound,
         limit/actual for a ``min`` one (above 1: outside the limit).
     shift : float or None
-        The cutoff's relative change against ideal with this fixture alone at its actual
-        value; for the entry ``all`` (bound ``combined``), with every fixture at its value.
+        The cutoff's relative change against ideal with this fixture alone at its actual value.
 
     Examples
     --------
@@ -118,12 +117,10 @@ def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
     >>> from symfilt import catalogue
     >>> from symfilt.analysis.stage import analyse
     >>> lims = load_limits(analyse(catalogue.build("rc-lowpass"), sensitivity=False), 0.02)
-    >>> [(x.fixture, x.bound, x.exact, round(x.value)) for x in lims[:2]]
+    >>> [(x.fixture, x.bound, x.exact, round(x.value)) for x in lims]
     [('R_s', 'max', R1/49, 96), ('R_L', 'min', 50*R1, 235000)]
     >>> round(lims[0].actual), round(lims[0].factor, 2), round(lims[0].shift, 4)
     (600, 6.26, -0.1132)
-    >>> lims[2].fixture, round(lims[2].shift, 4)
-    ('all', 0.3568)
     """
     c = analysis.circuit
     values = dict(c.values())
@@ -144,11 +141,30 @@ def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
         else:
             value, note = _scanned_bound(analysis, h, x, (bound, scan), tolerance, values)
         out.append(LoadLimit(name, bound, tolerance, value, exact, note, *_against_actual(analysis, h, x, bound, value)))
-    if out:
-        loaded, ideal = (analysis.numeric[k].get("cutoff_hz") for k in ("loaded", "ideal"))
-        shift = None if loaded is None or not ideal else loaded / ideal - 1
-        out.append(LoadLimit("all", "combined", tolerance, None, None, None, None, None, shift))
     return out
+
+
+def combined_shift(analysis: Analysis) -> float | None:
+    """The cutoff's relative change against ideal with every fixture at its value together.
+
+    Parameters
+    ----------
+    analysis : Analysis
+
+    Returns
+    -------
+    float or None
+        loaded cutoff / ideal cutoff - 1; None when either has no number.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> round(combined_shift(analyse(catalogue.build("rc-lowpass"), sensitivity=False)), 4)
+    0.3568
+    """
+    loaded, ideal = (analysis.numeric[k].get("cutoff_hz") for k in ("loaded", "ideal"))
+    return None if loaded is None or not ideal else loaded / ideal - 1
 
 
 def _against_actual(analysis: Analysis, h: NetworkFunction, x: sympy.Symbol, bound: str, value):

@@ -106,8 +106,8 @@ class JointResult:
     --------
     >>> from symfilt import catalogue
     >>> r = size_joint(catalogue.build("sallen-key-lowpass"), [("w0", "1k"), ("q", "0.6")], ["R1", "R2"])
-    >>> r.groups, r.series, len(r.candidates)
-    ((('R1',), ('R2',)), 'E24', 4)
+    >>> r.groups, r.series, r.solutions, len(r.candidates)
+    ((('R1',), ('R2',)), 'E24', 2, 8)
     """
 
     groups: tuple

@@ -69,9 +69,8 @@ def joint_text(r) -> str:
     <BLANKLINE>
       E24 values                  w0 loaded      error    q loaded      error      worst
       R1 = 6.2 kΩ, R2 = 27 kΩ     1.987 kHz   -0.646 %      0.7097   +0.364 %    0.646 %  chosen
-      R1 = 5.6 kΩ, R2 = 27 kΩ     2.075 kHz    +3.77 %      0.6916    -2.19 %     3.77 %
-      R1 = 6.2 kΩ, R2 = 24 kΩ     2.108 kHz    +5.38 %      0.7334    +3.72 %     5.38 %
-      R1 = 5.6 kΩ, R2 = 24 kΩ     2.201 kHz    +10.1 %       0.716    +1.25 %     10.1 %
+      R1 = 27 kΩ, R2 = 6.8 kΩ     2.008 kHz   +0.392 %      0.6902    -2.39 %     2.39 %
+    ...
     note: 2 solutions found; the series values around each were ranked together
     <BLANKLINE>
     """

@@ -357,7 +357,7 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     if quantity:
         text = _render_quantity(a, quantity)
         if load_limits:
-            text += "Load limits\n" + "".join(render_limit(x) + "\n" for x in load_limits)
+            text += "Load limits\n" + "".join(line + "\n" for line in _limit_lines(a, load_limits))
         return text
     c = a.circuit
     out = [f"symfilt — {c.title or 'circuit'}", f"input {c.input} → output {c.output}; ideal means {_fixtures_line(a)}", "",
@@ -389,7 +389,7 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     elif a.rules_note:
         out += ["", describe(a.rules_note)]
     if load_limits:
-        out += ["", "Load limits"] + [render_limit(x) for x in load_limits]
+        out += ["", "Load limits"] + _limit_lines(a, load_limits)
     return "\n".join(out) + "\n"
 
 
@@ -407,9 +407,6 @@ def render_limit(lim) -> str:
     >>> render_limit(LoadLimit("R_L", "min", 0.02, 235000.0, sympy.Symbol("R1") * 50, ""))
     '  R_L ≥ 235 kΩ keeps the cutoff within 2% of ideal  (R_L ≥ 50·R1)'
     """
-    if lim.bound == "combined":
-        shift = "unknown (needs every value)" if lim.shift is None else f"{lim.shift * 100:+.3g} %"
-        return f"  all fixtures at their values together: the cutoff moves {shift} from ideal"
     unit = "F" if lim.fixture == "C_L" else "Ω"
     if lim.value is None:
         return f"  {lim.fixture}: {describe(lim.note)}" + _against_actual(lim, unit)
@@ -420,6 +417,29 @@ def render_limit(lim) -> str:
     if lim.note:
         text += f"; {describe(lim.note)}"
     return text + _against_actual(lim, unit)
+
+
+def render_combined(shift: float | None) -> str:
+    """The last load-limit line: every fixture at its value together.
+
+    Parameters
+    ----------
+    shift : float or None
+        :func:`symfilt.analysis.loading.combined_shift`.
+
+    Examples
+    --------
+    >>> render_combined(0.3568)
+    '  all fixtures at their values together: the cutoff moves +35.7 % from ideal'
+    """
+    shown = "by an unknown amount (a number is missing)" if shift is None else f"{shift * 100:+.3g} %"
+    return f"  all fixtures at their values together: the cutoff moves {shown} from ideal"
+
+
+def _limit_lines(a: Analysis, load_limits) -> list[str]:
+    from symfilt.analysis.loading import combined_shift
+
+    return [render_limit(x) for x in load_limits] + [render_combined(combined_shift(a))]
 
 
 def _against_actual(lim, unit: str) -> str:
