@@ -20,6 +20,7 @@ from symfilt.export.check_report import assert_equivalent
 from symfilt.export.findings import describe
 from symfilt.analysis.findings import Finding
 from symfilt.design.report import Report, report
+from symfilt.design.joint import JointResult, size_joint, sized_circuit
 from symfilt.model.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
 from symfilt.errors import (
     CircuitError,
@@ -58,6 +59,7 @@ __all__ = [
     "Part",
     "Probe",
     "Finding",
+    "JointResult",
     "Report",
     "SingularCircuitError",
     "SizeLimitError",
@@ -85,6 +87,8 @@ __all__ = [
     "probes",
     "describe",
     "report",
+    "size_joint",
+    "sized_circuit",
     "standard_form",
     "substitute",
 ]

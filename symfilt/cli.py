@@ -233,7 +233,8 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     _emit(render(r, quantity))
 
 
-@cli.command(short_help="Is a hand derivation equal to the derived quantity? Says where not.")
+@cli.command(short_help="Is a hand derivation equal to the derived quantity? Says where not.",
+             context_settings={"ignore_unknown_options": True})  # a claim may start with a minus sign
 @click.argument("circuit")
 @click.argument("claim")
 @click.option("--quantity", type=click.Choice([q for q in CLI_QUANTITIES if q != "sensitivity"]), default="transfer",
@@ -258,7 +259,7 @@ def check(circuit, claim, quantity, ideal, fmt):
         raise UsageError(f"--quantity {quantity}", f"the circuit has no closed form for {quantity}",
                          "check another quantity, such as transfer")
     values = {str(k): v for k, v in c.values().items()}
-    result = equivalent(claim, derived, symbols=c.symbol_table(), values=values, ties=c.ties())
+    result = equivalent(claim, derived, symbols=c.symbol_table(), values=values, ties=c.ties(), quantity=quantity)
     _emit(check_json(result) + "\n" if fmt == "json" else check_text(result))
     return 0 if result.equivalent else 1
 
@@ -310,24 +311,37 @@ def _spread_progress():
     return update
 
 
-@cli.command(short_help="Solve for a part value meeting a target; snap to an E-series.")
+@cli.command(short_help="Solve for part values meeting targets; snap every part to an E-series.")
 @click.argument("circuit")
-@click.option("--target", required=True, metavar="QUANTITY=VALUE",
-              help="cutoff=2k or w0=1k (Hz), q=0.707, dc-gain=-2; met with the loading included.")
-@click.option("--vary", required=True, metavar="PART[,PART...]",
-              help="The part to solve for; several parts, comma-separated, keep the ratio of their present values.")
+@click.option("--target", "targets", required=True, multiple=True, metavar="QUANTITY=VALUE",
+              help="cutoff=2k or w0=1k (Hz), q=0.707 or q=butterworth|bessel, dc-gain=-2; met with the loading "
+                   "included. Repeat for targets met together (one --vary each).")
+@click.option("--vary", "varies", required=True, multiple=True, metavar="PART[,PART...]",
+              help="A part to solve for; comma-separated parts keep the ratio of their present values. "
+                   "Repeat for as many independent parts as targets.")
 @click.option("--series", type=click.Choice(SERIES_NAMES, case_sensitive=False), default="E24", show_default=True,
-              help="IEC 60063 series for the two neighbouring values.")
+              help="IEC 60063 series every varied part is snapped to.")
 @click.option("--format", "fmt", type=click.Choice(DESIGN_FORMATS), default="text", show_default=True)
-def size(circuit, target, vary, series, fmt):
-    """Solve CIRCUIT for a part value that meets a target, and snap it to a preferred series."""
-    from symfilt.design.sizing import parse_target, size as size_to_target
-    from symfilt.export import design_report
+@click.option("--write", "write", type=click.Path(dir_okay=False),
+              help="Write the circuit file with the chosen series values (a new file; the input stays).")
+def size(circuit, targets, varies, series, fmt, write):
+    """Solve CIRCUIT for part values that meet the targets, and snap them to a preferred series."""
+    from symfilt.design.joint import size_design, sized_circuit
+    from symfilt.export.joint_report import size_result_dict, size_result_text
 
+    if write:  # a bad target is refused before the work
+        from symfilt.export.outfile import output_target
+
+        output_target(write, protect=_inputs(circuit))
     c = load(circuit)
-    parts = tuple(p.strip() for p in vary.split(",") if p.strip())
-    result = size_to_target(c, parse_target(target), parts, series=series)
-    _emit_report(fmt, design_report.size_dict, design_report.size_text, result)
+    result = size_design(c, targets, varies, series=series)
+    _emit_report(fmt, size_result_dict, size_result_text, result)
+    if write:
+        from symfilt.export.outfile import write_text_atomic
+        from symfilt.model.circuit_file import circuit_to_text
+
+        write_text_atomic(write, circuit_to_text(sized_circuit(c, result)), protect=_inputs(circuit))
+        _wrote(write)
 
 
 @cli.command(short_help="Tolerance spread: Monte Carlo and worst case.")

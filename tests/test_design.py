@@ -160,10 +160,19 @@ def test_size_two_parts_in_ratio_sallen_key_w0():
     ratio = 3.3 / 10
     expected_c1 = 1 / (2 * math.pi * f0 * math.sqrt((6800 + 50) * 15000 * ratio))
     assert rel(r.value, expected_c1) < 1e-12
+    # every held part is snapped on its own (issue 15): each of C1 and C2 is an E12 value either
+    # side of its exact share, every combination is tried, the smallest loaded error first
+    e12 = {sympy.Rational(m) / 10 for m in (10, 12, 15, 18, 22, 27, 33, 39, 47, 56, 68, 82)}
+    assert len(r.neighbours) == 4
     for n in r.neighbours:
-        assert rel(float(n.values["C2"]) / float(n.values["C1"]), ratio) < 1e-12
+        for name, exact in (("C1", expected_c1), ("C2", expected_c1 * ratio)):
+            v = n.values[name]
+            assert v / sympy.Integer(10) ** sympy.floor(sympy.log(v, 10)) in e12
+            assert float(v) <= exact * 1.3 and float(v) >= exact / 1.3
         w0 = 1 / math.sqrt(6850 * 15000 * float(n.values["C1"]) * float(n.values["C2"]))
         assert rel(n.loaded, w0 / (2 * math.pi)) < 1e-12
+    errors = [abs(n.error_pct) for n in r.neighbours]
+    assert errors == sorted(errors)
 
 
 def test_size_sallen_key_q_every_solution_meets_target():

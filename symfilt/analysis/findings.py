@@ -19,7 +19,7 @@ KINDS = frozenset({
     # design/sizing.py
     "equation-too-large", "equation-not-polynomial", "equation-degree", "equation-factor-degree",
     "no-closed-form-quantity", "closed-form-roots-miss", "dc-gain-sign", "numeric-root-unconfirmed",
-    "ratio-off-series",
+    "ratio-off-series", "joint-solutions",
     # design/spread.py
     "tolerance-no-effect", "too-many-corners", "normal-corners", "quantity-undefined",
     # design/opamp_error.py

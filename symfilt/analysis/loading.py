@@ -3,7 +3,9 @@
 Each fixture is taken alone (the others at their ideal limits): the smallest R_L,
 the largest R_s and the largest C_L that keep the cutoff within a tolerance of the
 ideal cutoff. Closed form for first order, else a logarithmic scan and bisection at
-the circuit's values.
+the circuit's values. Each limit is set against the fixture's actual value (the factor
+between them, and the cutoff's shift with that fixture alone); :func:`combined_shift`
+gives the shift with every fixture at its actual value together.
 """
 
 from __future__ import annotations
@@ -42,6 +44,13 @@ class LoadLimit:
         Closed form of the bound, where one exists (first order).
     note : Finding or None
         Why there is no value (or what limits it), worded by :mod:`symfilt.export.findings`.
+    actual : float or None
+        The fixture's value in the circuit (None when symbolic).
+    factor : float or None
+        How far the actual value lies beyond the limit: actual/limit for a ``max`` bound,
+        limit/actual for a ``min`` one (above 1: outside the limit).
+    shift : float or None
+        The cutoff's relative change against ideal with this fixture alone at its actual value.
 
     Examples
     --------
@@ -55,6 +64,9 @@ class LoadLimit:
     value: float | None
     exact: sympy.Expr | None
     note: Finding | None = None
+    actual: float | None = None
+    factor: float | None = None
+    shift: float | None = None
 
 
 def _fixture_alone(h: NetworkFunction, keep: str) -> NetworkFunction:
@@ -107,6 +119,8 @@ def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
     >>> lims = load_limits(analyse(catalogue.build("rc-lowpass"), sensitivity=False), 0.02)
     >>> [(x.fixture, x.bound, x.exact, round(x.value)) for x in lims]
     [('R_s', 'max', R1/49, 96), ('R_L', 'min', 50*R1, 235000)]
+    >>> round(lims[0].actual), round(lims[0].factor, 2), round(lims[0].shift, 4)
+    (600, 6.26, -0.1132)
     """
     c = analysis.circuit
     values = dict(c.values())
@@ -126,8 +140,48 @@ def load_limits(analysis: Analysis, tolerance: float) -> list[LoadLimit]:
             value, note = finite_float(exact.xreplace(values)), None
         else:
             value, note = _scanned_bound(analysis, h, x, (bound, scan), tolerance, values)
-        out.append(LoadLimit(name, bound, tolerance, value, exact, note))
+        out.append(LoadLimit(name, bound, tolerance, value, exact, note, *_against_actual(analysis, h, x, bound, value)))
     return out
+
+
+def combined_shift(analysis: Analysis) -> float | None:
+    """The cutoff's relative change against ideal with every fixture at its value together.
+
+    Parameters
+    ----------
+    analysis : Analysis
+
+    Returns
+    -------
+    float or None
+        loaded cutoff / ideal cutoff - 1; None when either has no number.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> round(combined_shift(analyse(catalogue.build("rc-lowpass"), sensitivity=False)), 4)
+    0.3568
+    """
+    loaded, ideal = (analysis.numeric[k].get("cutoff_hz") for k in ("loaded", "ideal"))
+    return None if loaded is None or not ideal else loaded / ideal - 1
+
+
+def _against_actual(analysis: Analysis, h: NetworkFunction, x: sympy.Symbol, bound: str, value):
+    """(actual value, factor beyond the limit, cutoff shift with this fixture alone) - None where unknown."""
+    values = dict(analysis.circuit.values())
+    if x not in values:
+        return None, None, None
+    actual = float(values[x])
+    factor = None
+    if value:
+        factor = actual / value if bound == "max" else value / actual
+    ideal = analysis.numeric["ideal"].get("cutoff_hz")
+    others = {k: v for k, v in values.items() if k != x}
+    if ideal is None or (h.free_symbols() - {S, x} - set(others)):
+        return actual, factor, None
+    w = _cutoff_function(h, x, others)(actual)
+    return actual, factor, None if w is None else w / (2 * math.pi * ideal) - 1
 
 
 def _exact_bound(h: NetworkFunction, x: sympy.Symbol, ideal_cut, tolerance: float):

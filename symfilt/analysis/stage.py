@@ -16,6 +16,7 @@ import sympy
 
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit
 from symfilt.model.opamp import opamp_parameters
+from symfilt.model.structure import unreached_error
 from symfilt.model.values import parse_value
 from symfilt.errors import UsageError
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
@@ -339,6 +340,8 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     (['gain', 'q', 'w0'], True)
     """
     h = derive(circuit, "transfer", max_terms=max_terms, progress=progress)
+    if h.ratio.num == 0:  # the output is not reached from the input: most likely a misspelt node
+        raise unreached_error(circuit)
     zin = derive(circuit, "zin", max_terms=max_terms, progress=progress)
     zout = derive(circuit, "zout", max_terms=max_terms, progress=progress)
     found = loops(circuit, max_terms=max_terms, progress=progress)

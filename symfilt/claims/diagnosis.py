@@ -1,10 +1,13 @@
 """What the diagnosis of a differing claim looks for, as data.
 
 When a claim differs from the derived result, :func:`diagnose` looks for the
-usual slips (load or source resistance left out, op-amp taken as ideal, a part
-shorted or left open, a lost sign, 2*pi, a missing j, two parts exchanged, a
-constant factor), states plain facts (symbols, order, DC and high-frequency
-gain) and finds one set of values where the two differ. Each item is a
+usual slips, alone or in pairs (:mod:`symfilt.claims.slips`: load or source
+resistance left out, op-amp taken as ideal, a part shorted or left open, a lost
+sign, 2*pi, a missing j, two parts exchanged, one part's name written for another;
+on the squares when the quantity has a root), else a constant factor; states plain
+facts (symbols, order, DC and high-frequency gain, the first differing coefficient)
+and finds one set of values where the two differ (other values than the given ones
+when the two agree there: "equal at your values but not in general"). Each item is a
 :class:`ClaimFinding`: a ``kind`` code and its data. The words are chosen in
 :mod:`symfilt.export.check_report`, nowhere here.
 
@@ -19,7 +22,6 @@ Examples
 
 from __future__ import annotations
 
-import itertools
 import math
 import random
 from dataclasses import dataclass, field
@@ -29,13 +31,12 @@ import mpmath
 import sympy
 
 from symfilt.claims.compare import Judge, mp_eval
-
-_TWO_PI = 2 * sympy.pi
+from symfilt.claims.slips import coefficient_hint, find_slips, limit_of
 
 #: Kinds of finding, in the order they are looked for.
-FINDING_KINDS = ("left-out", "part-limit", "sign", "two-pi", "missing-j", "exchanged", "constant-factor",
-                 "no-simple-cause", "missing-symbols", "extra-symbols", "order", "limit-differs",
-                 "counterexample")
+FINDING_KINDS = ("left-out", "part-limit", "sign", "two-pi", "missing-j", "exchanged", "renamed",
+                 "constant-factor", "no-simple-cause", "missing-symbols", "extra-symbols", "order", "limit-differs",
+                 "coefficient", "equal-at-values", "counterexample")
 
 
 @dataclass(frozen=True)
@@ -60,95 +61,13 @@ class ClaimFinding:
     data: Mapping[str, Any] = field(default_factory=dict, hash=False)
 
 
-# ---------------------------------------------------------------- limits (rational in one symbol)
-
-
-def _rational_in(expr: sympy.Expr, x: sympy.Symbol) -> bool:
-    """True when x appears only under + * and whole powers."""
-    if x not in expr.free_symbols:
-        return True
-    if expr.is_Symbol:
-        return True
-    if expr.is_Pow:
-        return expr.exp.is_Integer and _rational_in(expr.base, x)
-    return (expr.is_Add or expr.is_Mul) and all(_rational_in(a, x) for a in expr.args)
-
-
-def _limit(expr: sympy.Expr | None, x: sympy.Symbol, at_zero: bool) -> sympy.Expr | None:
-    """Limit of a rational function of x as x -> 0 or oo (zoo when unbounded), None if not rational."""
-    if expr is None or x not in expr.free_symbols:
-        return expr
-    if not _rational_in(expr, x):
-        return None
-    from symfilt.engine.rational import rational_limit
-
-    return rational_limit(expr, x, 0 if at_zero else "oo")
-
-
 # ---------------------------------------------------------------- the usual slips
-
-#: Fixture symbol -> (limit at zero?, what leaving it out means).
-_FIXTURES = {"R_L": (False, "load"), "C_L": (True, "load-capacitance"), "R_s": (True, "source-resistance")}
-
-
-def _candidate_limits(missing: list[sympy.Symbol]) -> tuple[list, list]:
-    """(fixture and op-amp limits, single-part limits) for the symbols the claim lacks."""
-    fixtures, parts = [], []
-    for x in missing:
-        name = x.name
-        if name in _FIXTURES:
-            fixtures.append((x, _FIXTURES[name][0], _FIXTURES[name][1]))
-        elif name.startswith("A_"):
-            fixtures.append((x, False, "opamp-gain"))
-        elif name.startswith("GBW_"):
-            fixtures.append((x, False, "opamp-bandwidth"))
-        elif name[:1] in "RCL" and name != "s":
-            short_at_zero = name[0] in "RL"
-            parts.append((x, True, "short" if short_at_zero else "open"))
-            parts.append((x, False, "open" if short_at_zero else "short"))
-        else:
-            parts.extend([(x, True, None), (x, False, None)])
-    return fixtures, parts
-
-
-def _limit_findings(claim: sympy.Expr, derived: sympy.Expr, judge: Judge, missing: list) -> list[ClaimFinding]:
-    fixtures, parts = _candidate_limits(missing)
-    for size in range(1, min(len(fixtures), 4) + 1):
-        for chosen in itertools.combinations(fixtures, size):
-            target = derived
-            for x, at_zero, _ in chosen:
-                target = _limit(target, x, at_zero)
-            if target is not None and not target.has(sympy.zoo) and judge.equal(claim, target):
-                limits = tuple((x.name, at_zero, what) for x, at_zero, what in chosen)
-                return [ClaimFinding("left-out", {"limits": limits})]
-    for x, at_zero, effect in parts:
-        target = _limit(derived, x, at_zero)
-        if target is not None and not target.has(sympy.zoo) and judge.equal(claim, target):
-            return [ClaimFinding("part-limit", {"symbol": x.name, "at_zero": at_zero, "effect": effect})]
-    return []
 
 
 def _slips(claim: sympy.Expr, derived: sympy.Expr, judge: Judge) -> list[ClaimFinding]:
-    """Explanations: limits, sign, 2*pi, constant factor, exchanged parts."""
-    s = judge.s
-    missing = sorted(derived.free_symbols - claim.free_symbols - {s}, key=str)
-    out = _limit_findings(claim, derived, judge, missing)
-    if judge.equal(claim, -derived):
-        out.append(ClaimFinding("sign"))
-    for target, how in ((derived / _TWO_PI, "divided"), (derived * _TWO_PI, "times"),
-                        (derived.xreplace({s: _TWO_PI * s}), "s-for-2pi-s"),
-                        (derived.xreplace({s: s / _TWO_PI}), "2pi-s-for-s")):
-        if target != derived and judge.equal(claim, target):
-            out.append(ClaimFinding("two-pi", {"how": how}))
-            break
-    if sympy.I in claim.atoms() and judge.equal(claim, derived.xreplace({s: -sympy.I * s})):
-        out.append(ClaimFinding("missing-j"))
-    common = sorted(claim.free_symbols & derived.free_symbols - {s}, key=str)
-    pairs = [(a, b) for a, b in itertools.combinations(common, 2) if a.name[0] == b.name[0]][:60]
-    for a, b in pairs:
-        if judge.equal(claim.xreplace({a: b, b: a}), derived):
-            out.append(ClaimFinding("exchanged", {"a": a.name, "b": b.name}))
-    if not out and s in derived.free_symbols:
+    """Explanations: single slips and pairs (:func:`symfilt.claims.slips.find_slips`), else a constant factor."""
+    out = find_slips(claim, derived, judge)
+    if not out and judge.s in derived.free_symbols:
         factor = judge.ratio(claim, derived)
         if factor is not None:
             out.append(ClaimFinding("constant-factor", {"factor": factor}))
@@ -170,9 +89,12 @@ def _facts(claim: sympy.Expr, derived: sympy.Expr, judge: Judge) -> list[ClaimFi
     if expected is not None and got is not None and expected != got:
         out.append(ClaimFinding("order", {"expected": expected, "got": got}))
     for at_zero in (True, False):
-        want, have = _limit(derived, s, at_zero), _limit(claim, s, at_zero)
+        want, have = limit_of(derived, s, at_zero), limit_of(claim, s, at_zero)
         if want is not None and have is not None and not judge.equal(have, want):
             out.append(ClaimFinding("limit-differs", {"at_zero": at_zero, "expected": want, "got": have}))
+    hint = coefficient_hint(claim, derived, judge)
+    if hint is not None:
+        out.append(hint)
     return out
 
 
@@ -212,33 +134,70 @@ def _worst_frequency(claim, derived, s, point, uses_s, mp):
     return best
 
 
+def _agrees(best) -> bool:
+    """No frequency on the grid tells the two apart (the most telling one is within 1e-12)."""
+    if best is None:
+        return True
+    have, want = best[2], best[3]
+    return want != 0 and abs(have / want - 1) < 1e-12
+
+
 def _counterexample(claim: sympy.Expr, derived: sympy.Expr, s: sympy.Symbol,
-                    values: Mapping[str, float], seed: int) -> tuple[dict[str, float] | None, ClaimFinding | None]:
-    """One set of values where the two differ, and by how much in dB."""
+                    values: Mapping[str, float], seed: int, gain: bool) -> tuple[dict | None, list]:
+    """One set of values where the two differ, and by how much (in dB for a gain, else relatively).
+
+    When the two agree at the given values (to 1e-12) but not in general, that is a finding
+    of its own and the counterexample is drawn at other values."""
     rng, mp = random.Random(seed + 1), mpmath.MPContext()
     mp.dps = 30
     symbols = sorted((claim.free_symbols | derived.free_symbols) - {s}, key=str)
-    chosen = _random_values(symbols, values, rng)
-    point: dict[sympy.Symbol, Any] = {x: mp.mpf(chosen[x.name]) for x in symbols}
     uses_s = s in claim.free_symbols | derived.free_symbols
-    best = _worst_frequency(claim, derived, s, point, uses_s, mp)
+    out = []
+    chosen = _random_values(symbols, values, rng)
+    best = _worst_frequency(claim, derived, s, {x: mp.mpf(chosen[x.name]) for x in symbols}, uses_s, mp)
+    given = [x.name for x in symbols if x.name in values]
+    if given and _agrees(best):
+        out.append(ClaimFinding("equal-at-values", {"symbols": tuple(given)}))
+        chosen = _random_values(symbols, {}, rng)
+        best = _worst_frequency(claim, derived, s, {x: mp.mpf(chosen[x.name]) for x in symbols}, uses_s, mp)
     if best is None:
-        return None, None
+        return None, out
     _, w, have, want, db, phase = best
     if w is not None:
         chosen["omega" if "w" in chosen else "w"] = w
     size = lambda v: (float(abs(v)), float(20 * mp.log10(abs(v))) if v != 0 else None)
     (claim_abs, claim_db), (derived_abs, derived_db) = size(have), size(want)
-    return chosen, ClaimFinding("counterexample", {
+    relative = float(abs(have / want - 1)) if want != 0 else math.inf
+    return chosen, out + [ClaimFinding("counterexample", {
         "values": dict(chosen), "claim": claim_abs, "claim_db": claim_db, "derived": derived_abs,
-        "derived_db": derived_db, "db_apart": db, "phase_apart": phase})
+        "derived_db": derived_db, "db_apart": db, "phase_apart": phase, "gain": gain,
+        "claim_value": complex(have) if uses_s else float(mp.re(have)),
+        "derived_value": complex(want) if uses_s else float(mp.re(want)), "relative": relative})]
 
 
 # ---------------------------------------------------------------- all of it
 
 
+def _dimensionless(expr: sympy.Expr, s) -> bool:
+    """True when expr is unchanged by impedance scaling (R, L times k, C over k) and by frequency
+    scaling (C, L times k, s and bandwidths over k): a ratio of like quantities, such as a gain."""
+    if sympy.count_ops(expr) > 400:  # large: the transfer functions, which are gains
+        return s in expr.free_symbols
+    k = sympy.Symbol("k_scale", positive=True)
+    for scale in ({"R": k, "C": 1 / k, "L": k, "GBW_": 1, "P2_": 1, "s": 1},
+                  {"R": 1, "C": k, "L": k, "GBW_": 1 / k, "P2_": 1 / k, "s": 1 / k}):
+        rep = {}
+        for x in expr.free_symbols:
+            key = "s" if x == s else next((p for p in ("GBW_", "P2_") if x.name.startswith(p)), x.name[:1])
+            if key in scale and scale[key] != 1:
+                rep[x] = x * scale[key]
+        if rep and sympy.cancel(expr.xreplace(rep) - expr) != 0:
+            return False
+    return True
+
+
 def diagnose(claim: sympy.Expr, derived: sympy.Expr, judge: Judge, values: Mapping[str, float],
-             seed: int) -> tuple[tuple[ClaimFinding, ...], dict[str, float] | None]:
+             seed: int, gain: bool | None = None) -> tuple[tuple[ClaimFinding, ...], dict[str, float] | None]:
     """Why a claim differs from the derived result: slips, facts and a counterexample.
 
     Parameters
@@ -251,6 +210,9 @@ def diagnose(claim: sympy.Expr, derived: sympy.Expr, judge: Judge, values: Mappi
         Values for the counterexample (others are drawn at random).
     seed : int
         Seed of the random values.
+    gain : bool or None
+        Whether the quantity is a gain (its difference is given in dB); None: when it keeps its
+        value under impedance and frequency scaling (a Q counts as a gain then).
 
     Returns
     -------
@@ -267,5 +229,6 @@ def diagnose(claim: sympy.Expr, derived: sympy.Expr, judge: Judge, values: Mappi
     (['sign', 'counterexample'], {'R1': 1000.0, 'R2': 10000.0})
     """
     findings = _slips(claim, derived, judge) or [ClaimFinding("no-simple-cause")]
-    counter, example = _counterexample(claim, derived, judge.s, values, seed)
-    return tuple(findings + _facts(claim, derived, judge) + ([example] if example else [])), counter
+    gain = _dimensionless(derived, judge.s) if gain is None else gain
+    counter, examples = _counterexample(claim, derived, judge.s, values, seed, gain)
+    return tuple(findings + _facts(claim, derived, judge) + examples), counter

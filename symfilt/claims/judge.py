@@ -88,7 +88,8 @@ def _claim_expr(claim: Any, table: dict[str, sympy.Symbol]) -> sympy.Expr:
 
 
 def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping[str, Any] | None = None,
-               rng_seed: int = 0, ties: Mapping[str, sympy.Expr] | None = None) -> Equivalence:
+               rng_seed: int = 0, ties: Mapping[str, sympy.Expr] | None = None,
+               quantity: str | None = None) -> Equivalence:
     """Decide whether a hand derivation equals a derived quantity, and if not, why.
 
     Parameters
@@ -108,6 +109,10 @@ def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping
     ties : Mapping[str, sympy.Expr], optional
         Tied part name -> its expression (:meth:`symfilt.model.circuit.Circuit.ties`):
         the claim may use a tied part's name, which stands for its tie.
+    quantity : str, optional
+        What the derived quantity is (``transfer``, ``dc-gain``, ``cutoff``, ``w0``, ``q``,
+        ``zin``, ``zout``): only a gain's difference is given in dB. Without it, a quantity
+        that depends on s counts as a gain.
 
     Returns
     -------
@@ -152,5 +157,6 @@ def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping
     same, method, points = judge.same(hand, target)
     if same:
         return Equivalence(True, method, points, (), None)
-    diagnosis, counter = diagnose(hand, target, judge, given, rng_seed)
+    gain = None if quantity is None else quantity in ("transfer", "dc-gain", "dc_gain", "gain")
+    diagnosis, counter = diagnose(hand, target, judge, given, rng_seed, gain)
     return Equivalence(False, method, points, diagnosis, counter)

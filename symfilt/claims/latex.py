@@ -247,8 +247,27 @@ def _group_tokens(tokens: list[tuple[str, Any]], where: str) -> list[tuple]:
     return group(None, 0)
 
 
+def _terms(items: list[tuple]) -> list[list[tuple]]:
+    """The items split before each binary + or - (a term keeps its sign as its first item)."""
+    out: list[list[tuple]] = [[]]
+    for item in items:
+        if item[0] == "op" and item[1] in "+-" and out[-1] and out[-1][-1][0] != "op":
+            out.append([])
+        out[-1].append(item)
+    return out
+
+
 def _emit(items: list[tuple], where: str) -> str:
-    """Canonical LaTeX: explicit \\cdot, parallel as 1/(1/a + 1/b)."""
+    """Canonical LaTeX: explicit \\cdot, parallel as 1/(1/a + 1/b), binding tighter than + and -."""
+    if any(item[0] == "par" for item in items):
+        terms = _terms(items)
+        if len(terms) > 1:
+            out = []
+            for term in terms:
+                sign = term[0][1] if term[0][0] == "op" and term[0][1] in "+-" else None
+                body = term[1:] if sign else term
+                out.append((f" {sign} " if sign else "") + "(" + _emit(body, where) + ")")
+            return "".join(out)
     parts: list[list[tuple]] = [[]]
     for item in items:
         if item[0] == "par":

@@ -64,7 +64,7 @@ class _PlainWalker:
         if depth > MAX_DEPTH:
             raise ClaimError(self.where, f"the claim is nested more than {MAX_DEPTH} levels deep",
                              "simplify the formula")
-        if isinstance(node, ast.BinOp) and isinstance(node.op, (ast.Add, ast.Sub, ast.Mult, ast.Div)):
+        if isinstance(node, ast.BinOp) and isinstance(node.op, (ast.Add, ast.Sub, ast.Mult, ast.Div, ast.MatMult)):
             return self._chain(node, depth)
         if isinstance(node, ast.BinOp) and isinstance(node.op, (ast.Pow, ast.BitOr)):
             left, right = self.visit(node.left, depth + 1), self.visit(node.right, depth + 1)
@@ -93,14 +93,17 @@ class _PlainWalker:
     def _chain(self, node: ast.BinOp, depth: int) -> sympy.Expr:
         """A run of + - (or * /) read without recursion, so long sums stay shallow."""
         additive = isinstance(node.op, (ast.Add, ast.Sub))
-        kinds = (ast.Add, ast.Sub) if additive else (ast.Mult, ast.Div)
+        kinds = (ast.Add, ast.Sub) if additive else (ast.Mult, ast.Div, ast.MatMult)
         parts = []
         while isinstance(node, ast.BinOp) and isinstance(node.op, kinds):
-            parts.append((isinstance(node.op, (ast.Sub, ast.Div)), node.right))
+            parts.append((isinstance(node.op, (ast.Sub, ast.Div)), node.right, isinstance(node.op, ast.MatMult)))
             node = node.left
-        parts.append((False, node))
-        tops, bottoms = [], []
-        for inverse, operand in reversed(parts):
+        parts.append((False, node, False))
+        tops, bottoms, branches = [], [], []
+        for inverse, operand, new_branch in reversed(parts):
+            if new_branch:  # `||` (read as @): the products on either side are the branches
+                branches.append(sympy.Mul(*tops) / sympy.Mul(*bottoms))
+                tops, bottoms = [], []
             value = self.visit(operand, depth + 1)
             if additive:
                 tops.append(-value if inverse else value)
@@ -112,7 +115,10 @@ class _PlainWalker:
                 tops.append(value)
         if additive:
             return sympy.Add(*tops)
-        return sympy.Mul(*tops) / sympy.Mul(*bottoms)
+        value = sympy.Mul(*tops) / sympy.Mul(*bottoms)
+        for branch in reversed(branches):
+            value = parallel(branch, value)
+        return value
 
     def _number(self, node: ast.Constant) -> sympy.Expr:
         if isinstance(node.value, bool) or not isinstance(node.value, (int, float, complex)):
@@ -136,7 +142,11 @@ def _parse_plain(text: str, table: Mapping[str, sympy.Symbol], where: str) -> sy
         deepest = max(deepest, depth)
     if deepest > MAX_DEPTH:
         raise ClaimError(where, f"the claim is nested more than {MAX_DEPTH} levels deep", "simplify the formula")
-    src = " ".join(text.replace("||", "|").replace("^", "**").split())
+    if "@" in text:
+        raise ClaimError(where, "the operator '@' is not allowed", PLAIN_HELP)
+    # `||` binds tighter than + and -, looser than * and /: read as @ (the level of *), and the
+    # products on either side of it are its branches (_PlainWalker._chain)
+    src = " ".join(text.replace("||", "@").replace("|", "@").replace("^", "**").split())
     for old, new in (("·", "*"), ("×", "*"), ("−", "-")):
         src = src.replace(old, new)
     try:
@@ -157,8 +167,9 @@ def parse_claim(text: str, symbols: Mapping[str, sympy.Symbol], *, where: str = 
     Plain text uses Python's operators (``^`` is accepted for ``**``) with
     ``sqrt()``, ``pi``, ``j`` or ``I`` for the imaginary unit, ``w`` or ``omega``
     for the angular frequency (``j*w`` becomes ``s``) and ``a || b`` for a
-    parallel combination ``a*b/(a + b)``; ``||`` binds more loosely than ``+``,
-    like Python's ``|``, so write ``R_s + (R1 || R2)``. Text containing a
+    parallel combination ``a*b/(a + b)``; ``||`` binds tighter than ``+`` and ``-``
+    and looser than ``*`` and ``/``: ``R_s + R1 || R2`` is ``R_s + (R1 || R2)`` and
+    ``2*R1 || R2`` is ``(2*R1) || R2`` (LaTeX alike). Text containing a
     backslash or a brace is LaTeX: ``\frac``, ``\cdot``, ``\left( \right)``,
     ``\sqrt``, ``\omega``, ``\pi``, ``\parallel`` or ``\|``, and names written
     ``R_{1}``, ``R_{s}``, ``A_{U1}``, ``\mathrm{GBW}_{U1}`` or plainly. A left-hand
@@ -193,6 +204,8 @@ def parse_claim(text: str, symbols: Mapping[str, sympy.Symbol], *, where: str = 
     1/(C1*R1*s + 1)
     >>> parse_claim("2.2e-9 * R1^2", {"R1": R1})
     11*R1**2/5000000000
+    >>> parse_claim("R1 + R1 || C1", {"R1": R1, "C1": C1})
+    C1*R1/(C1 + R1) + R1
     >>> parse_claim("__import__('os')", {"R1": R1})
     Traceback (most recent call last):
     ...

@@ -22,9 +22,9 @@ Examples
 
 from __future__ import annotations
 
+import itertools
 import math
 from dataclasses import dataclass, field
-from types import MappingProxyType
 from typing import Callable, Mapping, Sequence
 
 import sympy
@@ -36,46 +36,11 @@ from symfilt.analysis.stage import StageResult, analyse, numeric_values
 from symfilt.model.circuit import LOAD_C, Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.errors import UsageError
-from symfilt.model.values import parse_value
+from symfilt.model.values import format_value
 
 from symfilt.design.eseries import series_neighbours, series_values
 
-# --- targets --------------------------------------------------------------------
-
-#: Target quantities and the key of :func:`symfilt.analysis.stage.numeric_values` that measures each.
-TARGETS = MappingProxyType({"cutoff": "cutoff_hz", "w0": "f0_hz", "q": "q", "dc-gain": "dc_gain"})
-_ALIASES = {"cutoff": "cutoff", "fc": "cutoff", "w0": "w0", "f0": "w0", "q": "q",
-            "dc-gain": "dc-gain", "dc_gain": "dc-gain", "gain": "dc-gain"}
-
-
-def parse_target(text: str) -> tuple[str, sympy.Rational]:
-    """Read ``quantity=value`` (``cutoff=2k``, ``w0=1.5kHz``, ``q=0.707``, ``dc-gain=-2``).
-
-    Cutoff and w0 are in Hz.
-
-    Parameters
-    ----------
-    text : str
-        The target as written on the command line; the value takes SI prefixes.
-
-    Returns
-    -------
-    (quantity, value) : (str, sympy.Rational)
-        quantity is one of the keys of :data:`TARGETS`.
-
-    Examples
-    --------
-    >>> parse_target("cutoff=2k")
-    ('cutoff', 2000)
-    >>> parse_target("q = 0.5")
-    ('q', 1/2)
-    """
-    name, sep, value = text.partition("=")
-    key = _ALIASES.get(name.strip().lower())
-    if not sep or key is None:
-        raise UsageError("--target", f"{text!r} is not a target",
-                         "write quantity=value with quantity cutoff, w0, q or dc-gain, e.g. cutoff=2k")
-    return key, parse_value(value.strip(), where="--target")
+from symfilt.design.targets import ALIGNMENTS, TARGETS, parse_target, read_target
 
 
 @dataclass(frozen=True)
@@ -133,7 +98,8 @@ class SizeResult:
     series : str
         The preferred-number series of the neighbours (``E24``, ...).
     neighbours : tuple of Neighbour
-        The series values just below and just above the solution.
+        The series values just below and just above the solution; with parts held in a ratio,
+        every combination of each part's own two neighbours, the smallest loaded error first.
     present : float or None
         The loaded quantity with the circuit's present values.
     notes : tuple of Finding
@@ -229,7 +195,13 @@ def _rational(v: float) -> sympy.Rational:
     return sympy.Rational(repr(float(v)))
 
 
-_SCAN = {"resistor": (1e-3, 1e12), "capacitor": (1e-18, 1.0), "inductor": (1e-12, 1e3)}
+def _shown(v: float, unit: str) -> str:
+    """A number for a message: engineering prefixes with a unit, else four digits."""
+    return format_value(_rational(v), unit) if unit else f"{v:.4g}"
+
+
+#: Range of values searched for each kind of part (SI base units).
+SCAN_RANGE = {"resistor": (1e-3, 1e12), "capacitor": (1e-18, 1.0), "inductor": (1e-12, 1e3)}
 
 
 def _log_roots(f: Callable[[float], float | None], lo: float, hi: float, per_decade: int = 3) -> list[float]:
@@ -280,7 +252,26 @@ def _numeric_cutoff_function(stage: StageResult, tie: dict, values: dict, x, goa
     return f
 
 
-def _varied_symbols(circuit: Circuit, vary: Sequence[str]):
+def varied_symbols(circuit: Circuit, vary: Sequence[str]) -> list:
+    """(name, symbol, value or None, kind) of each part to vary, checked.
+
+    Parameters
+    ----------
+    circuit : Circuit
+        The circuit.
+    vary : sequence of str
+        Resistors, capacitors, inductors, parameters of those units, or R_s, R_L, C_L.
+
+    Returns
+    -------
+    list of (str, sympy.Symbol, sympy.Rational or None, str)
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> [(n, str(v), k) for n, _s, v, k in varied_symbols(catalogue.build("rc-lowpass"), ["R1"])]
+    [('R1', '4700', 'resistor')]
+    """
     table = circuit.symbols()
     out = []
     for name in vary:
@@ -342,13 +333,13 @@ def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str]
     >>> sorted(r.neighbours[0].values)
     ['C1', 'C2']
     """
-    quantity, tval = _read_target(target)
+    quantity, tval = read_target(target)
     series_values(series)
     names, varied = _read_vary(circuit, vary)
     first_name, x, first_value, kind = varied[0]
     ratio = {n: (sympy.Integer(1) if i == 0 else v / first_value) for i, (n, _s, v, _k) in enumerate(varied)}
     a = analyse(circuit, sensitivity=False, max_terms=max_terms)
-    values = _fixed_values(circuit, a, varied)
+    values = fixed_values(circuit, a, varied)
     tie = {s: x * ratio[n] for n, s, _v, _k in varied[1:]}
     notes: list[str] = []
     at = _evaluator(values, varied, ratio, TARGETS[quantity])
@@ -362,38 +353,60 @@ def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str]
     _require_dependence(a.loaded, quantity, x, tie, first_name)
     candidates, method, reason = _solutions(a, quantity, goal, x, tie, values, (first_value, kind), check, notes)
     if not candidates:
-        raise UsageError("size", f"no positive value of {first_name} gives {quantity} = {float(tval):g}",
-                         "check the target is reachable with the other parts, or vary another part")
+        raise _unreachable(a, at, (first_name, kind), quantity, float(goal))
     centre = float(first_value) if first_value is not None else None
     candidates.sort(key=lambda c: abs(math.log(c[0] / centre)) if centre else c[0])
     value, exact = candidates[0]
     if exact is not None:
         exact = tidy(exact, radicals=True)
-    neighbours = []
-    for xv in series_neighbours(value, series):
-        lo_v, id_v = at(a.loaded, xv), at(a.ideal, xv)
-        err = None if lo_v is None else (lo_v / float(goal) - 1) * 100
-        ierr = None if id_v is None else (id_v / float(goal) - 1) * 100
-        neighbours.append(Neighbour({n: xv * ratio[n] for n, *_ in varied}, lo_v, id_v, err, ierr))
-    if len(varied) > 1 and any(ratio[n] != 1 for n in ratio):
-        notes.append(finding("ratio-off-series"))
+    neighbours = _neighbours(a, values, varied, ratio, value, series, (TARGETS[quantity], float(goal)))
     return SizeResult(names, ratio, quantity, tval, exact, None if exact is not None else reason, value,
                       tuple(sorted(c[0] for c in candidates)), method, series.strip().upper(),
                       tuple(neighbours), present, tuple(notes), {n: k for n, _s, _v, k in varied})
 
 
-def _read_target(target) -> tuple[str, sympy.Rational]:
-    """The target quantity (canonical name) and its value, checked."""
-    quantity, raw = target
-    quantity = _ALIASES.get(str(quantity).lower(), str(quantity).lower())
-    if quantity not in TARGETS:
-        raise UsageError("--target", f"unknown quantity {target[0]!r}", "use cutoff, w0, q or dc-gain")
-    tval = parse_value(raw, where="--target")
-    if quantity in ("cutoff", "w0", "q") and tval <= 0:
-        raise UsageError("--target", f"a {quantity} of {tval} is not positive", "give a positive target")
-    if tval == 0:
-        raise UsageError("--target", "a DC gain of 0 cannot be sized for", "give a non-zero gain")
-    return quantity, tval
+def _unreachable(a, at, part: tuple, quantity: str, goal: float) -> UsageError:
+    """No value meets the target: the range the quantity covers over the part's range, and what binds."""
+    name, kind = part
+    lo, hi = SCAN_RANGE[kind]
+    seen = []
+    for k in range(31):
+        xv = lo * (hi / lo) ** (k / 30)
+        v = at(a.loaded, _rational(xv))
+        if v is not None and math.isfinite(v):
+            seen.append((v, k))
+    reach = ""
+    if seen:
+        (low, k_low), (high, k_high) = min(seen), max(seen)
+        k = k_high if goal > high else k_low
+        end = {0: f", the {'highest' if goal > high else 'lowest'} as {name} -> 0",
+               30: f", the {'highest' if goal > high else 'lowest'} as {name} -> oo"}.get(k, "")
+        unit = "Hz" if quantity in ("cutoff", "w0") else ""
+        reach = f" (reachable {_shown(low, unit)} .. {_shown(high, unit)}{end})"
+    unit = "Hz" if quantity in ("cutoff", "w0") else ""
+    return UsageError("size", f"no positive value of {name} gives {quantity} = {_shown(goal, unit)}{reach}",
+                      "choose a reachable target, or vary another part")
+
+
+def _neighbours(a, values: dict, varied: list, ratio: dict, value: float, series: str, measure: tuple) -> list:
+    """The series values either side of every varied part (each snapped on its own), loaded and ideal;
+    several parts give every combination, the smallest loaded error first."""
+    key, goal = measure
+    options = [sorted(set(series_neighbours(value * float(ratio[n]), series))) for n, *_ in varied]
+    out = []
+    for combo in itertools.product(*options):
+        vals = {**values, **{s: v for (_n, s, _v, _k), v in zip(varied, combo)}}
+        got = []
+        for stage in (a.loaded, a.ideal):
+            try:
+                got.append(numeric_values(stage, vals).get(key))
+            except NoConvergence:
+                got.append(None)
+        errs = [None if v is None else (v / goal - 1) * 100 for v in got]
+        out.append(Neighbour({n: v for (n, *_r), v in zip(varied, combo)}, got[0], got[1], errs[0], errs[1]))
+    if len(varied) > 1:
+        out.sort(key=lambda n: math.inf if n.error_pct is None else abs(n.error_pct))
+    return out
 
 
 def _read_vary(circuit: Circuit, vary) -> tuple[tuple, list]:
@@ -401,15 +414,42 @@ def _read_vary(circuit: Circuit, vary) -> tuple[tuple, list]:
     names = (vary,) if isinstance(vary, str) else tuple(vary)
     if not names or len(set(names)) != len(names):
         raise UsageError("--vary", "name each varied part once", "e.g. --vary R1 or --vary C1,C2")
-    varied = _varied_symbols(circuit, names)
+    varied = varied_symbols(circuit, names)
     if len(varied) > 1 and any(v is None for _n, _s, v, _k in varied):
         raise UsageError("--vary", "parts held in a ratio need values (the ratio is taken from them)",
                          "give " + ", ".join(n for n, _s, v, _k in varied if v is None) + " a value")
     return names, varied
 
 
-def _fixed_values(circuit: Circuit, a, varied) -> dict:
-    """The values of every symbol but the varied ones; every symbol of H needs one."""
+def fixed_values(circuit: Circuit, a, varied) -> dict:
+    """The values of every symbol but the varied ones; every symbol of H needs one.
+
+    Parameters
+    ----------
+    circuit : Circuit
+        The circuit.
+    a : Analysis
+        Its analysis (:func:`symfilt.analysis.stage.analyse`).
+    varied : list
+        As :func:`varied_symbols` gives it.
+
+    Returns
+    -------
+    dict
+        Symbol -> exact value.
+
+    Raises
+    ------
+    UsageError
+        A symbol of the transfer function has no value.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> c = catalogue.build("rc-lowpass")
+    >>> sorted(str(k) for k in fixed_values(c, analyse(c, sensitivity=False), varied_symbols(c, ["R1"])))
+    ['C1', 'R_L', 'R_s']
+    """
     syms = {s for _n, s, _v, _k in varied}
     values = {k: v for k, v in circuit.values().items() if k not in syms}
     needed = (a.loaded.transfer.free_symbols() | a.ideal.transfer.free_symbols()) - {S} - syms
@@ -435,7 +475,7 @@ def _signed_goal(a, at, quantity: str, tval, present, kind: str, notes: list):
     """The target with the sign of the circuit's DC gain (its magnitude is sized)."""
     if quantity != "dc-gain":
         return tval
-    sample = present if present is not None else at(a.loaded, _rational(_SCAN[kind][0] * 1e6))
+    sample = present if present is not None else at(a.loaded, _rational(SCAN_RANGE[kind][0] * 1e6))
     if sample is not None and sample * float(tval) < 0:
         notes.append(finding("dc-gain-sign", negative=sample < 0, magnitude=abs(float(tval))))
         return -tval
@@ -502,11 +542,11 @@ def _target_function(a, quantity: str, goal, x, tie: dict, values: dict) -> Call
 def _numeric_candidates(g: Callable, start: tuple, check: Callable, notes: list) -> list:
     """Roots of g on a log scan around the present value (or over the kind's whole range)."""
     first_value, kind = start
-    centre = float(first_value) if first_value is not None else math.sqrt(_SCAN[kind][0] * _SCAN[kind][1])
-    lo, hi = (centre * 1e-6, centre * 1e6) if first_value is not None else _SCAN[kind]
+    centre = float(first_value) if first_value is not None else math.sqrt(SCAN_RANGE[kind][0] * SCAN_RANGE[kind][1])
+    lo, hi = (centre * 1e-6, centre * 1e6) if first_value is not None else SCAN_RANGE[kind]
     roots = _log_roots(g, lo, hi)
     if not roots and first_value is not None:
-        roots = _log_roots(g, *_SCAN[kind], per_decade=2)
+        roots = _log_roots(g, *SCAN_RANGE[kind], per_decade=2)
     candidates = [(v, None) for v in roots if check(v)]
     if roots and not candidates:
         candidates = [(v, None) for v in roots]
@@ -514,4 +554,5 @@ def _numeric_candidates(g: Callable, start: tuple, check: Callable, notes: list)
     return candidates
 
 
-__all__ = ["TARGETS", "Neighbour", "SizeResult", "parse_target", "size"]
+__all__ = ["ALIGNMENTS", "SCAN_RANGE", "TARGETS", "Neighbour", "SizeResult", "fixed_values", "parse_target",
+           "read_target", "size", "varied_symbols"]

@@ -33,8 +33,8 @@ TWO_PI_WORDS = {"divided": "the claim is the derived result divided by 2*pi",
 #: Findings worded without data.
 FIXED_WORDS = {"sign": "agrees up to sign: a sign was lost",
                "missing-j": "agrees when w is read as j*w: a j was left out (s = j*w)",
-               "no-simple-cause": "no simple cause found (tried source, load and op-amp limits, sign, 2*pi "
-                                  "and exchanged parts)"}
+               "no-simple-cause": "no simple cause found (tried source, load and op-amp limits, shorted and open "
+                                  "parts, sign, 2*pi, a missing j, exchanged and renamed parts, alone and in pairs)"}
 
 
 def _show(expr) -> str:
@@ -65,6 +65,12 @@ def _part_limit(data) -> str:
 
 def _counterexample(data) -> str:
     where = ", ".join(f"{k} = {v:.4g}" for k, v in data["values"].items())
+    if not data.get("gain", True):
+        apart = data["relative"]
+        shown = lambda v: f"{v:.6g}" if isinstance(v, float) else f"{v.real:.4g}{v.imag:+.4g}j"
+        text = (f"at {where}: the claim gives {shown(data['claim_value'])}, "
+                f"the derived result {shown(data['derived_value'])}")
+        return text + (", apart by an unbounded amount" if math.isinf(apart) else f", {apart * 100:.3g} % apart")
     mag = lambda v, db: f"{v:.4g}" + (f" ({db:+.2f} dB)" if db is not None else "")
     text = (f"at {where}: the claim gives {mag(data['claim'], data['claim_db'])}, "
             f"the derived result {mag(data['derived'], data['derived_db'])}")
@@ -87,7 +93,21 @@ _WORDING = {
     "limit-differs": lambda d: (f"{'DC gain (s -> 0)' if d['at_zero'] else 'high-frequency gain (s -> oo)'} "
                                 f"differs: expected {_show(d['expected'])}, got {_show(d['got'])}"),
     "counterexample": _counterexample,
+    "renamed": lambda d: f"agrees when {d['written']} is read as {d['meant']}: {d['written']} was written for {d['meant']}",
+    "coefficient": lambda d: (f"first difference in the {d['part']}'s coefficient of s^{d['power']} (N(s)/D(s) with "
+                              f"D's lowest coefficient 1): expected {_show(d['expected'])}, got {_show(d['got'])}"),
+    "equal-at-values": lambda d: ("equal at your values of " + ", ".join(d["symbols"])
+                                  + " but not in general: they differ at other values"),
 }
+
+
+def _qualified(finding: Any, text: str) -> str:
+    """A slip found on the squares, or as one of a pair, says so."""
+    if finding.data.get("paired"):
+        text += " (together with the next slip)" if finding.data.get("first") else " (together with the slip above)"
+    if finding.data.get("squared"):
+        text += " (compared as squares: the quantity has a root)"
+    return text
 
 
 def finding_text(finding: Any) -> str:
@@ -110,8 +130,8 @@ def finding_text(finding: Any) -> str:
     'agrees when R_L -> oo: the load was left out'
     """
     if finding.kind in FIXED_WORDS:
-        return FIXED_WORDS[finding.kind]
-    return _WORDING[finding.kind](finding.data)
+        return _qualified(finding, FIXED_WORDS[finding.kind])
+    return _qualified(finding, _WORDING[finding.kind](finding.data))
 
 
 def diagnosis_text(result: Any) -> list[str]:

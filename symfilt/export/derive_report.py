@@ -13,6 +13,7 @@ from __future__ import annotations
 
 from typing import Any
 
+from symfilt.analysis.loading import combined_shift
 from symfilt.design.opamp_error import AS_GIVEN
 from symfilt.export.findings import describe
 from symfilt.export.loop_report import loop_dict, loop_text
@@ -32,7 +33,8 @@ def load_limit_dicts(limits) -> list[dict[str, Any]]:
     Returns
     -------
     list of dict
-        ``fixture``, ``bound``, ``tolerance``, ``value``, ``exact`` (text or None), ``note`` (or None).
+        ``fixture``, ``bound``, ``tolerance``, ``value``, ``exact`` (text or None), ``note`` (or None),
+        ``actual``, ``factor`` and ``shift`` (None where unknown).
 
     Examples
     --------
@@ -41,7 +43,8 @@ def load_limit_dicts(limits) -> list[dict[str, Any]]:
     True
     """
     return [{"fixture": x.fixture, "bound": x.bound, "tolerance": x.tolerance, "value": x.value,
-             "exact": None if x.exact is None else str(x.exact), "note": describe(x.note) or None} for x in limits]
+             "exact": None if x.exact is None else str(x.exact), "note": describe(x.note) or None,
+             "actual": x.actual, "factor": x.factor, "shift": x.shift} for x in limits]
 
 
 def _select_json(data: dict, quantity: str) -> dict:
@@ -75,6 +78,7 @@ def derive_dict(report, quantity: str | None = None) -> dict:
     extra = {}
     if report.load_limits is not None:
         extra["load_limit"] = load_limit_dicts(report.load_limits)
+        extra["load_limit_combined"] = {"shift": combined_shift(report.analysis)}
     if report.opamp_error is not None:
         extra["opamp_error"] = design_report.opamp_error_dict(report.opamp_error)
     if report.analysis.loops:

@@ -38,6 +38,7 @@ _WORDS: dict[str, Callable[[dict], str]] = {
     "dc-gain-sign": _dc_gain_sign,
     "numeric-root-unconfirmed": lambda d: "the numeric root could not be confirmed with the exact transfer function",
     "ratio-off-series": lambda d: "the other varied parts follow the first in their ratio and may fall between series values",
+    "joint-solutions": lambda d: f"{d['count']} solutions found; the series values around each were ranked together",
     "tolerance-no-effect": lambda d: "no effect on the transfer function: " + ", ".join(d["names"]),
     "too-many-corners": lambda d: f"more than {d['limit']} toleranced parts: worst case from the sensitivities only",
     "normal-corners": lambda d: "normal distribution, tolerance = 3 sigma; corners are at +-tol (samples may pass them)",

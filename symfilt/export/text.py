@@ -379,7 +379,7 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     if quantity:
         text = _render_quantity(a, quantity)
         if load_limits:
-            text += "Load limits\n" + "".join(render_limit(x) + "\n" for x in load_limits)
+            text += "Load limits\n" + "".join(line + "\n" for line in _limit_lines(a, load_limits))
         return text
     c = a.circuit
     out = [f"symfilt — {c.title or 'circuit'}", f"input {c.input} → output {c.output}; ideal means {_fixtures_line(a)}", "",
@@ -414,7 +414,7 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     elif a.rules_note:
         out += ["", describe(a.rules_note)]
     if load_limits:
-        out += ["", "Load limits"] + [render_limit(x) for x in load_limits]
+        out += ["", "Load limits"] + _limit_lines(a, load_limits)
     return "\n".join(out) + "\n"
 
 
@@ -432,15 +432,51 @@ def render_limit(lim) -> str:
     >>> render_limit(LoadLimit("R_L", "min", 0.02, 235000.0, sympy.Symbol("R1") * 50, ""))
     '  R_L ≥ 235 kΩ keeps the cutoff within 2% of ideal  (R_L ≥ 50·R1)'
     """
-    if lim.value is None:
-        return f"  {lim.fixture}: {describe(lim.note)}"
     unit = "F" if lim.fixture == "C_L" else "Ω"
+    if lim.value is None:
+        return f"  {lim.fixture}: {describe(lim.note)}" + _against_actual(lim, unit)
     op = "≥" if lim.bound == "min" else "≤"
     text = f"  {lim.fixture} {op} {format_value(lim.value, unit)} keeps the cutoff within {lim.tolerance * 100:g}% of ideal"
     if lim.exact is not None:
         text += f"  ({lim.fixture} {op} {one_line(lim.exact)})"
     if lim.note:
         text += f"; {describe(lim.note)}"
+    return text + _against_actual(lim, unit)
+
+
+def render_combined(shift: float | None) -> str:
+    """The last load-limit line: every fixture at its value together.
+
+    Parameters
+    ----------
+    shift : float or None
+        :func:`symfilt.analysis.loading.combined_shift`.
+
+    Examples
+    --------
+    >>> render_combined(0.3568)
+    '  all fixtures at their values together: the cutoff moves +35.7 % from ideal'
+    """
+    shown = "by an unknown amount (a number is missing)" if shift is None else f"{shift * 100:+.3g} %"
+    return f"  all fixtures at their values together: the cutoff moves {shown} from ideal"
+
+
+def _limit_lines(a: Analysis, load_limits) -> list[str]:
+    from symfilt.analysis.loading import combined_shift
+
+    return [render_limit(x) for x in load_limits] + [render_combined(combined_shift(a))]
+
+
+def _against_actual(lim, unit: str) -> str:
+    """``; actual 5 kΩ, 12.9x above the limit, alone it moves the cutoff -20.4 %``."""
+    if lim.actual is None:
+        return ""
+    text = f"; actual {format_value(lim.actual, unit)}"
+    if lim.factor is not None:
+        text += (f", {lim.factor:.3g}x {'above' if lim.bound == 'max' else 'below'} the limit" if lim.factor > 1
+                 else f", within the limit (factor {lim.factor:.3g})")
+    if lim.shift is not None:
+        text += f", alone it moves the cutoff {lim.shift * 100:+.3g} %"
     return text
 
 

@@ -17,7 +17,7 @@ from symfilt.model.names import check_symbol_name, clip_name, node_name
 from symfilt.model.opamp import check_opamp_options, opamp_parameters
 from symfilt.model.expression import parse_tie, rkm_value, tie_text
 from symfilt.model.ties import TIEABLE
-from symfilt.model.values import parse_value
+from symfilt.model.values import parse_value, unit_of
 
 
 #: Part kinds and their pins.
@@ -41,6 +41,22 @@ S = sympy.Symbol("s")
 
 def _value(text, where: str):
     return None if text is None else parse_value(text, where=where)
+
+
+#: The unit of each passive kind's value, and the words for units in messages.
+KIND_UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
+_UNIT_WORDS = {"Ω": "ohms (a resistance)", "F": "farads (a capacitance)", "H": "henries (an inductance)",
+               "Hz": "hertz (a frequency)", "V": "volts (a voltage)", "A": "amperes (a current)"}
+
+
+def _check_unit(name: str, kind: str, value, where: str) -> None:
+    """A unit written with a passive part's value must be the part's own (22nH on a capacitor is refused)."""
+    unit = unit_of(value)
+    want = KIND_UNITS.get(kind)
+    if unit is None or want is None or unit == want:
+        return
+    raise CircuitError(where, f"value {value!r} is in {_UNIT_WORDS[unit]}, but {clip_name(name)} is a {kind}",
+                       f"give a {kind} its value in {_UNIT_WORDS[want].split(' ')[0]}, or check the part's kind")
 
 
 def part_symbol(name: str, kind: str = "resistor") -> sympy.Symbol:
@@ -257,6 +273,7 @@ class Part:
         if tie is not None:
             parse_tie(tie, where)  # a malformed expression is refused here; names are checked by the circuit
             value = rkm_value(tie)
+        _check_unit(name, kind, value, where)
         part = cls(name=name, kind=kind, nodes=nodes, value=_value(value, where), model=model, tie=tie,
                    gain=_value(gain, f"{where} gain"), gbw=_value(gbw, f"{where} gbw"), control=control,
                    iout_max=_value(iout_max, f"{where} iout_max"), slew=_value(slew, f"{where} slew"),

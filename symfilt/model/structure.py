@@ -30,6 +30,8 @@ from __future__ import annotations
 
 from typing import TYPE_CHECKING
 
+import sympy
+
 from symfilt.errors import CircuitError, SizeLimitError
 from symfilt.model.names import clip_name
 
@@ -320,8 +322,92 @@ def structure_warnings(circuit: "Circuit") -> list[str]:
                        "check the spelling of the node name or connect it")
     from symfilt.model.ties import unit_warnings, unused_parameters
 
+    out += value_warnings(circuit)
     for name in unused_parameters(circuit):
         out.append(f"parameters {name}: no part's value refers to it, check the spelling or remove it")
     if any(p.tie for p in circuit.parts):
         out += unit_warnings(circuit)
     return out
+
+
+#: Plausible values of each passive kind (SI base units): outside them a value is read, with a warning.
+PLAUSIBLE = {"resistor": (sympy.Rational(1, 100), sympy.Integer(10) ** 12),
+             "capacitor": (sympy.Rational(1, 10**16), sympy.Integer(1)),
+             "inductor": (sympy.Rational(1, 10**12), sympy.Integer(1000))}
+_PREFIX_HINTS = {"resistor": "check the prefix: m is milli, M is mega (1M is 1 MΩ)",
+                 "capacitor": "check the prefix: a bare number is in farads (22n is 22 nF, 22u is 22 µF)",
+                 "inductor": "check the prefix: a bare number is in henries (10m is 10 mH, 10u is 10 µH)"}
+
+
+def value_warnings(circuit: "Circuit") -> list[str]:
+    """A resistor, capacitor or inductor whose value lies outside :data:`PLAUSIBLE`, one message each.
+
+    Parameters
+    ----------
+    circuit : Circuit
+
+    Returns
+    -------
+    list of str
+        ``part C1: read as 22 F, above 1 F for a capacitor, check the prefix ...``.
+
+    Examples
+    --------
+    >>> from symfilt.model.circuit import Circuit, Part
+    >>> value_warnings(Circuit.build([Part.resistor("R1", "in", "out", "1m"), Part.capacitor("C1", "out", "0", "22")]))[0]
+    'part R1: read as 1 mΩ, below 10 mΩ for a resistor, check the prefix: m is milli, M is mega (1M is 1 MΩ)'
+    """
+    from symfilt.model.part import KIND_UNITS
+    from symfilt.model.values import format_value
+
+    out = []
+    for p in circuit.parts:
+        if p.kind not in PLAUSIBLE or p.value is None:
+            continue
+        lo, hi = PLAUSIBLE[p.kind]
+        unit = KIND_UNITS[p.kind]
+        if p.value < lo or p.value > hi:
+            side, bound = ("below", lo) if p.value < lo else ("above", hi)
+            out.append(f"part {p.name}: read as {format_value(p.value, unit)}, {side} {format_value(bound, unit)} "
+                       f"for a {p.kind}, {_PREFIX_HINTS[p.kind]}")
+    return out
+
+
+def unreached_error(circuit: "Circuit"):
+    """The error for a transfer function that is identically zero: the output is not reached from the
+    input, with the likely typo (a node with one connection whose name is close to another node's).
+
+    Parameters
+    ----------
+    circuit : Circuit
+
+    Returns
+    -------
+    CircuitError
+
+    Examples
+    --------
+    >>> from symfilt.model.circuit import Circuit, Part
+    >>> c = Circuit.build([Part.resistor("R1", "in", "a"), Part.resistor("R2", "a", "0"),
+    ...                    Part.capacitor("C1", "ot", "0"), Part.resistor("R3", "out", "0")])
+    >>> print(unreached_error(c))
+    circuit: H(s) = 0, the output out is not reached from the input in, check node ot (C1): did you mean out?
+    """
+    import difflib
+
+    count: dict[str, list[str]] = {}
+    for p in circuit.parts:
+        for n in p.nodes:
+            count.setdefault(n, []).append(p.name)
+    nodes = circuit.nodes()
+    hints = []
+    for node in nodes:
+        if len(count.get(node, [])) != 1 or node in (circuit.input, circuit.output, "0"):
+            continue
+        close = difflib.get_close_matches(node, [n for n in nodes if n != node and n != "0"], n=1, cutoff=0.5)
+        if close:
+            hints.append(f"node {node} ({count[node][0]}): did you mean {close[0]}?")
+    fix = ("check " + "; ".join(hints)) if hints else (f"check the parts that should join {circuit.input} "
+                                                         f"to {circuit.output} and their node names")
+    return CircuitError("circuit", f"H(s) = 0, the output {circuit.output} is not reached from the input "
+                        f"{circuit.input}", fix)

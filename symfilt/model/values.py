@@ -160,9 +160,86 @@ def parse_value(text: str | int | float | Fraction | sympy.Rational, *, where: s
         power = 0 if m["letter"] == "R" else PREFIXES[m["letter"]]
         return _decimal(f"{m['sign']}{m['int'] or '0'}.{m['frac']}", power, shown, where)
     suffix = _LEADING_NUMBER.sub("", body)
+    near = near_miss(body)
+    if near:
+        raise ValueParseError(where, f"value {shown} is not understood ({near[1]})", f"write {near[0]}")
     if suffix and suffix != body:
         raise ValueParseError(where, f"value {shown} has an unknown suffix {_shown(suffix)}", _SUFFIXES)
     raise ValueParseError(where, f"value {shown} is not understood", f"write {_ACCEPTED}")
+
+
+_NEAR_PREFIX = {"meg": ("M", "mega is M; m is milli"), "Meg": ("M", "mega is M"), "MEG": ("M", "mega is M"),
+                "K": ("k", "kilo is a small k"), "u": ("u", ""), "N": ("n", "nano is a small n"),
+                "P": ("p", "pico is a small p"), "U": ("u", "micro is a small u")}
+
+
+def near_miss(text: str) -> tuple[str, str] | None:
+    """What a value that is not one was probably meant to be, and why: ``1meg`` -> ``1M``,
+    ``22nf`` -> ``22n``, ``4,7k`` -> ``4.7k or 4k7``; None when nothing is near.
+
+    Parameters
+    ----------
+    text : str
+        The value text, spaces removed.
+
+    Returns
+    -------
+    (str, str) or None
+        The suggestion and the reason.
+
+    Examples
+    --------
+    >>> near_miss("1meg"), near_miss("22nf"), near_miss("4,7k")
+    (('1M', 'mega is M; m is milli'), ('22n (or 22nF)', 'the farad is a capital F; f is femto'), ('4.7k or 4k7', 'the decimal mark is a point'))
+    """
+    body = text.strip()
+    if (m := re.fullmatch(r"([+-]?\d+),(\d+)([pnuµμmkKMGTfR]?)(\D*)", body)) is not None:
+        head, frac, prefix, rest = m.groups()
+        letter = prefix or "R"
+        plain = f"{head}.{frac}{prefix}{rest}"
+        return f"{plain} or {head}{letter}{frac}{rest}", "the decimal mark is a point"
+    if (m := re.fullmatch(rf"({_NUMBER})(meg|Meg|MEG|K|N|P|U)(\w*)", body, re.ASCII)) is not None:
+        num, prefix, rest = m.groups()
+        good, why = _NEAR_PREFIX[prefix]
+        return f"{num}{good}{rest if rest.lower() not in ('', 'ohm', 'ohms') else ''}", why
+    if (m := re.fullmatch(rf"({_NUMBER})([pnuµμmkMG]?)(f|farad|farads)", body, re.ASCII)) is not None:
+        num, prefix, _unit = m.groups()
+        if prefix:
+            return f"{num}{prefix} (or {num}{prefix}F)", "the farad is a capital F; f is femto"
+    if (m := re.fullmatch(rf"({_NUMBER})([pnuµμmkMG]?)(h|henry|henries)", body, re.ASCII)) is not None:
+        num, prefix, _unit = m.groups()
+        return f"{num}{prefix} (or {num}{prefix}H)", "the henry is a capital H"
+    return None
+
+
+_UNIT_KINDS = {"Ω": "Ω", "ohms": "Ω", "ohm": "Ω", "Ohm": "Ω", "Ohms": "Ω", "F": "F", "H": "H", "Hz": "Hz",
+               "V": "V", "A": "A"}
+
+
+def unit_of(text) -> str | None:
+    """The unit a value text ends in (``Ω``, ``F``, ``H``, ``Hz``, ``V``, ``A``), or None.
+
+    Parameters
+    ----------
+    text : object
+        A value as written; only text can carry a unit.
+
+    Returns
+    -------
+    str or None
+
+    Examples
+    --------
+    >>> unit_of("22nH"), unit_of("10 kΩ"), unit_of("4k7"), unit_of(1000)
+    ('H', 'Ω', None, None)
+    """
+    if not isinstance(text, str):
+        return None
+    body = " ".join(text.split())
+    stripped = _strip_unit(body)
+    if stripped == body:
+        return None
+    return _UNIT_KINDS.get(body[len(stripped):].strip())
 
 
 _FORMAT_PREFIXES = [(12, "T"), (9, "G"), (6, "M"), (3, "k"), (0, ""), (-3, "m"), (-6, "µ"), (-9, "n"), (-12, "p"), (-15, "f")]
