@@ -36,8 +36,8 @@ def _figure(data):
 
     fig = Figure(figsize=(8.0, 6.0), layout="constrained")
     mag, ph = fig.subplots(2, 1, sharex=True, height_ratios=[3, 2])
-    views = (("loaded", "loaded (as connected)", data.loaded_db, data.loaded_phase),
-             ("ideal", "ideal (stage alone)", data.ideal_db, data.ideal_phase))
+    views = tuple(v for v in (("loaded", "loaded (as connected)", data.loaded_db, data.loaded_phase),
+                              ("ideal", "ideal (stage alone)", data.ideal_db, data.ideal_phase)) if v[2] is not None)
     for key, label, db, phase in views:
         mag.semilogx(data.f, db, color=COLOURS[key], linestyle=STYLES[key], linewidth=1.8, label=label)
         ph.semilogx(data.f, phase, color=COLOURS[key], linestyle=STYLES[key], linewidth=1.8)
@@ -52,9 +52,33 @@ def _figure(data):
     for key, db in getattr(data, "floors", {}).items():
         mag.axhline(db, color=COLOURS[key], linestyle="--", linewidth=0.8,
                     label=f"{key} floor {db:.1f} dB")
-    _finish(mag, ph, data.f, _finite(data.loaded_db) + _finite(data.ideal_db),
+    _finish(mag, ph, data.f, [x for v in views for x in _finite(v[2])],
             list(getattr(data, "floors", {}).values()), data.title)
+    note = left_out_words(data)
+    if note:
+        fig.text(0.01, 0.005, note, fontsize=8, color="#555555", ha="left", va="bottom")
     return fig
+
+
+def left_out_words(data) -> str:
+    """What a sweep left out, as one sentence ("" when it drew every view).
+
+    Parameters
+    ----------
+    data : BodeData or FamilyData
+        Anything with a ``left_out`` dict (view -> names without a value).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue, analyse
+    >>> from symfilt.analysis.bode import bode_data
+    >>> a = analyse(catalogue.build("rc-lowpass", source="symbol"), sensitivity=False)
+    >>> left_out_words(bode_data(a, points=5))
+    'Loaded curve left out: no value for R_s (the ideal curve needs none).'
+    """
+    parts = [f"{view.capitalize()} curve left out: no value for {', '.join(names)}"
+             for view, names in getattr(data, "left_out", {}).items() if names]
+    return "; ".join(parts) + " (the ideal curve needs none)." if parts else ""
 
 
 def _finish(mag, ph, f, finite: list[float], floors: list[float], title: str) -> None:
