@@ -426,7 +426,9 @@ def note(circuit, output, fmin, fmax, opamp_model):
               help="Number of frequencies, logarithmically spaced.")
 @click.option("--opamp-model", type=click.Choice(list(OPAMP_MODELS)),
               help="Switch every op-amp to this model.")
-def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
+@click.option("--sweep", "sweep_text", metavar="NAME=V1,V2|LO..HI[/N]", help="Loaded curves at each value of a symbol.")
+@click.option("--versus", metavar="NAME", help="Plot cutoff and DC gain against a symbol (range from --sweep).")
+def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model, sweep_text, versus):
     """Draw the Bode plot of CIRCUIT (a file or @name), loaded and ideal overlaid."""
     from symfilt.analysis.stage import analyse
     from symfilt.analysis.bode import bode_data, csv_text
@@ -434,6 +436,8 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
 
     if not output and not csv_file:
         raise UsageError("plot", "nothing to write", "give -o FILE (.svg or .png) and/or --csv FILE")
+    if (sweep_text or versus) and (csv_file or not output):
+        raise UsageError("--csv" if csv_file else "plot", "a sweep is drawn, not written as CSV", "give -o FILE.svg only")
     if output:
         from symfilt.export.formats import plot_format
 
@@ -445,6 +449,16 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
     if opamp_model:
         c = c.with_opamp_model(opamp_model)
     a = analyse(c, sensitivity=False, progress=_progress())
+    if sweep_text or versus:
+        from symfilt.export.family_plot import sweep_plot_bytes
+        from symfilt.export.formats import plot_format
+        from symfilt.export.outfile import write_bytes_atomic
+
+        data = sweep_plot_bytes(a, sweep_text, versus, plot_format(output), _frequency(fmin, "--fmin"),
+                                _frequency(fmax, "--fmax"), points)
+        _status().clear()
+        write_bytes_atomic(output, data, protect=_inputs(circuit))
+        return _wrote(output)
     data = bode_data(a, None, _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"), points)
     _status().clear()  # before a write to `-`, stdout
     if csv_file:

@@ -149,3 +149,56 @@ def family_svg(data) -> str:
     True
     """
     return inline_svg(render_family(data, "svg"))
+
+
+def sweep_plot_bytes(a, sweep_text: str | None, versus: str | None, fmt: str, fmin=None, fmax=None,
+                     points: int = 400) -> bytes:
+    """What ``symfilt plot --sweep`` / ``--versus`` draws, as file bytes.
+
+    ``--sweep NAME=...`` alone: the family of loaded curves. ``--versus NAME``: cutoff and DC
+    gain against NAME, over the ``--sweep`` values of that name when given (a range gets
+    :data:`~symfilt.model.sweep.VERSUS_POINTS` values), else two decades either side of
+    its value.
+
+    Parameters
+    ----------
+    a : Analysis
+    sweep_text : str or None
+        ``NAME=V1,V2,...`` or ``NAME=LO..HI[/N]``.
+    versus : str or None
+        A symbol's name.
+    fmt : {"svg", "png", "pdf"}
+    fmin, fmax : float, optional
+        Frequency range of the family (Hz).
+    points : int
+        Frequencies of the family.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue, analyse
+    >>> a = analyse(catalogue.build("rc-lowpass"), sensitivity=False)
+    >>> sweep_plot_bytes(a, None, "R_L", "png", points=10)[:4]
+    b'\\x89PNG'
+    >>> sweep_plot_bytes(a, "R_s=1k", "R_L", "png")
+    Traceback (most recent call last):
+    ...
+    symfilt.errors.UsageError: --versus: R_L is not the swept symbol R_s, sweep R_L or leave out --sweep
+    """
+    from symfilt.analysis.family import family_data, versus_data
+    from symfilt.model.sweep import VERSUS_POINTS, parse_sweep
+
+    if versus is None:
+        return render_family(family_data(a, parse_sweep(sweep_text), fmin, fmax, points), fmt)
+    if sweep_text is not None:
+        sw = parse_sweep(sweep_text, max_values=None, points=VERSUS_POINTS)
+        if sw.name != versus:
+            raise UsageError("--versus", f"{versus} is not the swept symbol {sw.name}",
+                             f"sweep {versus} or leave out --sweep")
+    else:
+        value = {str(k): v for k, v in a.circuit.values().items()}.get(versus)
+        if value is None:
+            raise UsageError("--versus", f"{versus} has no value to centre the range on",
+                             f"give the range, e.g. --sweep {versus}=1k..1M")
+        sw = parse_sweep(f"{versus}={float(value) / 100:.6g}..{float(value) * 100:.6g}", where="--versus", max_values=None,
+                         points=VERSUS_POINTS)
+    return render_versus(versus_data(a, sw), fmt)
