@@ -395,7 +395,8 @@ def _frequency(text, where: str):
 @click.option("--fmax", metavar="HZ", help="Highest frequency of the Bode plot.")
 @click.option("--opamp-model", type=click.Choice(list(OPAMP_MODELS)),
               help="Switch every op-amp to this model.")
-def note(circuit, output, fmin, fmax, opamp_model):
+@click.option("--fragment", is_flag=True, help="A .tex note as the equations-only align fragment.")
+def note(circuit, output, fmin, fmax, opamp_model, fragment):
     """Write a design note for CIRCUIT (a file or @name): parts, equations, loaded vs ideal, sensitivities, Bode plot."""
     from symfilt.export.formats import note_kind
     from symfilt.export.note_write import write_note
@@ -411,7 +412,10 @@ def note(circuit, output, fmin, fmax, opamp_model):
         from symfilt.analysis.noise_numbers import noise_report
 
         noise_data = noise_report(c, spec)
+    from symfilt.model.sweep import load_note_sweep
+
     written = write_note(c, output, protect=_inputs(circuit), source=circuit, noise=noise_data,
+                         sweep=load_note_sweep(circuit), fragment=fragment,
                          fmin=_frequency(fmin, "--fmin"), fmax=_frequency(fmax, "--fmax"), progress=_progress())
     _wrote(*written)
 

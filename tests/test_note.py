@@ -336,7 +336,11 @@ def test_write_note_in_each_format(tmp_path):
     assert "](stage-bode.svg)" in (tmp_path / "stage.md").read_text()
     assert xml.dom.minidom.parse(str(tmp_path / "stage-bode.svg")).documentElement.tagName == "svg"
     assert write_note(c, tmp_path / "stage.html") == [tmp_path / "stage.html"]
-    assert write_note(c, tmp_path / "stage.tex") == [tmp_path / "stage.tex"]
+    # a .tex note is a standalone document with its Bode plot as a PDF beside it; --fragment keeps the old form
+    assert write_note(c, tmp_path / "stage.tex") == [tmp_path / "stage-bode.pdf", tmp_path / "stage.tex"]
+    assert (tmp_path / "stage-bode.pdf").read_bytes()[:5] == b"%PDF-"
+    assert write_note(c, tmp_path / "frag.tex", fragment=True) == [tmp_path / "frag.tex"]
+    assert (tmp_path / "frag.tex").read_text() == note_latex(analyse(c))
     # without values there is nothing to plot: the Markdown note says so and no SVG is written
     symbolic = catalogue.build("rc-lowpass", R1=None)
     assert write_note(symbolic, tmp_path / "symbolic.md") == [tmp_path / "symbolic.md"]
