@@ -39,6 +39,10 @@ from symfilt.analysis.noise import derive_noise
 from symfilt.analysis.noise_numbers import NoiseReport, noise_report
 
 from symfilt.version import __version__
+from symfilt.export.display import attach
+
+attach()  # notebook display (_repr_html_, _repr_latex_) on the result classes: symfilt.export.display
+del attach
 
 __all__ = [
     "Analysis",
