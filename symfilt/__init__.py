@@ -38,6 +38,7 @@ from symfilt.model.noise import NoiseSpec, OpampNoise, load_noise
 from symfilt.analysis.noise import derive_noise
 from symfilt.analysis.noise_numbers import NoiseReport, noise_report
 
+from symfilt.export.family_plot import plot_sweep
 from symfilt.version import __version__
 from symfilt.export.display import attach
 
@@ -85,6 +86,7 @@ __all__ = [
     "parse_circuit_text",
     "parse_claim",
     "parse_value",
+    "plot_sweep",
     "probe",
     "probes",
     "describe",

@@ -202,3 +202,87 @@ def sweep_plot_bytes(a, sweep_text: str | None, versus: str | None, fmt: str, fm
         sw = parse_sweep(f"{versus}={float(value) / 100:.6g}..{float(value) * 100:.6g}", where="--versus", max_values=None,
                          points=VERSUS_POINTS)
     return render_versus(versus_data(a, sw), fmt)
+
+
+class SweepPlot:
+    """A drawn sweep: its SVG text, shown by a notebook (``_repr_svg_``) and saved with :meth:`save`.
+
+    Parameters
+    ----------
+    svg : bytes
+        The SVG file.
+
+    Examples
+    --------
+    >>> SweepPlot(b"<svg></svg>")._repr_svg_()
+    '<svg></svg>'
+    """
+
+    def __init__(self, svg: bytes) -> None:
+        self.svg = svg
+
+    def _repr_svg_(self) -> str:
+        return self.svg.decode("utf-8")
+
+    def save(self, path, *, protect=()):
+        """Write the SVG file (atomically).
+
+        Parameters
+        ----------
+        path : str or Path
+            An ``.svg`` file.
+        protect : sequence of paths
+            Files never to overwrite.
+
+        Examples
+        --------
+        >>> import tempfile, pathlib
+        >>> p = pathlib.Path(tempfile.mkdtemp()) / "x.svg"
+        >>> SweepPlot(b"<svg></svg>").save(p).name
+        'x.svg'
+        """
+        from pathlib import Path
+
+        from symfilt.export.formats import plot_format
+        from symfilt.export.outfile import write_bytes_atomic
+
+        p = Path(path)
+        if plot_format(p) != "svg":
+            raise UsageError(str(p), "a sweep plot object holds SVG", "name the file .svg")
+        write_bytes_atomic(p, self.svg, protect=protect)
+        return p
+
+
+def plot_sweep(a, sweep: str | None = None, *, versus: str | None = None, fmin=None, fmax=None,
+               points: int = 400) -> SweepPlot:
+    """The family of loaded curves (``sweep``) or cutoff and DC gain against a symbol (``versus``).
+
+    The library side of ``symfilt plot --sweep`` / ``--versus``; in a notebook the result shows
+    itself as SVG.
+
+    Parameters
+    ----------
+    a : Analysis
+    sweep : str, optional
+        ``NAME=V1,V2,...`` or ``NAME=LO..HI[/N]``.
+    versus : str, optional
+        A symbol's name.
+    fmin, fmax : float, optional
+        Frequency range (Hz) of the family.
+    points : int
+        Frequencies of the family.
+
+    Returns
+    -------
+    SweepPlot
+
+    Examples
+    --------
+    >>> import symfilt
+    >>> a = symfilt.analyse(symfilt.catalogue.build("rc-lowpass"), sensitivity=False)
+    >>> plot_sweep(a, "R_L=1k,10k,100k", points=20)._repr_svg_().count("<svg")
+    1
+    """
+    if sweep is None and versus is None:
+        raise UsageError("plot_sweep", "nothing to sweep", 'give sweep="R_L=1k,10k" or versus="R_L"')
+    return SweepPlot(sweep_plot_bytes(a, sweep, versus, "svg", fmin, fmax, points))
