@@ -308,7 +308,7 @@ def test_latex_fragment_is_balanced_and_its_numbers_are_derive_numbers(analyses,
     for line in body.splitlines():
         m = re.fullmatch(r"\s*(f_\{[^}]*\}|Q|H\(0\)|20 \\log_\{10\} \\left\|H\(0\)\\right\|"
                          r"|(?:20 \\log_\{10\} )?\\left\|H\(j\\infty\)\\right\||\\mathrm\{slope\}_\{\\infty\}"
-                         r"|Z_\{out\}\(0\)|\\left\|Z_\{out\}\(j\\omega_c\)\\right\|"
+                         r"|Z_\{\\mathrm\{out\}\}\(0\)|\\left\|Z_\{\\mathrm\{out\}\}\(j\\omega_c\)\\right\|"  # upright label
                          # the response at the values: order, notch, bandwidth, delay, peaking, ripple, roots
                          r"|n|f_\{H\} - f_\{L\}|\\mathrm\{depth\}_\{n\}|\\tau_\{g\}\(0\)|\\mathrm\{peak\}"
                          r"|\\mathrm\{ripple\}|\|[pzc]_\{\d+\}\|/2\\pi|Q_\{[pzc]\d+\}) "

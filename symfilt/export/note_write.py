@@ -21,7 +21,7 @@ from symfilt.export.formats import note_kind
 from symfilt.export.latex import stage_equations
 from symfilt.export.noise_note import noise_markdown
 from symfilt.export.response_text import word_rows
-from symfilt.export.outfile import write_bytes_atomic, write_text_atomic
+from symfilt.export.outfile import output_target, write_bytes_atomic, write_text_atomic
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, kind_words, node_name,
                                  number_rows, part_rows, sensitivity_table, tie_lines, show_number, stability_row,
                                  opamp_error_lines, standard_form_tex, sweep, views)
@@ -255,13 +255,16 @@ def _figures(a: Analysis, p: Path, fmt: str, protect, fmin, fmax, points, family
 
     data, reason = sweep(a, fmin, fmax, points)
     written, names = [], {}
+    if output_target(p, protect=protect).mode != "atomic":  # a pipe or stdout has no "beside"
+        data, family, reason = None, None, "the note went to a stream, so no figure file was written beside it"
     for key, stem, render, d in (("bode", "-bode", render_bode, data), ("family", "-sweep", render_family, family)):
         if d is not None:
             target = p.with_name(p.stem + f"{stem}.{fmt}")
             write_bytes_atomic(target, render(d, fmt), protect=protect)
             written.append(target)
             names[key] = target.name
-    words = left_out_words(data) if data is not None else f"{reason}; give every part a value to draw the response."
+    words = left_out_words(data) if data is not None else \
+        (f"{reason}; give every part a value to draw the response." if reason.startswith("no value") else reason + ".")
     return written, names.get("bode"), names.get("family"), words
 
 
