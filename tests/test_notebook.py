@@ -293,3 +293,23 @@ def test_example_notebook_runs(tmp_path, monkeypatch):
     scope: dict = {}
     exec(compile(code, "loading_notebook.ipynb", "exec"), scope)
     assert (tmp_path / "fan.svg").is_file()
+
+
+# --- MathML: multi-letter subscripts upright -------------------------------------------------------
+
+def test_multi_letter_subscripts_are_upright():
+    # the trade writes labels upright and variables in italics: A_{U1}, GBW_{U1}, Z_{out} have upright
+    # subscripts (ISO 80000-2, italic for variables, roman for descriptive subscripts; common practice)
+    from symfilt.export.latex import transfer_tex
+    from symfilt.export.mathml import to_mathml
+
+    c = catalogue.build("inverting-lowpass").with_opamp_model("gain", gain="100k")
+    tex = transfer_tex(derive(c))
+    assert "A_{\\mathrm{U1}}" in tex and "R_{1}" in tex and "R_{s}" in tex
+    ml = to_mathml(tex)
+    assert '<mi mathvariant="normal">U</mi><mn>1</mn>' in ml
+    from symfilt.export.common import latex_name
+
+    assert '<mi mathvariant="normal">GBW</mi>' in to_mathml(latex_name("GBW_U1"))
+    assert '<mi mathvariant="normal">out</mi>' in to_mathml("Z_{\\mathrm{out}}")
+    assert latex_name("R_L") == "R_{L}" and latex_name("R12") == "R_{12}"  # one letter or digits: as they are
