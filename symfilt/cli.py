@@ -467,11 +467,13 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model, sweep_text,
     _status().clear()  # before a write to `-`, stdout
     if csv_file:
         write_text_atomic(csv_file, csv_text(data), protect=_inputs(circuit))
-    if output:
-        from symfilt.export.plot import plot_bode
+    from symfilt.export.plot import left_out_words, plot_bode
 
+    if output:
         plot_bode(data, output, protect=_inputs(circuit))
     _wrote(csv_file, output)
+    if data.left_out:  # the ideal curve was drawn alone: say what is missing
+        _say("note: " + left_out_words(data))
 
 
 @cli.command(short_help="A chain of stages: connected vs alone, each interface's loading, where a buffer helps.")

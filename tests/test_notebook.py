@@ -313,3 +313,40 @@ def test_multi_letter_subscripts_are_upright():
     assert '<mi mathvariant="normal">GBW</mi>' in to_mathml(latex_name("GBW_U1"))
     assert '<mi mathvariant="normal">out</mi>' in to_mathml("Z_{\\mathrm{out}}")
     assert latex_name("R_L") == "R_{L}" and latex_name("R12") == "R_{12}"  # one letter or digits: as they are
+
+
+def test_cli_plot_of_a_symbolic_source_draws_the_ideal_curve_and_says_so(run_cli, tmp_path):
+    src = tmp_path / "sym.toml"
+    src.write_text('title = "t"\n[ports]\ninput = "in"\noutput = "out"\n[source]\nresistance = "symbol"\n'
+                   '[load]\nresistance = "10k"\n[parts]\n'
+                   'R1 = {kind = "resistor", nodes = ["in", "out"], value = "4k7"}\n'
+                   'C1 = {kind = "capacitor", nodes = ["out", "0"], value = "22n"}\n')
+    code, _, err = run_cli("plot", str(src), "-o", str(tmp_path / "b.svg"), "--csv", str(tmp_path / "b.csv"))
+    assert code == 0, err
+    assert "note: Loaded curve left out: no value for R_s" in err
+    rows = (tmp_path / "b.csv").read_text().splitlines()
+    assert rows[1].split(",")[1] == "nan" and rows[1].split(",")[3] != "nan"
+
+
+def test_note_sweep_of_the_meter_example_in_html_and_markdown(tmp_path):
+    path = EXAMPLES / "meter_drive_passive.toml"
+    c, sw = load_circuit(path), load_note_sweep(path)
+    assert sw.name == "R_L" and sw.values == (500, 2000, 10000, 100000)
+    page = note_html(analyse(c), family=family_data(analyse(c, sensitivity=False), sw))
+    assert page.count('<figure class="bode') == 2 and "each value of R_L" in page
+    written = write_note(c, tmp_path / "m.md", sweep=sw)
+    assert [p.name for p in written] == ["m-bode.svg", "m-sweep.svg", "m.md"]
+    assert "](m-sweep.svg)" in (tmp_path / "m.md").read_text()
+
+
+def test_a_bad_note_table_is_refused(tmp_path):
+    from symfilt.errors import CircuitFileError
+
+    src = tmp_path / "c.toml"
+    body = '[parts]\nR1 = {kind = "resistor", nodes = ["in", "out"]}\nC1 = {kind = "capacitor", nodes = ["out", "0"]}\n'
+    src.write_text('[note]\nswep = "R_L=1k"\n' + body)
+    with pytest.raises(CircuitFileError, match=r"\[note\] swep: is not a note option"):
+        load_circuit(src)
+    src.write_text('[note]\nsweep = "R_L=1k..x"\n' + body)
+    with pytest.raises(Exception, match=r"\[note\] sweep"):
+        load_circuit(src)

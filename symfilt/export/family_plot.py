@@ -82,8 +82,7 @@ def render_family(data, fmt: str = "svg") -> bytes:
         finite += [float(x) for x in data.ideal_db if math.isfinite(float(x))]
     finish_axes(mag, ph, data.f, finite, [], data.title + (" — " if data.title else "") + f"{data.name} swept")
     if data.left_out.get("ideal"):
-        fig.text(0.01, 0.005, f"Ideal curve left out: no value for {', '.join(data.left_out['ideal'])}.",
-                 fontsize=8, color="#555555", ha="left", va="bottom")
+        ph.set_xlabel(f"frequency / Hz\nIdeal curve left out: no value for {', '.join(data.left_out['ideal'])}.")
     return _save(fig, fmt)
 
 

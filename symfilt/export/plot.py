@@ -57,8 +57,8 @@ def _figure(data):
     finish_axes(mag, ph, data.f, [x for v in views for x in _finite(v[2])],
             list(getattr(data, "floors", {}).values()), data.title)
     note = left_out_words(data)
-    if note:
-        fig.text(0.01, 0.005, note, fontsize=8, color="#555555", ha="left", va="bottom")
+    if note:  # under the frequency axis, where the layout keeps room for it
+        ph.set_xlabel(f"frequency / Hz\n{note}")
     return fig
 
 
