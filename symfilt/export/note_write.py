@@ -209,11 +209,11 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
 
     p = Path(path)
     write = _WRITERS[note_kind(p)]
-    a = circuit if isinstance(circuit, Analysis) else analyse(circuit, progress=progress)
-    if fragment and write is not _write_latex:
+    if fragment and write is not _write_latex:  # refused before the derivation
         from symfilt.errors import UsageError
 
         raise UsageError("--fragment", "only a .tex note has a fragment form", "name the note .tex or leave out --fragment")
+    a = circuit if isinstance(circuit, Analysis) else analyse(circuit, progress=progress)
     if fragment:
         write_text_atomic(p, note_latex(a), protect=protect)
         return [p]
