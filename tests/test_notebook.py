@@ -350,3 +350,13 @@ def test_a_bad_note_table_is_refused(tmp_path):
     src.write_text('[note]\nsweep = "R_L=1k..x"\n' + body)
     with pytest.raises(Exception, match=r"\[note\] sweep"):
         load_circuit(src)
+
+
+def test_a_note_sweep_of_an_unknown_symbol_names_the_file(run_cli, tmp_path):
+    src = tmp_path / "m.toml"
+    text = (EXAMPLES / "meter_drive_passive.toml").read_text().replace('sweep = "R_L=500,2k,10k,100k"',
+                                                                        'sweep = "R9=1k,2k"')
+    src.write_text(text)
+    code, _, err = run_cli("note", str(src), "-o", str(tmp_path / "m.html"))
+    assert code == 2 and err.startswith(f"error: {src} [note] sweep: 'R9' is not a symbol")
+    assert not (tmp_path / "m.html").exists()

@@ -122,10 +122,10 @@ def symbol_unit(circuit, name: str) -> str:
     return info.get("unit") or ""
 
 
-def _check_symbol(a, name: str) -> None:
+def _check_symbol(a, name: str, where: str = "--sweep") -> None:
     names = sorted(str(x) for x in a.loaded.transfer.free_symbols() if str(x) != "s")
     if name not in names:
-        raise UsageError("--sweep", f"{name!r} is not a symbol of the loaded transfer function",
+        raise UsageError(where, f"{name!r} is not a symbol of the loaded transfer function",
                          "sweep one of " + (", ".join(names) or "(none: the response has no symbols)"))
 
 
@@ -139,7 +139,7 @@ def _at(a, name: str, value) -> dict:
 
 
 def family_data(a, sweep, fmin: float | None = None, fmax: float | None = None,
-                points: int = DEFAULT_POINTS) -> FamilyData:
+                points: int = DEFAULT_POINTS, *, where: str = "--sweep") -> FamilyData:
     """The loaded Bode curve at each value of the swept symbol, with the ideal one at the circuit's values.
 
     Parameters
@@ -153,6 +153,8 @@ def family_data(a, sweep, fmin: float | None = None, fmax: float | None = None,
         side of every curve's cutoff.
     points : int
         Number of frequencies.
+    where : str
+        Where the sweep was written, for an error message (``--sweep`` or a file's ``[note] sweep``).
 
     Returns
     -------
@@ -178,11 +180,11 @@ def family_data(a, sweep, fmin: float | None = None, fmax: float | None = None,
     from symfilt.analysis.bode import default_range
     from symfilt.analysis.numeric import numeric_cutoff
 
-    _check_symbol(a, sweep.name)
+    _check_symbol(a, sweep.name, where)
     loaded, ideal = a.loaded.transfer, a.ideal.transfer
     missing = missing_values(loaded, _at(a, sweep.name, 1))
     if missing:
-        raise UsageError("--sweep", "no value for " + ", ".join(missing),
+        raise UsageError(where, "no value for " + ", ".join(missing),
                          "give every symbol but the swept one a value")
     base = dict(a.circuit.values())
     ideal_missing = missing_values(ideal, base)

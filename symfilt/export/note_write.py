@@ -221,7 +221,7 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
     if sweep is not None:
         from symfilt.analysis.family import family_data
 
-        family = family_data(a, sweep, fmin, fmax, points or 400)
+        family = family_data(a, sweep, fmin, fmax, points or 400, where=f"{source or p.name} [note] sweep")
     return write(a, p, protect=protect, source=source, fmin=fmin, fmax=fmax, points=points, error=_opamp_error(a),
                  noise=noise, family=family)
 
