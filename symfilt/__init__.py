@@ -39,7 +39,12 @@ from symfilt.model.noise import NoiseSpec, OpampNoise, load_noise
 from symfilt.analysis.noise import derive_noise
 from symfilt.analysis.noise_numbers import NoiseReport, noise_report
 
+from symfilt.export.family_plot import plot_sweep
 from symfilt.version import __version__
+from symfilt.export.display import attach
+
+attach()  # notebook display (_repr_html_, _repr_latex_) on the result classes: symfilt.export.display
+del attach
 
 __all__ = [
     "Analysis",
@@ -83,6 +88,7 @@ __all__ = [
     "parse_circuit_text",
     "parse_claim",
     "parse_value",
+    "plot_sweep",
     "probe",
     "probes",
     "describe",

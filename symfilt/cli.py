@@ -409,7 +409,8 @@ def _frequency(text, where: str):
 @click.option("--fmax", metavar="HZ", help="Highest frequency of the Bode plot.")
 @click.option("--opamp-model", type=click.Choice(list(OPAMP_MODELS)),
               help="Switch every op-amp to this model.")
-def note(circuit, output, fmin, fmax, opamp_model):
+@click.option("--fragment", is_flag=True, help="A .tex note as the equations-only align fragment.")
+def note(circuit, output, fmin, fmax, opamp_model, fragment):
     """Write a design note for CIRCUIT (a file or @name): parts, equations, loaded vs ideal, sensitivities, Bode plot."""
     from symfilt.export.formats import note_kind
     from symfilt.export.note_write import write_note
@@ -425,7 +426,10 @@ def note(circuit, output, fmin, fmax, opamp_model):
         from symfilt.analysis.noise_numbers import noise_report
 
         noise_data = noise_report(c, spec)
+    from symfilt.model.sweep import load_note_sweep
+
     written = write_note(c, output, protect=_inputs(circuit), source=circuit, noise=noise_data,
+                         sweep=load_note_sweep(circuit), fragment=fragment,
                          fmin=_frequency(fmin, "--fmin"), fmax=_frequency(fmax, "--fmax"), progress=_progress())
     _wrote(*written)
 
@@ -440,7 +444,9 @@ def note(circuit, output, fmin, fmax, opamp_model):
               help="Number of frequencies, logarithmically spaced.")
 @click.option("--opamp-model", type=click.Choice(list(OPAMP_MODELS)),
               help="Switch every op-amp to this model.")
-def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
+@click.option("--sweep", "sweep_text", metavar="NAME=V1,V2|LO..HI[/N]", help="Loaded curves at each value of a symbol.")
+@click.option("--versus", metavar="NAME", help="Plot cutoff and DC gain against a symbol (range from --sweep).")
+def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model, sweep_text, versus):
     """Draw the Bode plot of CIRCUIT (a file or @name), loaded and ideal overlaid."""
     from symfilt.analysis.stage import analyse
     from symfilt.analysis.bode import bode_data, csv_text
@@ -448,6 +454,8 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
 
     if not output and not csv_file:
         raise UsageError("plot", "nothing to write", "give -o FILE (.svg or .png) and/or --csv FILE")
+    if (sweep_text or versus) and (csv_file or not output):
+        raise UsageError("--csv" if csv_file else "plot", "a sweep is drawn, not written as CSV", "give -o FILE.svg only")
     if output:
         from symfilt.export.formats import plot_format
 
@@ -459,15 +467,27 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
     if opamp_model:
         c = c.with_opamp_model(opamp_model)
     a = analyse(c, sensitivity=False, progress=_progress())
+    if sweep_text or versus:
+        from symfilt.export.family_plot import sweep_plot_bytes
+        from symfilt.export.formats import plot_format
+        from symfilt.export.outfile import write_bytes_atomic
+
+        data = sweep_plot_bytes(a, sweep_text, versus, plot_format(output), _frequency(fmin, "--fmin"),
+                                _frequency(fmax, "--fmax"), points)
+        _status().clear()
+        write_bytes_atomic(output, data, protect=_inputs(circuit))
+        return _wrote(output)
     data = bode_data(a, None, _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"), points)
     _status().clear()  # before a write to `-`, stdout
     if csv_file:
         write_text_atomic(csv_file, csv_text(data), protect=_inputs(circuit))
-    if output:
-        from symfilt.export.plot import plot_bode
+    from symfilt.export.plot import left_out_words, plot_bode
 
+    if output:
         plot_bode(data, output, protect=_inputs(circuit))
     _wrote(csv_file, output)
+    if data.left_out:  # the ideal curve was drawn alone: say what is missing
+        _say("note: " + left_out_words(data))
 
 
 @cli.command(short_help="A chain of stages: connected vs alone, each interface's loading, where a buffer helps.")

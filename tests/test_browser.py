@@ -37,7 +37,10 @@ PROBE = """<script>
   out.textContent = JSON.stringify({
     math: box(document.querySelector("math")), svg: box(document.querySelector("svg")),
     maths: all("math"), fraction: box(document.querySelector(".formula mfrac")),
-    letter: box(document.querySelector(".formula mi"))
+    letter: box(document.querySelector(".formula mi")),
+    eqs: (function (el) { var r = el.getBoundingClientRect();
+                          return [r.left + window.scrollX, r.top + window.scrollY, r.width, r.height]; })
+         (document.querySelector("#equations .eqs"))
   });
   document.body.appendChild(out);
 })();
@@ -92,3 +95,28 @@ def test_screenshot_is_not_blank(note_file):
     pixels = img[..., :3].reshape(-1, 3)
     assert float(pixels.std()) > 0.02
     assert len({tuple(p) for p in pixels[::97]}) > 20
+
+
+#: Window of the region screenshot: tall enough to hold the Equations section of the note.
+TALL = (1200, 4000)
+
+
+def test_screenshot_of_the_equations_is_not_blank(note_file):
+    # the region where the browser laid out the first view's equations, cut from a screenshot of the
+    # note as written: MathML that failed to render would leave it the page's background colour
+    import matplotlib.image
+
+    res = run_chromium(f"--window-size={TALL[0]},{TALL[1]}", "--dump-dom", (note_file / "probe.html").as_uri())
+    m = re.search(r'<pre id="probe">(.*?)</pre>', res.stdout, flags=re.S)
+    assert m, res.stderr[-2000:]
+    boxes = json.loads(html.unescape(m.group(1)))
+    x, y, w, h = (int(round(v)) for v in boxes["eqs"])
+    assert w > 200 and h > 50 and y + h <= TALL[1], boxes["eqs"]
+    shot = note_file / "tall.png"
+    res = run_chromium(f"--screenshot={shot}", f"--window-size={TALL[0]},{TALL[1]}", (note_file / "note.html").as_uri())
+    assert shot.exists(), res.stderr[-2000:]
+    img = matplotlib.image.imread(str(shot))[..., :3]
+    region = img[y:y + h, x:x + w].reshape(-1, 3)
+    background = img[5, 5]
+    ink = (abs(region - background).sum(axis=1) > 0.3).mean()
+    assert 0.005 < ink < 0.5, ink  # glyphs: some dark pixels, not a solid block

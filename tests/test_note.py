@@ -308,7 +308,7 @@ def test_latex_fragment_is_balanced_and_its_numbers_are_derive_numbers(analyses,
     for line in body.splitlines():
         m = re.fullmatch(r"\s*(f_\{[^}]*\}|Q|H\(0\)|20 \\log_\{10\} \\left\|H\(0\)\\right\|"
                          r"|(?:20 \\log_\{10\} )?\\left\|H\(j\\infty\)\\right\||\\mathrm\{slope\}_\{\\infty\}"
-                         r"|Z_\{out\}\(0\)|\\left\|Z_\{out\}\(j\\omega_c\)\\right\|"
+                         r"|Z_\{\\mathrm\{out\}\}\(0\)|\\left\|Z_\{\\mathrm\{out\}\}\(j\\omega_c\)\\right\|"  # upright label
                          # the response at the values: order, notch, bandwidth, delay, peaking, ripple, roots
                          r"|n|f_\{H\} - f_\{L\}|\\mathrm\{depth\}_\{n\}|\\tau_\{g\}\(0\)|\\mathrm\{peak\}"
                          r"|\\mathrm\{ripple\}|\|[pzc]_\{\d+\}\|/2\\pi|Q_\{[pzc]\d+\}) "
@@ -336,7 +336,11 @@ def test_write_note_in_each_format(tmp_path):
     assert "](stage-bode.svg)" in (tmp_path / "stage.md").read_text()
     assert xml.dom.minidom.parse(str(tmp_path / "stage-bode.svg")).documentElement.tagName == "svg"
     assert write_note(c, tmp_path / "stage.html") == [tmp_path / "stage.html"]
-    assert write_note(c, tmp_path / "stage.tex") == [tmp_path / "stage.tex"]
+    # a .tex note is a standalone document with its Bode plot as a PDF beside it; --fragment keeps the old form
+    assert write_note(c, tmp_path / "stage.tex") == [tmp_path / "stage-bode.pdf", tmp_path / "stage.tex"]
+    assert (tmp_path / "stage-bode.pdf").read_bytes()[:5] == b"%PDF-"
+    assert write_note(c, tmp_path / "frag.tex", fragment=True) == [tmp_path / "frag.tex"]
+    assert (tmp_path / "frag.tex").read_text() == note_latex(analyse(c))
     # without values there is nothing to plot: the Markdown note says so and no SVG is written
     symbolic = catalogue.build("rc-lowpass", R1=None)
     assert write_note(symbolic, tmp_path / "symbolic.md") == [tmp_path / "symbolic.md"]

@@ -25,7 +25,8 @@ REPO = Path(__file__).resolve().parents[1]
 COMMANDS = {
     "plot-csv": (["plot", "@rc-lowpass", "--points", "5", "--csv"], "frequency_hz,loaded_db"),
     "catalogue-write": (["catalogue", "rc-lowpass", "--write"], 'title = "RC low-pass"'),
-    "note": (["note", "@rc-lowpass", "-o"], "design equations written by symfilt"),
+    # a .tex note is a standalone document; into a pipe it writes no figure file beside it
+    "note": (["note", "@rc-lowpass", "-o"], "\\documentclass"),
 }
 SUFFIX = {"plot-csv": ".csv", "catalogue-write": ".toml", "note": ".tex"}
 

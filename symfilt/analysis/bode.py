@@ -29,9 +29,10 @@ class BodeData:
     ----------
     f : numpy.ndarray
         Frequencies in Hz, logarithmically spaced.
-    loaded_db, ideal_db : numpy.ndarray
-        20 log10 |H(j 2 pi f)| (``-inf`` at an exact transmission zero).
-    loaded_phase, ideal_phase : numpy.ndarray
+    loaded_db, ideal_db : numpy.ndarray or None
+        20 log10 |H(j 2 pi f)| (``-inf`` at an exact transmission zero); None for a view
+        left out because a symbol has no value (see ``left_out``).
+    loaded_phase, ideal_phase : numpy.ndarray or None
         Phase in degrees, unwrapped along the sweep, starting within (-180, 180].
     marks : dict
         Frequencies to mark, label -> Hz (cutoffs, band edges, centre or notch frequency),
@@ -41,6 +42,9 @@ class BodeData:
     floors : dict
         The stop-band floor 20 log10 |H(j oo)| in dB of each view that has one
         (``numeric[view]["hf_gain_db"]`` of the analysis), ``{"ideal": -36.8}``.
+    left_out : dict
+        View -> the names without a value, for a view that is not drawn (a symbolic source
+        resistance or load leaves the loaded view out; the ideal one needs neither).
 
     Examples
     --------
@@ -58,6 +62,7 @@ class BodeData:
     marks: dict = field(default_factory=dict)
     title: str = ""
     floors: dict = field(default_factory=dict)
+    left_out: dict = field(default_factory=dict)
 
 
 def missing_values(h, values: Mapping) -> list[str]:
@@ -195,7 +200,9 @@ def bode_data(source, values: Mapping | None = None, fmin: float | None = None, 
     Raises
     ------
     UsageError
-        A symbol has no value, or the range or point count is not usable.
+        A symbol of the ideal view has no value, or the range or point count is not usable.
+        A symbol only the loaded view has (R_s, R_L, C_L) leaves that view out instead
+        (``left_out``), so the ideal curve is still drawn.
 
     Examples
     --------
@@ -210,9 +217,10 @@ def bode_data(source, values: Mapping | None = None, fmin: float | None = None, 
 
     loaded, ideal, vals, marks, title, floors = _sweep_inputs(source, values)
     missing = missing_values(loaded, vals)
-    if missing:
+    if missing and missing_values(ideal, vals):
         raise UsageError("bode", "no value for " + ", ".join(missing),
                          "give every part, source and load a value to plot the response")
+    left_out = {"loaded": missing} if missing else {}
     n = _point_count(points)
     lo, hi = _sweep_range(marks, fmin, fmax)
     if floors and fmax is None:
@@ -221,9 +229,9 @@ def bode_data(source, values: Mapping | None = None, fmin: float | None = None, 
         if flat:
             hi = max(hi, 10.0 ** (math.ceil(math.log10(max(flat))) + 1))
     f = np.geomspace(lo, hi, n)
-    l_db, l_ph = _response(loaded, vals, f)
+    l_db, l_ph = (None, None) if missing else _response(loaded, vals, f)
     i_db, i_ph = _response(ideal, vals, f)
-    return BodeData(f, l_db, l_ph, i_db, i_ph, marks, title, floors)
+    return BodeData(f, l_db, l_ph, i_db, i_ph, marks, title, floors, left_out)
 
 
 def flattening_hz(h, values: Mapping) -> float | None:
@@ -306,7 +314,8 @@ def _sweep_range(marks: dict, fmin, fmax) -> tuple[float, float]:
 def csv_text(data: BodeData) -> str:
     """The sweep as CSV: frequency_hz, loaded_db, loaded_phase_deg, ideal_db, ideal_phase_deg.
 
-    Numbers are written with 10 significant digits; an exact zero of transmission is ``-inf``.
+    Numbers are written with 10 significant digits; an exact zero of transmission is ``-inf``;
+    a view left out (:attr:`BodeData.left_out`) is ``nan`` in its columns.
 
     Parameters
     ----------
@@ -329,7 +338,8 @@ def csv_text(data: BodeData) -> str:
     """
     rows = ["frequency_hz,loaded_db,loaded_phase_deg,ideal_db,ideal_phase_deg"]
     fmt = lambda x: f"{float(x):.10g}"
+    cols = [v if v is not None else [math.nan] * len(data.f)
+            for v in (data.f, data.loaded_db, data.loaded_phase, data.ideal_db, data.ideal_phase)]
     for k in range(len(data.f)):
-        rows.append(",".join(fmt(v[k]) for v in (data.f, data.loaded_db, data.loaded_phase,
-                                                 data.ideal_db, data.ideal_phase)))
+        rows.append(",".join(fmt(v[k]) for v in cols))
     return "\n".join(rows) + "\n"

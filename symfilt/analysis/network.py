@@ -22,13 +22,14 @@ from symfilt.engine.solve import solve_unknown
 from symfilt.errors import SingularCircuitError
 from symfilt.engine.rational import Ratio, cancel_pair, poly_to_sympy, tidy_quotient
 from symfilt.engine.polybridge import to_fmpq
+from symfilt.analysis.interop import ScipyViews
 
 #: Quantities derive() knows, with the MNA mode that gives each.
 NETWORK_QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
 
 
 @dataclass(frozen=True, init=False, eq=False, repr=False)
-class NetworkFunction:
+class NetworkFunction(ScipyViews):
     """An exact ratio of polynomials in ``s``: a transfer function or an impedance.
 
     Parameters
@@ -380,8 +381,8 @@ class NetworkFunction:
 
     def coefficient_values(self, values: Mapping, *, exact: bool = False,
                            derivative: str | None = None) -> tuple[list, list] | None:
-        """Coefficients of numerator and denominator (lowest power of s first) as floats at
-        the given values; None when a symbol the coefficients use has no value.
+        """Coefficients of numerator and denominator (lowest power of s first; the scipy helpers
+        of :mod:`symfilt.analysis.interop` list the highest first) as floats at the given values; None when a symbol the coefficients use has no value.
 
         The coefficient polynomials are evaluated exactly (flint rationals) and then
         rounded, so repeated evaluation at nearby values is cheap.

@@ -16,7 +16,11 @@ GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "
          "nu", "xi", "rho", "sigma", "tau", "phi", "chi", "psi", "omega"}
 
 def latex_name(name: str) -> str:
-    """The trade's LaTeX for a symbol name: R1 -> R_{1}, R_s -> R_{s}, A_U1 -> A_{U1}.
+    """The trade's LaTeX for a symbol name: R1 -> R_{1}, R_s -> R_{s}, A_U1 -> A_{\\mathrm{U1}}.
+
+    A subscript of more than one character with a letter in it is a label, not a product of
+    variables, so it is upright (``V_{\\mathrm{in}}``, ``Z_{\\mathrm{out}}``), as the trade writes it;
+    a one-letter or all-digit subscript stays as it is.
 
     Parameters
     ----------
@@ -25,20 +29,35 @@ def latex_name(name: str) -> str:
 
     Examples
     --------
-    >>> [latex_name(n) for n in ["R1", "R_s", "A_U1", "Rb", "GBW_U1", "beta", "E"]]
-    ['R_{1}', 'R_{s}', 'A_{U1}', 'R_{b}', '\\\\mathrm{GBW}_{U1}', '\\\\beta', 'E']
+    >>> [latex_name(n) for n in ["R1", "R_s", "A_U1", "Rb", "GBW_U1", "beta", "E", "Rin", "R12"]]
+    ['R_{1}', 'R_{s}', 'A_{\\\\mathrm{U1}}', 'R_{b}', '\\\\mathrm{GBW}_{\\\\mathrm{U1}}', '\\\\beta', 'E', 'R_{\\\\mathrm{in}}', 'R_{12}']
     """
     if name in GREEK:
         return "\\" + name
     if "_" in name:
         head, tail = name.split("_", 1)
         head_tex = latex_name(head) if len(head) == 1 or head in GREEK else f"\\mathrm{{{head}}}"
-        return f"{head_tex}_{{{tail}}}"
+        return f"{head_tex}_{{{subscript_tex(tail)}}}"
     if len(name) > 1 and name[0].isalpha() and name[0].isupper():
-        return f"{name[0]}_{{{name[1:]}}}"
+        return f"{name[0]}_{{{subscript_tex(name[1:])}}}"
     if len(name) > 1:
         return f"\\mathrm{{{name}}}"
     return name
+
+
+def subscript_tex(text: str) -> str:
+    """A subscript as LaTeX: upright (``\\mathrm``) when it is a label of several characters with a letter.
+
+    Parameters
+    ----------
+    text : str
+
+    Examples
+    --------
+    >>> subscript_tex("out"), subscript_tex("L"), subscript_tex("12")
+    ('\\\\mathrm{out}', 'L', '12')
+    """
+    return f"\\mathrm{{{text}}}" if len(text) > 1 and any(c.isalpha() for c in text) else text
 
 
 def symbol_names(expr) -> dict:

@@ -63,8 +63,8 @@ def tex(expr, *, keep_parallel: bool = True) -> str:
 
 #: LaTeX left-hand side of each quantity.
 LABELS = {"transfer": "H(s)", "gain": "K", "w0": "\\omega_{0}", "q": "Q", "tau": "\\tau",
-           "cutoff": "\\omega_{c}", "dc_gain": "H(0)", "hf_gain": "H(\\infty)", "zin": "Z_{in}",
-           "zout": "Z_{out}", "bandwidth": "B"}
+           "cutoff": "\\omega_{c}", "dc_gain": "H(0)", "hf_gain": "H(\\infty)", "zin": "Z_{\\mathrm{in}}",
+           "zout": "Z_{\\mathrm{out}}", "bandwidth": "B"}
 
 
 def stage_equations(st: StageResult) -> list[tuple[str, str]]:

@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import re
+
 from html import escape
 
 from symfilt.analysis.stage import Analysis
@@ -22,10 +24,15 @@ def to_mathml(tex_text: str, display: str = "block") -> str:
     --------
     >>> to_mathml("R_{1}").startswith('<math xmlns="http://www.w3.org/1998/Math/MathML" display="block">')
     True
+    >>> '<mi mathvariant="normal">out</mi>' in to_mathml("Z_{\\\\mathrm{out}}")
+    True
     """
     import latex2mathml.converter
 
-    return latex2mathml.converter.convert(tex_text, display=display)
+    out = latex2mathml.converter.convert(tex_text, display=display)
+    # \\mathrm{out} comes back one <mi> per letter: one upright identifier reads (and spaces) as a label
+    return re.sub(r'(?:<mi mathvariant="normal">[A-Za-z0-9]</mi>){2,}',
+                  lambda m: '<mi mathvariant="normal">' + "".join(re.findall(r">([A-Za-z0-9])<", m[0])) + "</mi>", out)
 
 
 def render(a: Analysis, quantity: str | None = None) -> str:

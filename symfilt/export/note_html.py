@@ -209,16 +209,23 @@ def _html_sensitivity(a: Analysis) -> list[str]:
     return out
 
 
-def _html_plot(a: Analysis, fmin=None, fmax=None, points=None) -> list[str]:
+def _html_plot(a: Analysis, fmin=None, fmax=None, points=None, family=None) -> list[str]:
+    from symfilt.export.family_plot import family_svg
+    from symfilt.export.plot import left_out_words
     from symfilt.export.svgplot import bode_svg
 
     data, reason = sweep(a, fmin, fmax, points)
     if data is None:
         return [f"<p>No plot: {escape(reason)}; give every part a value to draw the response.</p>"]
-    curves = "loaded (solid) and ideal (dashed)" if has_fixtures(a) else "the stage"
-    return ['<figure class="bode">', bode_svg(data),
-            f"<figcaption>Magnitude and phase of H(j2πf), {curves}; dotted lines mark the cutoffs, "
-            "band edges or natural frequency.</figcaption>", "</figure>"]
+    curves = "loaded (solid) and ideal (dashed)" if has_fixtures(a) and not data.left_out else \
+        ("the ideal response" if data.left_out else "the stage")
+    out = ['<figure class="bode">', bode_svg(data),
+           f"<figcaption>Magnitude and phase of H(j2πf), {curves}; dotted lines mark the cutoffs, "
+           f"band edges or natural frequency. {escape(left_out_words(data))}</figcaption>", "</figure>"]
+    if family is not None:
+        out += ['<figure class="bode sweep">', family_svg(family), f"<figcaption>The loaded response at each "
+                f"value of {escape(family.name)}, with the ideal one (dashed).</figcaption>", "</figure>"]
+    return out
 
 
 def _html_real_opamps(e) -> list[str]:
@@ -230,7 +237,7 @@ def _html_real_opamps(e) -> list[str]:
 
 
 def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=None, opamp_error=None,
-              noise=None) -> str:
+              noise=None, family=None) -> str:
     """The design note as one standalone HTML page (MathML equations, inline SVG plot, no scripts).
 
     Parameters
@@ -247,6 +254,8 @@ def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=Non
         Real against ideal op-amps, shown as a "Real op-amps" section.
     noise : NoiseReport, optional
         Shown as a "Noise" section (:mod:`symfilt.export.noise_note`).
+    family : FamilyData, optional
+        The loaded response at each value of a swept symbol (``[note] sweep``), drawn under the Bode plot.
 
     Examples
     --------
@@ -270,7 +279,7 @@ def note_html(a: Analysis, *, source: str = "", fmin=None, fmax=None, points=Non
         *_html_real_opamps(opamp_error),
         '<section id="parts"><h2>Parts</h2>', *_html_parts(a), "</section>",
         '<section id="equations"><h2>Equations</h2>', *_html_equations(a), "</section>",
-        '<section id="bode"><h2>Frequency response</h2>', *_html_plot(a, fmin, fmax, points), "</section>",
+        '<section id="bode"><h2>Frequency response</h2>', *_html_plot(a, fmin, fmax, points, family), "</section>",
         '<section id="sensitivity"><h2>Sensitivities</h2>', *_html_sensitivity(a), "</section>",
         *noise_html(noise),
         '<section id="assumptions"><h2>Assumptions</h2><ul>',

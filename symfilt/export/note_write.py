@@ -21,7 +21,7 @@ from symfilt.export.formats import note_kind
 from symfilt.export.latex import stage_equations
 from symfilt.export.noise_note import noise_markdown
 from symfilt.export.response_text import word_rows
-from symfilt.export.outfile import write_bytes_atomic, write_text_atomic
+from symfilt.export.outfile import output_target, write_bytes_atomic, write_text_atomic
 from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations, kind_words, node_name,
                                  number_rows, part_rows, sensitivity_table, tie_lines, show_number, stability_row,
                                  opamp_error_lines, standard_form_tex, sweep, views)
@@ -166,10 +166,12 @@ def note_latex(a: Analysis) -> str:
 
 
 def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=None, points=None,
-               progress=None, noise=None) -> list[Path]:
+               progress=None, noise=None, sweep=None, fragment: bool = False) -> list[Path]:
     """Analyse a circuit and write its design note; the format follows the suffix (.html, .md, .tex).
 
-    A Markdown note gets its Bode plot as ``<name>-bode.svg`` beside it.
+    A Markdown note gets its Bode plot as ``<name>-bode.svg`` beside it, a LaTeX note (a
+    standalone document) as ``<name>-bode.pdf``; a swept family is ``<name>-sweep.svg`` / ``.pdf``
+    (inline in the HTML page).
 
     Parameters
     ----------
@@ -185,6 +187,10 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
         Receives stage names while deriving.
     noise : NoiseReport, optional
         Adds a "Noise" section to the HTML and Markdown notes.
+    sweep : Sweep, optional
+        A symbol and its values (``[note] sweep``): the note adds the family of loaded curves.
+    fragment : bool
+        LaTeX only: today's equations-only ``align`` fragment (:func:`note_latex`), no figure.
 
     Returns
     -------
@@ -203,9 +209,21 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
 
     p = Path(path)
     write = _WRITERS[note_kind(p)]
+    if fragment and write is not _write_latex:  # refused before the derivation
+        from symfilt.errors import UsageError
+
+        raise UsageError("--fragment", "only a .tex note has a fragment form", "name the note .tex or leave out --fragment")
     a = circuit if isinstance(circuit, Analysis) else analyse(circuit, progress=progress)
+    if fragment:
+        write_text_atomic(p, note_latex(a), protect=protect)
+        return [p]
+    family = None
+    if sweep is not None:
+        from symfilt.analysis.family import family_data
+
+        family = family_data(a, sweep, fmin, fmax, points or 400, where=f"{source or p.name} [note] sweep")
     return write(a, p, protect=protect, source=source, fmin=fmin, fmax=fmax, points=points, error=_opamp_error(a),
-                 noise=noise)
+                 noise=noise, family=family)
 
 
 def _opamp_error(a: Analysis):
@@ -221,35 +239,77 @@ def _opamp_error(a: Analysis):
         return None
 
 
-def _write_html(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None) -> list[Path]:
+def _write_html(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None,
+                family=None) -> list[Path]:
     from symfilt.export.note_html import note_html
 
     write_text_atomic(p, note_html(a, source=source, fmin=fmin, fmax=fmax, points=points, opamp_error=error,
-                                   noise=noise), protect=protect)
+                                   noise=noise, family=family), protect=protect)
     return [p]
 
 
-def _write_latex(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None) -> list[Path]:
-    write_text_atomic(p, note_latex(a), protect=protect)
-    return [p]
+def svg_file(data, fmt: str = "svg") -> bytes:
+    """The note's Bode plot as a standalone SVG file (:mod:`symfilt.export.svgplot`).
 
+    Parameters
+    ----------
+    data : symfilt.analysis.bode.BodeData
+    fmt : str
+        ``"svg"`` (the only format; the argument matches the other renderers).
 
-def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None) -> list[Path]:
+    Examples
+    --------
+    >>> from symfilt import catalogue, analyse
+    >>> from symfilt.analysis.bode import bode_data
+    >>> svg_file(bode_data(analyse(catalogue.build("rc-lowpass"), sensitivity=False), points=5))[:5]
+    b'<?xml'
+    """
     from symfilt.export.svgplot import bode_svg
 
-    data, _ = sweep(a, fmin, fmax, points)
-    written = []
-    plot_name = None
-    if data is not None:
-        svg_path = p.with_name(p.stem + "-bode.svg")
-        write_bytes_atomic(svg_path, ('<?xml version="1.0" encoding="utf-8"?>\n' + bode_svg(data) + "\n").encode("utf-8"),
-                           protect=protect)
-        written.append(svg_path)
-        plot_name = svg_path.name
-    write_text_atomic(p, note_markdown(a, plot_file=plot_name, source=source, opamp_error=error, noise=noise),
-                      protect=protect)
-    written.append(p)
-    return written
+    return ('<?xml version="1.0" encoding="utf-8"?>\n' + bode_svg(data) + "\n").encode("utf-8")
+
+
+def _figures(a: Analysis, p: Path, fmt: str, protect, fmin, fmax, points, family) -> tuple:
+    """Write the Bode plot and the family beside the note: (written, plot name, family name, words)."""
+    from symfilt.export.family_plot import render_family
+    from symfilt.export.plot import left_out_words, render_bode
+
+    data, reason = sweep(a, fmin, fmax, points)
+    written, names = [], {}
+    if output_target(p, protect=protect).mode != "atomic":  # a pipe or stdout has no "beside"
+        data, family, reason = None, None, "the note went to a stream, so no figure file was written beside it"
+    bode = render_bode if fmt != "svg" else svg_file  # an SVG beside a note needs no matplotlib
+    for key, stem, render, d in (("bode", "-bode", bode, data), ("family", "-sweep", render_family, family)):
+        if d is not None:
+            target = p.with_name(p.stem + f"{stem}.{fmt}")
+            write_bytes_atomic(target, render(d, fmt), protect=protect)
+            written.append(target)
+            names[key] = target.name
+    words = left_out_words(data) if data is not None else \
+        (f"{reason}; give every part a value to draw the response." if reason.startswith("no value") else reason + ".")
+    return written, names.get("bode"), names.get("family"), words
+
+
+def _write_latex(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None,
+                 family=None) -> list[Path]:
+    from symfilt.export.note_tex import note_latex_document
+
+    written, plot_name, family_name, words = _figures(a, p, "pdf", protect, fmin, fmax, points, family)
+    write_text_atomic(p, note_latex_document(a, plot_file=plot_name, family_file=family_name, plot_words=words,
+                                             source=source, opamp_error=error), protect=protect)
+    return written + [p]
+
+
+def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None,
+                    family=None) -> list[Path]:
+    written, plot_name, family_name, words = _figures(a, p, "svg", protect, fmin, fmax, points, family)
+    md = note_markdown(a, plot_file=plot_name, source=source, opamp_error=error, noise=noise)
+    extra = ([words] if plot_name and words else []) + \
+        ([f"![The loaded response at each swept value, with the ideal one]({family_name})"] if family_name else [])
+    if extra:
+        md = md.replace("\n## Sensitivities\n", "\n" + "\n\n".join(extra) + "\n\n## Sensitivities\n", 1)
+    write_text_atomic(p, md, protect=protect)
+    return written + [p]
 
 
 #: Note writer by form (the forms of :data:`symfilt.export.formats.NOTE_FORMATS`).

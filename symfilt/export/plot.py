@@ -21,6 +21,8 @@ COLOURS = {"loaded": "#a23b2a", "ideal": "#2f5d8a"}
 STYLES = {"loaded": "-", "ideal": (0, (5, 3))}
 #: Output formats by file suffix (the table of :mod:`symfilt.export.formats`).
 FORMATS = PLOT_FORMATS
+#: Formats the renderers draw: the plot files', and PDF for the LaTeX note's figure.
+RENDER_FORMATS = ("svg", "png", "pdf")
 #: Depth of the magnitude axis below its top, in dB (a notch would otherwise take the whole axis).
 DEPTH_DB = 100.0
 
@@ -33,8 +35,8 @@ def _figure(data):
     from symfilt.model.values import format_value
 
     fig, mag, ph = _new_figure()
-    views = (("loaded", "loaded (as connected)", data.loaded_db, data.loaded_phase),
-             ("ideal", "ideal (stage alone)", data.ideal_db, data.ideal_phase))
+    views = tuple(v for v in (("loaded", "loaded (as connected)", data.loaded_db, data.loaded_phase),
+                              ("ideal", "ideal (stage alone)", data.ideal_db, data.ideal_phase)) if v[2] is not None)
     for key, label, db, phase in views:
         mag.semilogx(data.f, db, color=COLOURS[key], linestyle=STYLES[key], linewidth=1.8, label=label)
         ph.semilogx(data.f, phase, color=COLOURS[key], linestyle=STYLES[key], linewidth=1.8)
@@ -49,8 +51,12 @@ def _figure(data):
     for key, db in getattr(data, "floors", {}).items():
         mag.axhline(db, color=COLOURS[key], linestyle="--", linewidth=0.8,
                     label=f"{key} floor {db:.1f} dB")
-    _finish(mag, ph, data.f, _finite(data.loaded_db) + _finite(data.ideal_db),
+    finish_axes(mag, ph, data.f, [x for v in views for x in _finite(v[2])],
             list(getattr(data, "floors", {}).values()), data.title)
+    note = left_out_words(data)
+    if note:  # under the frequency axis, with room made for the second line
+        fig.subplots_adjust(bottom=0.13)
+        ph.set_xlabel(f"frequency\n{note}")
     return fig
 
 
@@ -69,8 +75,51 @@ def _new_figure():
     return fig, mag, ph
 
 
-def _finish(mag, ph, f, finite: list[float], floors: list[float], title: str) -> None:
-    """Axes, limits (a notch does not take the whole magnitude axis), grid, legend and title."""
+def left_out_words(data) -> str:
+    """What a sweep left out, as one sentence ("" when it drew every view).
+
+    Parameters
+    ----------
+    data : BodeData or FamilyData
+        Anything with a ``left_out`` dict (view -> names without a value).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue, analyse
+    >>> from symfilt.analysis.bode import bode_data
+    >>> a = analyse(catalogue.build("rc-lowpass", source="symbol"), sensitivity=False)
+    >>> left_out_words(bode_data(a, points=5))
+    'Loaded curve left out: no value for R_s (the ideal curve needs none).'
+    """
+    parts = [f"{view.capitalize()} curve left out: no value for {', '.join(names)}"
+             for view, names in getattr(data, "left_out", {}).items() if names]
+    return "; ".join(parts) + " (the ideal curve needs none)." if parts else ""
+
+
+def finish_axes(mag, ph, f, finite: list[float], floors: list[float], title: str) -> None:
+    """Axes, limits (a notch does not take the whole magnitude axis), grid, legend and title.
+
+    Parameters
+    ----------
+    mag, ph : matplotlib.axes.Axes
+        The magnitude and phase axes.
+    f : sequence of float
+        The frequencies (the x range).
+    finite : list of float
+        Every finite magnitude drawn, in dB (for the y range).
+    floors : list of float
+        Stop-band floors drawn, in dB (kept in view).
+    title : str
+
+    Examples
+    --------
+    >>> from matplotlib.figure import Figure
+    >>> mag, ph = Figure().subplots(2, 1)
+    >>> _ = mag.semilogx([1.0, 10.0], [0.0, -20.0], label="a")
+    >>> finish_axes(mag, ph, [1.0, 10.0], [0.0, -20.0], [], "t")
+    >>> mag.get_ylabel(), [round(x) for x in mag.get_xlim()]
+    ('|H| / dB', [1, 10])
+    """
     from matplotlib.ticker import FuncFormatter, NullFormatter
 
     from symfilt.model.values import format_value
@@ -121,7 +170,7 @@ def render_curves(f, curves, title: str = "", fmt: str = "svg") -> bytes:
     """
     import matplotlib
 
-    if fmt not in FORMATS.values():
+    if fmt not in RENDER_FORMATS:
         raise UsageError("plot format", f"{fmt!r} is not a plot format", "use svg or png")
     buf = io.BytesIO()
     with matplotlib.rc_context({"svg.hashsalt": "symfilt", "svg.fonttype": "path"}):
@@ -131,10 +180,25 @@ def render_curves(f, curves, title: str = "", fmt: str = "svg") -> bytes:
             mag.semilogx(f, db, color=colour, linestyle=style, linewidth=1.8, label=label)
             ph.semilogx(f, phase, color=colour, linestyle=style, linewidth=1.8)
             finite += _finite(db)
-        _finish(mag, ph, f, finite, [], title)
-        metadata = {"Date": None} if fmt == "svg" else {"Software": None}
+        finish_axes(mag, ph, f, finite, [], title)
+        metadata = figure_metadata(fmt)
         fig.savefig(buf, format=fmt, dpi=150 if fmt == "png" else 72, metadata=metadata)
     return buf.getvalue()
+
+
+def figure_metadata(fmt: str) -> dict:
+    """Metadata that keeps a figure file the same from run to run (no date, no software line).
+
+    Parameters
+    ----------
+    fmt : {"svg", "png", "pdf"}
+
+    Examples
+    --------
+    >>> figure_metadata("pdf")
+    {'CreationDate': None, 'Producer': None}
+    """
+    return {"svg": {"Date": None}, "pdf": {"CreationDate": None, "Producer": None}}.get(fmt, {"Software": None})
 
 
 def render_bode(data, fmt: str = "svg") -> bytes:
@@ -156,12 +220,12 @@ def render_bode(data, fmt: str = "svg") -> bytes:
     """
     import matplotlib
 
-    if fmt not in FORMATS.values():
+    if fmt not in RENDER_FORMATS:
         raise UsageError("plot format", f"{fmt!r} is not a plot format", "use svg or png")
     buf = io.BytesIO()
     with matplotlib.rc_context({"svg.hashsalt": "symfilt", "svg.fonttype": "path"}):
         fig = _figure(data)
-        metadata = {"Date": None} if fmt == "svg" else {"Software": None}
+        metadata = figure_metadata(fmt)
         fig.savefig(buf, format=fmt, dpi=150 if fmt == "png" else 72, metadata=metadata)
     return buf.getvalue()
 

@@ -112,15 +112,16 @@ def bode_svg(data) -> str:
     (True, 4)
     """
     f = [float(x) for x in data.f]
-    views = (("loaded", data.loaded_db, data.loaded_phase), ("ideal", data.ideal_db, data.ideal_phase))
-    floors = dict(getattr(data, "floors", {}))
-    mags = _finite(data.loaded_db) + _finite(data.ideal_db)
+    views = tuple(v for v in (("loaded", data.loaded_db, data.loaded_phase), ("ideal", data.ideal_db, data.ideal_phase))
+                  if v[1] is not None)  # a view left out (a fixture without a value) has no curve
+    floors = {k: v for k, v in getattr(data, "floors", {}).items() if k in {view for view, _d, _p in views}}
+    mags = [x for _v, db, _p in views for x in _finite(db)]
     top = max(mags) if mags else 0.0
     bottom = max(min(mags), top - DEPTH_DB) if mags else -40.0
     if floors:
         bottom = min(bottom, min(floors.values()) - 6.0)
     pad = max(1.0, 0.05 * (top - bottom))
-    phases = _finite(data.loaded_phase) + _finite(data.ideal_phase) or [0.0]
+    phases = [x for _v, _d, ph in views for x in _finite(ph)] or [0.0]
     ppad = max(5.0, 0.05 * (max(phases) - min(phases)))
     mag = _Panel(_TOP, _MAG_H, f[0], f[-1], bottom - pad, top + pad)
     ph = _Panel(_TOP + _MAG_H + _GAP, _PH_H, f[0], f[-1], min(phases) - ppad, max(phases) + ppad)

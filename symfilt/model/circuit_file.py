@@ -20,6 +20,7 @@ from pathlib import Path
 from symfilt.model.circuit import PART_PINS, Circuit, Fixture, Parameter, Part, clip_name
 from symfilt.errors import CircuitFileError, SizeLimitError, SymfiltError
 from symfilt.model.noise import noise_from_dict
+from symfilt.model.sweep import note_sweep
 from symfilt.model.structure import MAX_PARTS
 from symfilt.model.values import format_value
 
@@ -28,7 +29,7 @@ MAX_FILE_BYTES = 256 * 1024
 #: Longest title, in characters.
 MAX_TITLE = 200
 
-_TOP_KEYS = {"title", "ports", "source", "load", "parameters", "parts", "probes", "noise"}  # [noise]: symfilt.model.noise
+_TOP_KEYS = {"title", "ports", "source", "load", "parameters", "parts", "probes", "noise", "note"}  # [noise]: symfilt.model.noise, [note]: .sweep
 _PART_KEYS = {
     "resistor": {"kind", "nodes", "value"},
     "capacitor": {"kind", "nodes", "value"},
@@ -226,7 +227,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
         key = sorted(unknown)[0]
         raise CircuitFileError(name, f"unknown section or key {clip_name(key)!r}",
                                _suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parameters], "
-                               "[parts], [probes], [noise]")
+                               "[parts], [probes], [noise], [note]")
     title = data.get("title", "")
     if not isinstance(title, str):
         raise CircuitFileError(f"{name} title", "the title must be text", "write title = \"...\"")
@@ -271,6 +272,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
     except SymfiltError as exc:
         raise type(exc)(f"{name} {_file_place(exc.where)}", exc.what, exc.fix) from None
     noise_from_dict(data, name, circuit)  # a bad [noise] table or en/in is refused by every command
+    note_sweep(data, name)  # likewise a bad [note] table
     return circuit
 
 
