@@ -505,49 +505,23 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model, sweep_text,
               help="Size budget of each elimination (terms per polynomial).")
 def chain(chain_file, fmt, tolerance, plot_file, note_file, fmin, fmax, max_terms):
     """Analyse CHAIN_FILE: stages connected output to input, each interface's loading, where a buffer helps."""
-    from pathlib import Path
-
     from symfilt.design.chain import chain_report
-    from symfilt.export.chain_report import chain_dict, chain_html, chain_markdown, chain_plot_bytes, chain_text
-    from symfilt.export.formats import plot_format
-    from symfilt.export.outfile import output_target, write_bytes_atomic, write_text_atomic
+    from symfilt.export.chain_report import chain_dict, chain_outputs, chain_text, write_chain_outputs
     from symfilt.model.chain_file import load_chain
 
     tol = _percent(tolerance, "--tolerance")
-    kind = Path(note_file).suffix.lower() if note_file else None
-    if kind not in (None, ".md", ".html"):
-        raise UsageError(note_file, "a chain note is Markdown or HTML", "name the note file with .md or .html")
-    beside = str(Path(note_file).with_suffix(".svg")) if kind == ".md" and not plot_file else None
-    plot_target = plot_file or beside
-    if plot_target:
-        plot_format(plot_target, where=plot_target)
+    targets = chain_outputs(note_file, plot_file)  # a bad note or plot name is refused before any work
     ch = load_chain(chain_file)
-    protect = [chain_file] + [str(Path(chain_file).parent / st.origin) for st in ch.stages
-                              if not st.origin.startswith("@")]
-    for target in (plot_target, note_file):  # refused before the work, not after the first file
-        if target:
-            output_target(target, protect=protect)
+    protect = [chain_file] + [str(p) for p in ch.files()]
     r = chain_report(ch, tolerance=tol, progress=_progress(), **({} if max_terms is None else {"max_terms": max_terms}))
-    plot_bytes = None
-    if plot_target:
-        plot_bytes = chain_plot_bytes(r, plot_format(plot_target), _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"))
-    if plot_target:
-        write_bytes_atomic(plot_target, plot_bytes, protect=protect)
-    if kind == ".md":
-        link = Path(plot_target).name if Path(plot_target).parent == Path(note_file).parent else str(Path(plot_target).resolve())
-        write_text_atomic(note_file, chain_markdown(r, link), protect=protect)
-    elif kind == ".html":
-        from symfilt.export.plot import inline_svg
-
-        svg = inline_svg(chain_plot_bytes(r, "svg", _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax")))
-        write_text_atomic(note_file, chain_html(r, svg), protect=protect)
+    write_chain_outputs(r, targets, protect=protect, fmin=_frequency(fmin, "--fmin"), fmax=_frequency(fmax, "--fmax"))
     if fmt == "json":
         from symfilt.export.json import dumps
 
         _emit(dumps(chain_dict(r)) + "\n")
     else:
         _emit(chain_text(r))
-    _wrote(plot_target, note_file)
+    _wrote(targets.plot, targets.note)
 
 
 def _noise_spec(source: str, circuit):

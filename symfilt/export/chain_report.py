@@ -13,6 +13,7 @@ Examples
 from __future__ import annotations
 
 import math
+from dataclasses import dataclass
 
 from symfilt.model.values import format_value
 
@@ -356,3 +357,105 @@ def chain_html(r, svg: str | None = None) -> str:
 def _md_text(text: str) -> str:
     """Text from a file shown in Markdown: no raw HTML, no table breaks."""
     return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;").replace("|", "\\|")
+
+
+@dataclass(frozen=True)
+class ChainOutputs:
+    """Where ``symfilt chain`` writes its files: the plot (or None) and the note (or None).
+
+    Parameters
+    ----------
+    plot, note : str or None
+        File names; a Markdown note without ``--plot`` gets its plot beside it (``.svg``).
+    note_kind : str or None
+        ``.md`` or ``.html``.
+
+    Examples
+    --------
+    >>> chain_outputs("chain.md", None)
+    ChainOutputs(plot='chain.svg', note='chain.md', note_kind='.md')
+    """
+
+    plot: str | None
+    note: str | None
+    note_kind: str | None
+
+
+def chain_outputs(note_file: str | None, plot_file: str | None) -> ChainOutputs:
+    """The output files of ``symfilt chain``, checked by name before any work.
+
+    Parameters
+    ----------
+    note_file, plot_file : str or None
+        ``--note`` (.html or .md) and ``--plot`` (.svg or .png).
+
+    Returns
+    -------
+    ChainOutputs
+
+    Raises
+    ------
+    UsageError
+        A note that is neither HTML nor Markdown, or a plot name without a plot suffix.
+
+    Examples
+    --------
+    >>> chain_outputs("chain.html", "c.png").plot
+    'c.png'
+    """
+    from pathlib import Path
+
+    from symfilt.errors import UsageError
+    from symfilt.export.formats import plot_format
+
+    kind = Path(note_file).suffix.lower() if note_file else None
+    if kind not in (None, ".md", ".html"):
+        raise UsageError(note_file, "a chain note is Markdown or HTML", "name the note file with .md or .html")
+    plot = plot_file or (str(Path(note_file).with_suffix(".svg")) if kind == ".md" else None)
+    if plot:
+        plot_format(plot, where=plot)
+    return ChainOutputs(plot, note_file, kind)
+
+
+def write_chain_outputs(r, targets: ChainOutputs, *, protect=(), fmin=None, fmax=None) -> None:
+    """Write the chain's plot and note (each atomically), the plot first.
+
+    Parameters
+    ----------
+    r : symfilt.design.chain.ChainResult
+    targets : ChainOutputs
+    protect : sequence of paths
+        Files never to overwrite (the chain file and its stage files).
+    fmin, fmax : float, optional
+        The plot's frequency range in Hz.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> from symfilt import catalogue
+    >>> from symfilt.design.chain import chain_report
+    >>> from symfilt.model.chain import Chain, ChainStage
+    >>> rc = ChainStage("RC", catalogue.build("rc-lowpass"))
+    >>> d = pathlib.Path(tempfile.mkdtemp())
+    >>> write_chain_outputs(chain_report(Chain((rc, rc))), chain_outputs(str(d / "c.md"), None))
+    >>> sorted(p.name for p in d.iterdir())
+    ['c.md', 'c.svg']
+    """
+    from pathlib import Path
+
+    from symfilt.export.formats import plot_format
+    from symfilt.export.outfile import output_target, write_bytes_atomic, write_text_atomic
+    from symfilt.export.plot import inline_svg
+
+    for target in (targets.plot, targets.note):  # refused before the first file is written
+        if target:
+            output_target(target, protect=protect)
+    if targets.plot:
+        write_bytes_atomic(targets.plot, chain_plot_bytes(r, plot_format(targets.plot), fmin, fmax), protect=protect)
+    if targets.note_kind == ".md":
+        plot, note = Path(targets.plot), Path(targets.note)
+        link = plot.name if plot.parent == note.parent else str(plot.resolve())
+        write_text_atomic(targets.note, chain_markdown(r, link), protect=protect)
+    elif targets.note_kind == ".html":
+        svg = inline_svg(chain_plot_bytes(r, "svg", fmin, fmax))
+        write_text_atomic(targets.note, chain_html(r, svg), protect=protect)

@@ -73,6 +73,8 @@ class Chain:
     load_resistance, load_capacitance : Fixture
         The load R_L and C_L on the last stage.
     title : str
+    base : str
+        The folder the stage files are relative to (the chain file's).
 
     Examples
     --------
@@ -87,6 +89,7 @@ class Chain:
     load_resistance: Fixture = field(default_factory=Fixture)
     load_capacitance: Fixture = field(default_factory=Fixture)
     title: str = ""
+    base: str = "."
 
     def __post_init__(self) -> None:
         if not self.stages:
@@ -102,6 +105,19 @@ class Chain:
         if total > MAX_PARTS:
             raise SizeLimitError("chain", f"the stages have {total} parts together, over the limit of {MAX_PARTS}",
                                  "study a shorter run of stages")
+
+    def files(self) -> list:
+        """The stage files the chain was read from (built-ins left out), as paths.
+
+        Examples
+        --------
+        >>> from symfilt import catalogue
+        >>> Chain((ChainStage("RC", catalogue.build("rc-lowpass"), "@rc-lowpass"),)).files()
+        []
+        """
+        from pathlib import Path
+
+        return [Path(self.base) / st.origin for st in self.stages if st.origin and not st.origin.startswith("@")]
 
     def interfaces(self) -> list[str]:
         """The interface nodes, between stage k and k+1 (``x1``, ``x2``, ...).

@@ -132,7 +132,7 @@ def parse_chain_text(text: str, name: str = "<text>", base: Path | str = ".") ->
         return Chain(built, source=Fixture.parse(tables["source"].get("resistance"), "[source] resistance"),
                      load_resistance=Fixture.parse(tables["load"].get("resistance"), "[load] resistance"),
                      load_capacitance=Fixture.parse(tables["load"].get("capacitance"), "[load] capacitance"),
-                     title=title)
+                     title=title, base=str(base))
     except SymfiltError as exc:
         raise type(exc)(f"{name} {exc.where}", exc.what, exc.fix) from None
 
