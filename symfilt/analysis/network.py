@@ -19,6 +19,7 @@ import sympy
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
+from symfilt.model.stamps import SOURCE_BRANCH, Unknown
 from symfilt.errors import SingularCircuitError
 from symfilt.engine.rational import Ratio, cancel_pair, poly_to_sympy, tidy_quotient
 
@@ -544,7 +545,7 @@ def _zin_by_voltage(circuit: Circuit, max_terms: int, progress, where: str) -> N
     Driven with an ideal unit voltage instead (R_s removed), the source current
     ``I`` flows from the node into the source, so ``Yin = -I`` and ``Zin = 1/Yin``.
     """
-    current = solve_unknown(replace(circuit, source=Fixture()), "I(source)", drive="transfer",
+    current = solve_unknown(replace(circuit, source=Fixture()), Unknown("I", SOURCE_BRANCH), drive="transfer",
                             max_terms=max_terms, progress=progress, where=where)
     if current.num == 0:
         return NetworkFunction(sympy.Integer(1), sympy.Integer(0), "zin")

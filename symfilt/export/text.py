@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import sympy
+from sympy.printing.str import StrPrinter
 
 from symfilt.analysis.numeric import tidy
 from symfilt.model.circuit import S
@@ -14,6 +15,19 @@ from symfilt.export.findings import describe
 
 LONG = 400  # one-line expressions longer than this are not printed in the text report
 _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
+
+
+class _TextPrinter(StrPrinter):
+    """sympy's str printer with infinity written ∞ (the only rewrite; names print as they are)."""
+
+    def _print_Infinity(self, expr):
+        return "∞"
+
+    def _print_NegativeInfinity(self, expr):
+        return "-∞"
+
+    def _print_ComplexInfinity(self, expr):
+        return "∞"
 
 
 def one_line(expr) -> str:
@@ -36,8 +50,9 @@ def one_line(expr) -> str:
         return "—"
     if not smaller_than(expr, 4 * LONG):
         return "(large expression; see --format json or latex)"
-    text = sympy.sstr(parallel_display(expr))
-    text = text.replace("**", "^").replace("*", "·").replace("oo", "∞")
+    # the printer spells infinity ∞; names are never rewritten (a part Rfoo stays Rfoo)
+    text = _TextPrinter().doprint(parallel_display(expr))
+    text = text.replace("**", "^").replace("*", "·")
     if len(text) > LONG:
         return f"({len(text)}-character expression; see --format json or latex)"
     return text
@@ -58,7 +73,27 @@ def pretty(expr) -> str:
     ─────
     s + 1
     """
-    return sympy.pretty(expr, use_unicode=True, wrap_line=False)
+    return _pretty_printer({"use_unicode": True, "wrap_line": False}).doprint(expr)
+
+
+def _pretty_printer(settings: dict):
+    """sympy's 2-D printer, but a name is drawn as written unless the drawing only lowers its digits.
+
+    sympy draws ``R2`` as R₂ and ``R_s`` as Rₛ, which keeps the name; it also draws ``Rhat``
+    as R̂, ``Cbar`` as C̅ and ``beta`` as β, which changes it: those are written as they are.
+    """
+    import unicodedata
+
+    from sympy.printing.pretty.pretty import PrettyPrinter
+    from sympy.printing.pretty.stringpict import prettyForm
+
+    class NamePrinter(PrettyPrinter):
+        def _print_Symbol(self, e, bold_name=False):
+            drawn = super()._print_Symbol(e, bold_name)
+            plain = unicodedata.normalize("NFKC", str(drawn)).replace("_", "")
+            return drawn if plain == e.name.replace("_", "") else prettyForm(e.name)
+
+    return NamePrinter(settings)
 
 
 def transfer_pretty(h) -> str:
@@ -78,7 +113,6 @@ def transfer_pretty(h) -> str:
     ────⋅───────────
      R₁  C₁⋅R₂⋅s + 1
     """
-    from sympy.printing.pretty.pretty import PrettyPrinter
     from sympy.printing.pretty.stringpict import prettyForm
 
     if h.infinite:
@@ -86,7 +120,7 @@ def transfer_pretty(h) -> str:
     if h.ratio is not None and h.ratio.terms > 10 * LONG:
         return f"({h.ratio.terms}-term transfer function; see --format json or latex)"
     k, n, d = transfer_parts(h)
-    pp = PrettyPrinter({"use_unicode": True, "order": "none", "wrap_line": False})
+    pp = _pretty_printer({"use_unicode": True, "order": "none", "wrap_line": False})
     if d == 1:
         ratio = n
     elif n == 1:
