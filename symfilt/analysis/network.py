@@ -22,6 +22,7 @@ from symfilt.engine.solve import solve_unknown
 from symfilt.model.stamps import SOURCE_BRANCH, Unknown
 from symfilt.errors import SingularCircuitError
 from symfilt.engine.rational import Ratio, cancel_pair, poly_to_sympy, tidy_quotient
+from symfilt.model.safe import as_sympy
 
 #: Quantities derive() knows, with the MNA mode that gives each.
 NETWORK_QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
@@ -61,8 +62,8 @@ class NetworkFunction:
             object.__setattr__(self, "ratio", ratio)
         if num is not None and den is not None:
             # the views as given; the cached properties below are then never computed
-            object.__setattr__(self, "num", sympy.sympify(num))
-            object.__setattr__(self, "den", sympy.sympify(den))
+            object.__setattr__(self, "num", as_sympy(num))
+            object.__setattr__(self, "den", as_sympy(den))
 
     @cached_property
     def ratio(self) -> Ratio:
@@ -146,7 +147,7 @@ class NetworkFunction:
         >>> NetworkFunction.from_expr((S + 1) / (2 * S**2 + 3 * S + 1)).as_expr()
         1/(2*s + 1)
         """
-        n, d = sympy.fraction(sympy.together(sympy.sympify(expr)))
+        n, d = sympy.fraction(sympy.together(as_sympy(expr)))
         return cls.from_ratio(Ratio.from_sympy(n, d), quantity)
 
     # --- views ------------------------------------------------------------------

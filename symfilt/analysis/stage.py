@@ -26,6 +26,7 @@ from symfilt.analysis.numbers import numeric_sensitivities, numeric_values, stab
 from symfilt.analysis.findings import Finding, finding
 from symfilt.analysis.numeric import magnitude_squared, numeric_cutoff, tidy as _tidy
 from symfilt.analysis.loop import check_polarity, loops, substitute_loop
+from symfilt.model.safe import as_sympy
 
 #: Numbers left out of a view whose poles are in the right half-plane.
 UNSTABLE_DROPS = ("cutoff_hz", "low_edge_hz", "high_edge_hz")
@@ -255,7 +256,7 @@ def magnitude_factors(h: NetworkFunction, at_hz) -> list:
     >>> magnitude_factors(NetworkFunction.from_expr(1 / (1 + S * R * C)), sympy.Rational(1, 2) / sympy.pi)
     [(1, 1/2), (C**2*R**2 + 1, -1/2)]
     """
-    u = (2 * sympy.pi * sympy.sympify(at_hz)) ** 2
+    u = (2 * sympy.pi * as_sympy(at_hz)) ** 2
 
     def mag2(cs):
         return sympy.expand(sum((d * u**k for k, d in enumerate(magnitude_squared(cs, sympy.Integer(0)))),
@@ -408,7 +409,7 @@ def substitute(analysis: Analysis) -> Analysis:
     def sub(e):
         if e is None:
             return None
-        e = sympy.sympify(e).xreplace(values)
+        e = as_sympy(e).xreplace(values)
         return _tidy(e) if not e.has(sympy.sqrt(2)) or sympy.count_ops(e) < 200 else e
 
     def stage(st: StageResult) -> StageResult:

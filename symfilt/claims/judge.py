@@ -21,6 +21,7 @@ from symfilt.claims.compare import SAMPLE_DIGITS, SAMPLE_POINTS, TOLERANCE, Judg
 from symfilt.claims.diagnosis import ClaimFinding, diagnose
 from symfilt.claims.parse import parse_claim
 from symfilt.errors import UsageError
+from symfilt.model.safe import as_sympy
 
 __all__ = ["SAMPLE_DIGITS", "SAMPLE_POINTS", "TOLERANCE", "ClaimFinding", "Equivalence", "equivalent",
            "parse_claim"]
@@ -147,7 +148,7 @@ def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping
             raise UsageError("values", f"the value of {name} is not a number", "pass numbers") from None
     hand = _claim_expr(claim, table)
     if ties:
-        hand = hand.xreplace({table[name]: sympy.sympify(e) for name, e in ties.items() if name in table})
+        hand = hand.xreplace({table[name]: as_sympy(e) for name, e in ties.items() if name in table})
     judge = Judge(hand.free_symbols | target.free_symbols | {table["s"]}, rng_seed)
     same, method, points = judge.same(hand, target)
     if same:
