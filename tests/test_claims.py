@@ -263,10 +263,11 @@ def test_sallen_key_order_differs():
     assert "order differs: expected 2, got 1" in diagnosis_text(result)
 
 
-def test_sallen_key_w0_and_q_are_sampled():
+def test_sallen_key_w0_and_q_with_radicals_are_decided_exactly():
+    # radicals are made new symbols first (issue 19), so no sampling is needed
     w0, q = second_order(sallen_key())
     r_w0 = equivalent("1/sqrt(R1*R2*C1*C2)", w0)
-    assert r_w0.equivalent and r_w0.method == "sampled" and r_w0.points >= 20
+    assert r_w0.equivalent and r_w0.method == "exact" and r_w0.points == 0
     tex_q = r"Q = \frac{\sqrt{R_{1} R_{2} C_{1} C_{2}}}{C_{2} \left(R_{1} + R_{2}\right)}"
     assert equivalent(tex_q, q).equivalent
 
@@ -274,7 +275,7 @@ def test_sallen_key_w0_and_q_are_sampled():
 def test_sallen_key_f0_for_w0_is_a_forgotten_two_pi():
     w0, _ = second_order(sallen_key())
     result = equivalent("1/(2*pi*sqrt(R1*R2*C1*C2))", w0)
-    assert not result.equivalent and result.method == "sampled"
+    assert not result.equivalent and result.method == "exact"
     assert has(result, "differs by a factor 2*pi: Hz vs rad/s mixed up")
 
 
@@ -284,10 +285,10 @@ def test_sallen_key_q_with_capacitors_exchanged():
     assert "agrees when C1 and C2 are exchanged" in diagnosis_text(result)
 
 
-def test_close_but_wrong_radical_is_caught_by_sampling():
+def test_close_but_wrong_radical_is_caught_exactly():
     w0, _ = second_order(sallen_key())
     result = equivalent("(1 + 10**-12)/sqrt(R1*R2*C1*C2)", w0)
-    assert not result.equivalent and result.method == "sampled"
+    assert not result.equivalent and result.method == "exact"
 
 
 # ------------------------------------------------------------------ parsing

@@ -20,6 +20,7 @@ import sympy
 from symfilt.claims.compare import SAMPLE_DIGITS, SAMPLE_POINTS, TOLERANCE, Judge, S
 from symfilt.claims.diagnosis import ClaimFinding, diagnose
 from symfilt.claims.parse import parse_claim
+from symfilt.claims.radicals import check_analytic
 from symfilt.errors import UsageError
 from symfilt.model.safe import as_sympy
 
@@ -147,6 +148,8 @@ def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping
         except (TypeError, ValueError):
             raise UsageError("values", f"the value of {name} is not a number", "pass numbers") from None
     hand = _claim_expr(claim, table)
+    check_analytic(hand, "claim")
+    check_analytic(target, "derived")
     if ties:
         hand = hand.xreplace({table[name]: as_sympy(e) for name, e in ties.items() if name in table})
     judge = Judge(hand.free_symbols | target.free_symbols | {table["s"]}, rng_seed)
