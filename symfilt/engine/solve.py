@@ -12,7 +12,7 @@ from __future__ import annotations
 from dataclasses import replace
 from typing import Callable
 
-from symfilt.engine.elimination import DEFAULT_MAX_TERMS, Ratio, solve
+from symfilt.engine.elimination import DEFAULT_MAX_MEMORY, DEFAULT_MAX_TERMS, Ratio, solve
 from symfilt.engine.mna import build_system
 from symfilt.engine.ties import substitute_ties
 from symfilt.model.stamps import DRIVES, SOURCE_BRANCH, Unknown
@@ -24,7 +24,8 @@ __all__ = ["solve_unknown"]
 
 def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = "transfer",
                   max_terms: int = DEFAULT_MAX_TERMS, progress: Callable[[str], None] | None = None,
-                  where: str | None = None, opamp: str | None = None) -> Ratio:
+                  where: str | None = None, opamp: str | None = None,
+                  max_memory: int = DEFAULT_MAX_MEMORY) -> Ratio:
     """One unknown of the circuit's MNA system as an exact, cancelled ratio.
 
     Parameters
@@ -55,6 +56,8 @@ def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = 
         Name used in error messages (default: the circuit's title, or "circuit").
     opamp : str, optional
         The op-amp whose loop ``drive="loop"`` breaks.
+    max_memory : int
+        Memory budget of the elimination in bytes (:func:`symfilt.engine.elimination.solve`).
 
     Returns
     -------
@@ -85,7 +88,7 @@ def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = 
             raise UsageError(str(unknown), "no such node or branch", "name a node of the circuit")
         system = replace(system, target=system.keys.index(key))
     where = where if where is not None else circuit.title or "circuit"
-    ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
+    ratio = solve(system, max_terms=max_terms, progress=progress, where=where, max_memory=max_memory)
     ties = circuit.ties()
     return substitute_ties(ratio, ties, where) if ties else ratio
 
