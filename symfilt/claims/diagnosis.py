@@ -35,7 +35,7 @@ _TWO_PI = 2 * sympy.pi
 #: Kinds of finding, in the order they are looked for.
 FINDING_KINDS = ("left-out", "part-limit", "sign", "two-pi", "missing-j", "exchanged", "constant-factor",
                  "no-simple-cause", "missing-symbols", "extra-symbols", "order", "limit-differs",
-                 "counterexample")
+                 "counterexample", "not-diagnosed")
 
 
 @dataclass(frozen=True)

@@ -87,6 +87,7 @@ _WORDING = {
     "limit-differs": lambda d: (f"{'DC gain (s -> 0)' if d['at_zero'] else 'high-frequency gain (s -> oo)'} "
                                 f"differs: expected {_show(d['expected'])}, got {_show(d['got'])}"),
     "counterexample": _counterexample,
+    "not-diagnosed": lambda d: f"not diagnosed: the claim or the derived result has about {d['terms']} terms",
 }
 
 
