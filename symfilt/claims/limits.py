@@ -166,7 +166,11 @@ def parallel(a: sympy.Expr, b: sympy.Expr) -> sympy.Expr:
     >>> parallel(sympy.Integer(2), sympy.Integer(2))
     1
     """
-    return a * b / (a + b)
+    # 1/(1/a + 1/b), not a*b/(a + b): each side appears once, so a chain of n parallels stays
+    # a tree of n leaves (a*b/(a + b) doubles every level: 2**n nodes for sympy to walk)
+    if a == 0 or b == 0:
+        return sympy.Integer(0)
+    return 1 / (1 / a + 1 / b)
 
 
 class _Size(tuple):
