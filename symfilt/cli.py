@@ -413,13 +413,12 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
     """Draw the Bode plot of CIRCUIT (a file or @name), loaded and ideal overlaid."""
     from symfilt.analysis.stage import analyse
     from symfilt.analysis.bode import bode_data, csv_text
-    from symfilt.export.outfile import output_target, write_text_atomic
+    from symfilt.export.formats import plot_format
+    from symfilt.export.outfile import output_target, write_files_atomic
 
     if not output and not csv_file:
         raise UsageError("plot", "nothing to write", "give -o FILE (.svg or .png) and/or --csv FILE")
     if output:
-        from symfilt.export.formats import plot_format
-
         plot_format(output, where=output)
     for target in (csv_file, output):  # refuse a bad target before the work, not after the first file
         if target:
@@ -430,12 +429,11 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model):
     a = analyse(c, sensitivity=False, progress=_progress())
     data = bode_data(a, None, _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"), points)
     _status().clear()  # before a write to `-`, stdout
-    if csv_file:
-        write_text_atomic(csv_file, csv_text(data), protect=_inputs(circuit))
-    if output:
-        from symfilt.export.plot import plot_bode
+    from symfilt.export.plot import render_bode
 
-        plot_bode(data, output, protect=_inputs(circuit))
+    files = ([(csv_file, csv_text(data).encode("utf-8"))] if csv_file else []) + (
+        [(output, render_bode(data, plot_format(output)))] if output else [])
+    write_files_atomic(files, protect=_inputs(circuit))  # both or neither
     _wrote(csv_file, output)
 
 
