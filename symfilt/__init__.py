@@ -22,6 +22,7 @@ from symfilt.analysis.findings import Finding
 from symfilt.design.report import Report, report
 from symfilt.model.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
 from symfilt.errors import (
+    ArgumentTypeError,
     CircuitError,
     CircuitFileError,
     ClaimError,
@@ -65,6 +66,7 @@ __all__ = [
     "SymfiltError",
     "UsageError",
     "ValueParseError",
+    "ArgumentTypeError",
     "analyse",
     "assert_equivalent",
     "catalogue",

@@ -20,9 +20,9 @@ from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
 from symfilt.model.stamps import SOURCE_BRANCH, Unknown
-from symfilt.errors import SingularCircuitError
+from symfilt.errors import SingularCircuitError, UsageError
 from symfilt.engine.rational import Ratio, cancel_pair, poly_to_sympy, tidy_quotient
-from symfilt.model.safe import as_sympy
+from symfilt.model.safe import as_sympy, require, require_budget
 
 #: Quantities derive() knows, with the MNA mode that gives each.
 NETWORK_QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
@@ -515,8 +515,10 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
     >>> sympy.factor(h.as_expr())
     -R2/((R1 + R_s)*(C1*R2*s + 1))
     """
+    require(circuit, Circuit, "derive circuit", "build one with Circuit.build or load_circuit")
+    require_budget(max_terms, "derive")
     if quantity not in NETWORK_QUANTITIES:
-        raise ValueError(f"quantity must be one of {list(NETWORK_QUANTITIES)}")
+        raise UsageError("derive quantity", f"unknown quantity {quantity!r}", "use one of " + ", ".join(NETWORK_QUANTITIES))
     if progress:
         progress(f"stamping {quantity}")
     where = circuit.title or "circuit"

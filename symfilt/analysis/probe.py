@@ -20,6 +20,7 @@ from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
 from symfilt.model.circuit import Circuit, S
 from symfilt.model.names import node_name
+from symfilt.model.safe import require
 from symfilt.model.stamps import Unknown
 from symfilt.model.structure import check_probes
 
@@ -142,6 +143,7 @@ def probe(circuit: Circuit, node: str, label: str | None = None, *, max_terms: i
     >>> sympy.factor(probe(c, "mid").loaded.transfer.dc_gain())
     (R2 + R_L)/(R1 + R2 + R_L)
     """
+    require(circuit, Circuit, "probe circuit", "build one with Circuit.build or load_circuit")
     node = node_name(node, "probe")
     check_probes(replace(circuit, probes=((label or node, node),)))  # a node the circuit does not have
     if progress:

@@ -26,7 +26,7 @@ from symfilt.analysis.numbers import numeric_sensitivities, numeric_values, stab
 from symfilt.analysis.findings import Finding, finding
 from symfilt.analysis.numeric import magnitude_squared, numeric_cutoff, tidy as _tidy
 from symfilt.analysis.loop import check_polarity, loops, substitute_loop
-from symfilt.model.safe import as_sympy
+from symfilt.model.safe import as_sympy, require
 
 #: Numbers left out of a view whose poles are in the right half-plane.
 UNSTABLE_DROPS = ("cutoff_hz", "low_edge_hz", "high_edge_hz")
@@ -338,6 +338,7 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     >>> sorted({r.quantity for r in a.rules}), all(r.holds for r in a.rules)
     (['gain', 'q', 'w0'], True)
     """
+    require(circuit, Circuit, "analyse circuit", "build one with Circuit.build or load_circuit")
     h = derive(circuit, "transfer", max_terms=max_terms, progress=progress)
     zin = derive(circuit, "zin", max_terms=max_terms, progress=progress)
     zout = derive(circuit, "zout", max_terms=max_terms, progress=progress)

@@ -29,6 +29,7 @@ from typing import Mapping
 from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
+from symfilt.model.safe import require
 from symfilt.model.stamps import SOURCE_NODE, Unknown
 from symfilt.errors import UsageError
 from symfilt.analysis.network import NetworkFunction
@@ -205,6 +206,7 @@ def drive(circuit: Circuit, amplitude, frequency, *, max_terms: int = DEFAULT_MA
     >>> round(d.vout_peak_v, 6), round(d.iout_peak_a * 1e3, 6), d.iout_exceeded
     (2.2, 1.2, True)
     """
+    require(circuit, Circuit, "drive circuit", "build one with Circuit.build or load_circuit")
     amp, freq = _read_signal(amplitude, frequency)
     opamps = [p for p in circuit.parts if p.kind == "opamp"]
     if not opamps:

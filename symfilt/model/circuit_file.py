@@ -20,7 +20,7 @@ import unicodedata
 from pathlib import Path
 
 from symfilt.model.circuit import PART_PINS, Circuit, Fixture, Parameter, Part, clip_name
-from symfilt.errors import CircuitFileError, SizeLimitError, SymfiltError
+from symfilt.errors import ArgumentTypeError, CircuitFileError, SizeLimitError, SymfiltError
 from symfilt.model.noise import noise_from_dict
 from symfilt.model.structure import MAX_PARTS
 from symfilt.model.values import format_value
@@ -406,6 +406,9 @@ def read_text_file(path, what: str = "circuit file") -> tuple[str, str]:
     ...
     symfilt.errors.CircuitFileError: /nonexistent/rc.toml: no such file, check the path, or use @NAME for a built-in circuit
     """
+    if not isinstance(path, (str, Path)):
+        raise ArgumentTypeError(f"{what} path", f"expected a path, got {type(path).__name__}",
+                                "pass the file's path as text or a pathlib.Path")
     p = Path(path)
     name = p.name
     try:

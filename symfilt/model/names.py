@@ -115,7 +115,7 @@ def node_name(name: object, where: str) -> str:
     return GROUND if is_ground(name) else name
 
 
-def check_symbol_name(name: object, where: str, what: str = "part") -> None:
+def check_symbol_name(name: object, where: str, what: str = "part", *, reserved: bool = True) -> None:
     """Raise for a name that cannot be a part's or parameter's symbol.
 
     Parameters
@@ -126,6 +126,9 @@ def check_symbol_name(name: object, where: str, what: str = "part") -> None:
         The place to name in an error message.
     what : str
         What is named (``part`` or ``parameter``), for the message.
+    reserved : bool
+        Also refuse symfilt's own names (``R_s``, ``A_*``, ...) and Python keywords; False
+        checks only the form (text, length, ASCII letters, digits and ``_``).
 
     Raises
     ------
@@ -148,6 +151,8 @@ def check_symbol_name(name: object, where: str, what: str = "part") -> None:
     if not _NAME.fullmatch(name):
         raise CircuitError(where, f"a {what} name must start with an ASCII letter and hold only ASCII letters, digits and _",
                            "rename it, e.g. R1 or C_in")
+    if not reserved:
+        return
     if name in RESERVED or name.startswith(("A_", "GBW_")):
         raise CircuitError(where, f"the name {name} is reserved for a symbol of symfilt",
                            f"rename the {what} (R_s, R_L, C_L, s, A_*, GBW_* are taken)")

@@ -18,9 +18,9 @@ from fractions import Fraction
 
 import sympy
 
-from symfilt.errors import UsageError
+from symfilt.errors import ArgumentTypeError, UsageError
 
-__all__ = ["as_sympy"]
+__all__ = ["as_sympy", "require", "require_budget"]
 
 
 def as_sympy(value: object, where: str = "expression") -> sympy.Basic:
@@ -62,3 +62,56 @@ def as_sympy(value: object, where: str = "expression") -> sympy.Basic:
     if isinstance(value, Fraction):
         return sympy.Rational(value.numerator, value.denominator)
     return sympy.sympify(value, strict=True)
+
+
+def require(value: object, kind: type, where: str, fix: str = "") -> None:
+    """Raise :class:`~symfilt.errors.ArgumentTypeError` unless ``value`` is a ``kind``.
+
+    Parameters
+    ----------
+    value : object
+        The argument.
+    kind : type
+        The type it must have.
+    where : str
+        The function and argument, for the message (``"analyse circuit"``).
+    fix : str
+        How to get one (default: "pass a <kind>").
+
+    Examples
+    --------
+    >>> require(3, int, "f x")
+    >>> require("x", int, "f x")
+    Traceback (most recent call last):
+    ...
+    symfilt.errors.ArgumentTypeError: f x: expected a int, got str, pass a int
+    """
+    if not isinstance(value, kind):
+        raise ArgumentTypeError(where, f"expected a {kind.__name__}, got {type(value).__name__}",
+                                fix or f"pass a {kind.__name__}")
+
+
+def require_budget(max_terms: object, where: str) -> None:
+    """Raise unless ``max_terms`` is None or a whole number of at least 10.
+
+    Parameters
+    ----------
+    max_terms : object
+    where : str
+
+    Examples
+    --------
+    >>> require_budget(None, "derive"); require_budget(1000, "derive")
+    >>> require_budget("lots", "derive")
+    Traceback (most recent call last):
+    ...
+    symfilt.errors.ArgumentTypeError: derive max_terms: expected a whole number of terms, got str, pass an int of 10 or more
+    """
+    if max_terms is None:
+        return
+    if isinstance(max_terms, bool) or not isinstance(max_terms, int):
+        raise ArgumentTypeError(f"{where} max_terms", f"expected a whole number of terms, got {type(max_terms).__name__}",
+                                "pass an int of 10 or more")
+    if max_terms < 10:
+        raise UsageError(f"{where} max_terms", f"{max_terms} is under 10", "pass an int of 10 or more")
+
