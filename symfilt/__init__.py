@@ -23,6 +23,7 @@ from symfilt.design.report import Report, report
 from symfilt.design.joint import JointResult, size_joint, sized_circuit
 from symfilt.model.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
 from symfilt.errors import (
+    ArgumentTypeError,
     CircuitError,
     CircuitFileError,
     ClaimError,
@@ -72,6 +73,7 @@ __all__ = [
     "SymfiltError",
     "UsageError",
     "ValueParseError",
+    "ArgumentTypeError",
     "analyse",
     "assert_equivalent",
     "catalogue",

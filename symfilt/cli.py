@@ -18,6 +18,7 @@ import warnings
 import click
 
 from symfilt.errors import SymfiltError, UsageError
+from symfilt.export.console import StatusLine, write_stderr, write_stdout
 from symfilt.model.opamp import OPAMP_MODELS
 
 FORMATS = ("text", "latex", "mathml", "json")  # the names of symfilt.export.formats.DERIVE_FORMATS
@@ -47,26 +48,26 @@ class _Group(click.Group):
             where = exc.ctx.command_path if getattr(exc, "ctx", None) is not None else "symfilt"
             message = " ".join(exc.format_message().split())
             hint = f"run `{where} --help`"
-            click.echo(f"error: {where}: {message.rstrip('.')}, {hint}", err=True)
+            write_stderr(f"error: {where}: {message.rstrip('.')}, {hint}")
             rv = 2
         except click.exceptions.Abort:
-            click.echo("error: symfilt: interrupted, nothing was written", err=True)
+            write_stderr("error: symfilt: interrupted, nothing was written")
             rv = 130
         except SymfiltError as exc:
-            click.echo(f"error: {exc}", err=True)
+            write_stderr(f"error: {exc}")
             rv = 2
         except KeyboardInterrupt:
-            click.echo("error: symfilt: interrupted, nothing was written", err=True)
+            write_stderr("error: symfilt: interrupted, nothing was written")
             rv = 130
         except RecursionError:
-            click.echo("error: symfilt: the input is nested too deeply, simplify it", err=True)
+            write_stderr("error: symfilt: the input is nested too deeply, simplify it")
             rv = 2
         except MemoryError:
-            click.echo("error: symfilt: out of memory, give parts values or split the circuit", err=True)
+            write_stderr("error: symfilt: out of memory, give parts values or split the circuit")
             rv = 2
         except Exception as exc:  # noqa: BLE001 - the last guard: a bug must still end in one line
-            click.echo(f"error: symfilt: internal error ({type(exc).__name__}: {exc}), "
-                       "please report it with the circuit file", err=True)
+            write_stderr(f"error: symfilt: internal error ({type(exc).__name__}: {exc}), "
+                         "please report it with the circuit file")
             rv = 2
         if standalone_mode:
             sys.exit(rv or 0)
@@ -97,8 +98,7 @@ def load(source: str):
 def _emit(text: str) -> None:
     """Write the whole result at once, so an error never leaves half an answer."""
     _status().clear()  # stdout and stderr may share a terminal line
-    sys.stdout.write(text)
-    sys.stdout.flush()
+    write_stdout(text)
 
 
 def _inputs(circuit: str) -> list:
@@ -140,33 +140,16 @@ def _stderr_is_terminal() -> bool:
         return False
 
 
-class _Status:
-    """One status line on stderr, shown only on a terminal, overwritten in place and cleared."""
-
-    def __init__(self) -> None:
-        self.shown = False
-
-    def show(self, text: str) -> None:
-        if _stderr_is_terminal():
-            click.echo(f"\r{text}\x1b[K", err=True, nl=False, color=True)
-            self.shown = True
-
-    def clear(self) -> None:
-        if self.shown:
-            click.echo("\r\x1b[K", err=True, nl=False, color=True)
-            self.shown = False
-
-
-def _status() -> _Status:
+def _status() -> StatusLine:
     """The running command's status line (one per invocation, kept in click's context)."""
     ctx = click.get_current_context(silent=True)
-    return _Status() if ctx is None else ctx.meta.setdefault(_STATUS_KEY, _Status())
+    return StatusLine(lambda: _stderr_is_terminal()) if ctx is None else ctx.meta.setdefault(_STATUS_KEY, StatusLine(lambda: _stderr_is_terminal()))
 
 
 def _say(line: str) -> None:
     """A message line on stderr (a warning, ``wrote FILE``), the status line cleared first."""
     _status().clear()
-    click.echo(line, err=True)
+    write_stderr(line)
 
 
 def _wrote(*paths) -> None:
@@ -224,7 +207,7 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
 
     render = derive_renderer(fmt)
     c = load(circuit)
-    tol = _percent(load_limit, "--load-limit") if load_limit else None
+    tol = _percent(load_limit, "--load-limit") if load_limit is not None else None
     r = report(c, load_limit=tol, opamp_model=opamp_model, substitute=substitute,
                sensitivity=quantity in (None, "sensitivity"), max_terms=max_terms,
                progress=_progress_from_first_stage(), at=at, probes=probe_nodes)
@@ -450,15 +433,14 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model, sweep_text,
     """Draw the Bode plot of CIRCUIT (a file or @name), loaded and ideal overlaid."""
     from symfilt.analysis.stage import analyse
     from symfilt.analysis.bode import bode_data, csv_text
-    from symfilt.export.outfile import output_target, write_text_atomic
+    from symfilt.export.formats import plot_format
+    from symfilt.export.outfile import output_target, write_files_atomic
 
     if not output and not csv_file:
         raise UsageError("plot", "nothing to write", "give -o FILE (.svg or .png) and/or --csv FILE")
     if (sweep_text or versus) and (csv_file or not output):
         raise UsageError("--csv" if csv_file else "plot", "a sweep is drawn, not written as CSV", "give -o FILE.svg only")
     if output:
-        from symfilt.export.formats import plot_format
-
         plot_format(output, where=output)
     for target in (csv_file, output):  # refuse a bad target before the work, not after the first file
         if target:
@@ -479,12 +461,11 @@ def plot(circuit, output, csv_file, fmin, fmax, points, opamp_model, sweep_text,
         return _wrote(output)
     data = bode_data(a, None, _frequency(fmin, "--fmin"), _frequency(fmax, "--fmax"), points)
     _status().clear()  # before a write to `-`, stdout
-    if csv_file:
-        write_text_atomic(csv_file, csv_text(data), protect=_inputs(circuit))
-    from symfilt.export.plot import left_out_words, plot_bode
+    from symfilt.export.plot import left_out_words, render_bode
 
-    if output:
-        plot_bode(data, output, protect=_inputs(circuit))
+    files = ([(csv_file, csv_text(data).encode("utf-8"))] if csv_file else []) + (
+        [(output, render_bode(data, plot_format(output)))] if output else [])
+    write_files_atomic(files, protect=_inputs(circuit))  # both or neither
     _wrote(csv_file, output)
     if data.left_out:  # the ideal curve was drawn alone: say what is missing
         _say("note: " + left_out_words(data))
@@ -568,6 +549,10 @@ def demo():
 def main(argv=None) -> int:
     """Console entry point: run the command line, return its exit code.
 
+    Run from the console (``argv`` None), the command works in a child process watched by
+    :mod:`symfilt.export.watchdog` and stopped past ``--max-memory`` (any command takes it;
+    default 1 GB) with one ``error:`` line.
+
     Parameters
     ----------
     argv : list of str, optional
@@ -579,7 +564,25 @@ def main(argv=None) -> int:
     @rc-lowpass ...
     0
     """
-    return cli.main(args=argv, prog_name="symfilt", standalone_mode=False) or 0
+    from symfilt.export import watchdog
+
+    args = sys.argv[1:] if argv is None else list(argv)
+    try:
+        limit = watchdog.memory_option(args)
+    except SymfiltError as exc:
+        write_stderr(f"error: {exc}")
+        return 2
+    args = watchdog.without_memory_option(args)
+
+    def work() -> int:
+        return cli.main(args=args, prog_name="symfilt", standalone_mode=False) or 0
+
+    return watchdog.run_watched(work, limit, _memory_message) if argv is None else work()
+
+
+def _memory_message(limit: int) -> str:
+    return (f"error: symfilt: the run outgrew the memory limit of {limit / 1e9:.3g} GB and was stopped, "
+            "derive the stages one at a time, or raise the limit with --max-memory (e.g. --max-memory 4G)")
 
 
 if __name__ == "__main__":  # pragma: no cover

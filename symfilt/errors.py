@@ -174,3 +174,19 @@ class UsageError(SymfiltError, ValueError):
     >>> isinstance(UsageError("--format", "unknown format 'pdf'"), ValueError)
     True
     """
+
+
+class ArgumentTypeError(SymfiltError, TypeError):
+    """A Python API argument of the wrong type (a text where a Circuit belongs, None for the parts).
+
+    Parameters
+    ----------
+    where, what, fix : str
+        As for :class:`SymfiltError`.
+
+    Examples
+    --------
+    >>> isinstance(ArgumentTypeError("analyse circuit", "expected a Circuit, got str"), TypeError)
+    True
+    """
+

@@ -172,9 +172,21 @@ def test_file_size_limit(tmp_path):
 
 
 @pytest.mark.skipif(not os.path.exists("/dev/zero"), reason="needs /dev/zero")
-def test_an_endless_file_is_cut_at_the_limit():
-    with pytest.raises(SizeLimitError):
+def test_an_endless_device_is_refused_before_reading():
+    # was: cut at the size limit; since issue 19 no device or pipe is read at all
+    with pytest.raises(CircuitFileError, match="is a character device"):
         load_circuit("/dev/zero")
+
+
+@pytest.mark.skipif(not hasattr(os, "mkfifo"), reason="needs named pipes")
+def test_a_named_pipe_is_refused_before_it_is_opened(tmp_path):
+    fifo = tmp_path / "stage.toml"
+    os.mkfifo(fifo)  # opening it for reading would block until a writer comes: never here
+    with pytest.raises(CircuitFileError, match="named pipe"):
+        load_circuit(fifo)
+    from symfilt.model.chain_file import load_chain
+    with pytest.raises(CircuitFileError, match="named pipe"):
+        load_chain(fifo)
 
 
 def test_unreadable_inputs(tmp_path):

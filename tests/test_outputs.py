@@ -227,20 +227,25 @@ def test_warnings_are_dropped_and_no_wrote_line_before_the_error(monkeypatch, tm
         warnings.warn("overflow encountered in exp", RuntimeWarning)
         return real_bode_data(*args, **kwargs)
 
-    def failing_plot(data, path, *, protect=()):
-        warnings.warn("invalid value encountered in divide", RuntimeWarning)
-        raise OutputError(str(path), "cannot be written (disc full)", "check the folder has space")
+    import symfilt.export.outfile as outfile_module
 
-    import symfilt.export.plot as plot_module
+    real_write = outfile_module._write_replacing
+
+    def failing_write(p, data, *, shown):  # the plot's write fails (since issue 19 the plot is rendered first)
+        if str(p).endswith(".svg"):
+            warnings.warn("invalid value encountered in divide", RuntimeWarning)
+            raise OutputError(shown, "cannot be written (disc full)", "check the folder has space")
+        return real_write(p, data, shown=shown)
 
     monkeypatch.setattr(bode, "bode_data", noisy)
-    monkeypatch.setattr(plot_module, "plot_bode", failing_plot)
+    monkeypatch.setattr(outfile_module, "_write_replacing", failing_write)
     csv, svg = tmp_path / "sweep.csv", tmp_path / "plot.svg"
     result = CliRunner().invoke(cli_module.cli, ["plot", "@rc-lowpass", "--points", "5",
                                                  "--csv", str(csv), "-o", str(svg)])
     assert result.exit_code == 2
     assert result.stderr.splitlines() == [f"error: {svg}: cannot be written (disc full), check the folder has space"]
     assert "RuntimeWarning" not in result.stderr and "wrote" not in result.stderr
+    assert not csv.exists()  # all outputs or none: the CSV written first was taken back
 
 
 def test_wrote_lines_come_after_every_output(tmp_path):

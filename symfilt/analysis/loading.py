@@ -22,6 +22,7 @@ from symfilt.analysis.findings import Finding, finding
 from symfilt.analysis.numeric import finite_float, numeric_cutoff
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, S
 from symfilt.analysis.network import NetworkFunction
+from symfilt.model.safe import as_sympy
 
 
 @dataclass(frozen=True)
@@ -84,7 +85,7 @@ def _cutoff_function(h: NetworkFunction, x: sympy.Symbol, others: Mapping) -> Ca
     """
     cut = cutoff(standard_form(h)).value
     if cut is not None:
-        args = sorted(sympy.sympify(cut).free_symbols, key=lambda z: z.name)
+        args = sorted(as_sympy(cut).free_symbols, key=lambda z: z.name)
         f = sympy.lambdify(args, cut, modules="math", dummify=True)
         fixed = {k: float(v) for k, v in others.items()}
 

@@ -33,6 +33,7 @@ from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
 from symfilt.errors import CircuitError
 from symfilt.model.circuit import Circuit, Part, S, part_symbol
+from symfilt.model.safe import as_sympy
 
 __all__ = ["Loop", "LoopView", "open_loop_gain", "loops", "margins", "feedback_sign", "check_polarity",
            "substitute_loop", "MARGIN_WARNING_DEG"]
@@ -239,7 +240,7 @@ def feedback_sign(beta: NetworkFunction, values: Mapping) -> str:
     k_den = next((k for k, c in enumerate(dcs) if c != 0), None)
     if k_num is None or k_den is None or not 0 <= k_num - k_den <= 1:
         return "undecided"
-    c = sympy.sympify(ncs[k_num] / dcs[k_den]).xreplace(dict(values))
+    c = as_sympy(ncs[k_num] / dcs[k_den]).xreplace(dict(values))
     if c.is_negative:
         return "positive"
     if c.is_positive:

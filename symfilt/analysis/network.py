@@ -19,10 +19,12 @@ import sympy
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit, Fixture, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
-from symfilt.errors import SingularCircuitError
+from symfilt.model.stamps import SOURCE_BRANCH, Unknown
+from symfilt.errors import SingularCircuitError, UsageError
 from symfilt.engine.rational import Ratio, cancel_pair, poly_to_sympy, tidy_quotient
 from symfilt.engine.polybridge import to_fmpq
 from symfilt.analysis.interop import ScipyViews
+from symfilt.model.safe import as_sympy, require, require_budget
 
 #: Quantities derive() knows, with the MNA mode that gives each.
 NETWORK_QUANTITIES = {"transfer": "transfer", "zin": "zin", "zout": "zout"}
@@ -62,8 +64,8 @@ class NetworkFunction(ScipyViews):
             object.__setattr__(self, "ratio", ratio)
         if num is not None and den is not None:
             # the views as given; the cached properties below are then never computed
-            object.__setattr__(self, "num", sympy.sympify(num))
-            object.__setattr__(self, "den", sympy.sympify(den))
+            object.__setattr__(self, "num", as_sympy(num))
+            object.__setattr__(self, "den", as_sympy(den))
 
     @cached_property
     def ratio(self) -> Ratio:
@@ -147,7 +149,7 @@ class NetworkFunction(ScipyViews):
         >>> NetworkFunction.from_expr((S + 1) / (2 * S**2 + 3 * S + 1)).as_expr()
         1/(2*s + 1)
         """
-        n, d = sympy.fraction(sympy.together(sympy.sympify(expr)))
+        n, d = sympy.fraction(sympy.together(as_sympy(expr)))
         return cls.from_ratio(Ratio.from_sympy(n, d), quantity)
 
     # --- views ------------------------------------------------------------------
@@ -526,8 +528,10 @@ def derive(circuit: Circuit, quantity: str = "transfer", *, max_terms: int = DEF
     >>> sympy.factor(h.as_expr())
     -R2/((R1 + R_s)*(C1*R2*s + 1))
     """
+    require(circuit, Circuit, "derive circuit", "build one with Circuit.build or load_circuit")
+    require_budget(max_terms, "derive")
     if quantity not in NETWORK_QUANTITIES:
-        raise ValueError(f"quantity must be one of {list(NETWORK_QUANTITIES)}")
+        raise UsageError("derive quantity", f"unknown quantity {quantity!r}", "use one of " + ", ".join(NETWORK_QUANTITIES))
     if progress:
         progress(f"stamping {quantity}")
     where = circuit.title or "circuit"
@@ -557,7 +561,7 @@ def _zin_by_voltage(circuit: Circuit, max_terms: int, progress, where: str) -> N
     Driven with an ideal unit voltage instead (R_s removed), the source current
     ``I`` flows from the node into the source, so ``Yin = -I`` and ``Zin = 1/Yin``.
     """
-    current = solve_unknown(replace(circuit, source=Fixture()), "I(source)", drive="transfer",
+    current = solve_unknown(replace(circuit, source=Fixture()), Unknown("I", SOURCE_BRANCH), drive="transfer",
                             max_terms=max_terms, progress=progress, where=where)
     if current.num == 0:
         return NetworkFunction(sympy.Integer(1), sympy.Integer(0), "zin")

@@ -32,6 +32,7 @@ from symfilt.engine.solve import solve_unknown
 from symfilt.model.circuit import GROUND, LOAD_R, SOURCE_R, Circuit, Part, part_symbol
 from symfilt.model.fixture import Fixture
 from symfilt.model.noise import NoiseSpec
+from symfilt.model.stamps import Unknown
 
 #: The internal node that drives every injected source (NUL is refused in user node names).
 DRIVE_NODE = "\x00noise"
@@ -249,7 +250,7 @@ def noise_transfer(circuit: Circuit, source: NoiseSource, *, max_terms: int = DE
     """
     inj = injected_circuit(circuit, source)
     gain = inj.parts[-1].name
-    ratio = solve_unknown(inj, circuit.output, drive="transfer", max_terms=max_terms,
+    ratio = solve_unknown(inj, Unknown("V", circuit.output), drive="transfer", max_terms=max_terms,
                           where=circuit.title or "circuit")
     ratio = ratio.subs({gain: 1})
     return NetworkFunction.from_ratio(ratio)

@@ -526,6 +526,10 @@ def noise_report(circuit, spec=None, *, at=DEFAULT_AT, max_terms: int | None = N
     """
     from symfilt.analysis.noise import derive_noise
     from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+    from symfilt.model.circuit import Circuit
+    from symfilt.model.safe import require, require_budget
 
+    require(circuit, Circuit, "noise_report circuit", "build one with Circuit.build or load_circuit")
+    require_budget(max_terms, "noise_report")
     n = derive_noise(circuit, spec, max_terms=max_terms or DEFAULT_MAX_TERMS)
     return noise_numbers(n, at)

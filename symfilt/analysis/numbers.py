@@ -12,6 +12,7 @@ from symfilt.model.circuit import S
 from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.numeric import band_edges, cutoff_from_coefficients, finite_float, passband_gain, trim
 from symfilt.analysis.response import cutoff_sensitivities, pole_values, response_numbers
+from symfilt.model.safe import as_sympy
 
 if TYPE_CHECKING:
     from symfilt.analysis.stage import StageResult
@@ -47,10 +48,10 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
     out: dict[str, float | None] = {}
 
     def known(e) -> bool:
-        return e is not None and not (sympy.sympify(e).free_symbols - set(values))
+        return e is not None and not (as_sympy(e).free_symbols - set(values))
 
     def num(e):
-        return finite_float(sympy.sympify(e).xreplace(dict(values)))
+        return finite_float(as_sympy(e).xreplace(dict(values)))
 
     response = response_numbers(stage.transfer, values) if stage.transfer.order() >= 1 else {}
     out.update(_cutoff_number(stage, values, response))
@@ -97,9 +98,9 @@ def _cutoff_number(stage: StageResult, values: Mapping, response: Mapping | None
     its pass-band gain.
     """
     cut = stage.cutoff
-    closed = cut.value is not None and not (sympy.sympify(cut.value).free_symbols - set(values))
+    closed = cut.value is not None and not (as_sympy(cut.value).free_symbols - set(values))
     if closed:
-        w = finite_float(sympy.sympify(cut.value).xreplace(dict(values)))
+        w = finite_float(as_sympy(cut.value).xreplace(dict(values)))
         if w is not None or stage.form.order != 1:
             return {"cutoff_hz": None if w is None else w / (2 * math.pi)}
     elif cut.edges is not None or stage.form.kind in NO_CUTOFF_KINDS or stage.form.order < 1:
@@ -310,7 +311,7 @@ def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
             continue
         row = {}
         for name, e in table.items():
-            e = sympy.sympify(e)
+            e = as_sympy(e)
             if e.free_symbols - set(values):
                 row = None
                 break

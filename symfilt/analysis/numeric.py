@@ -18,6 +18,7 @@ import math
 from typing import Callable, Mapping, Sequence
 
 import sympy
+from symfilt.model.safe import as_sympy
 
 #: Relative imaginary part below which a complex value counts as real.
 IMAG_TOL = 1e-12
@@ -466,7 +467,7 @@ def finite_float(e, values: Mapping | None = None) -> float | None:
     if e is None:
         return None
     if values is not None:
-        e = sympy.sympify(e).xreplace(dict(values))
+        e = as_sympy(e).xreplace(dict(values))
     try:
         v = complex(sympy.N(e, 30))
     except (TypeError, ValueError, ZeroDivisionError):

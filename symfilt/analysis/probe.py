@@ -20,6 +20,8 @@ from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
 from symfilt.model.circuit import Circuit, S
 from symfilt.model.names import node_name
+from symfilt.model.safe import require
+from symfilt.model.stamps import Unknown
 from symfilt.model.structure import check_probes
 
 
@@ -141,11 +143,12 @@ def probe(circuit: Circuit, node: str, label: str | None = None, *, max_terms: i
     >>> sympy.factor(probe(c, "mid").loaded.transfer.dc_gain())
     (R2 + R_L)/(R1 + R2 + R_L)
     """
+    require(circuit, Circuit, "probe circuit", "build one with Circuit.build or load_circuit")
     node = node_name(node, "probe")
     check_probes(replace(circuit, probes=((label or node, node),)))  # a node the circuit does not have
     if progress:
         progress(f"probe {node}")
-    ratio = solve_unknown(circuit, f"V({node})", drive="transfer", max_terms=max_terms, progress=progress,
+    ratio = solve_unknown(circuit, Unknown("V", node), drive="transfer", max_terms=max_terms, progress=progress,
                           where=f"probe {label or node}")
     h = NetworkFunction.from_ratio(ratio, "transfer")
     values = circuit.values()

@@ -20,6 +20,7 @@ from dataclasses import dataclass
 from typing import Mapping
 
 import sympy
+from symfilt.model.safe import as_sympy
 
 _SMALL = 120
 
@@ -79,7 +80,7 @@ def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
     from symfilt.engine.polybridge import PolyContext
     from symfilt.engine.rational import cancel_pair
 
-    factors = [(sympy.sympify(p), sympy.Rational(e)) for p, e in factors if p != 1]
+    factors = [(as_sympy(p), sympy.Rational(e)) for p, e in factors if p != 1]
     bridge = PolyContext([p for p, _e in factors] + list(symbols))
     polys = [(bridge.to_flint(p), flint.fmpq(int(e.p), int(e.q)), p.free_symbols) for p, e in factors]
     out = {}

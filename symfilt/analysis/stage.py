@@ -27,6 +27,7 @@ from symfilt.analysis.numbers import numeric_sensitivities, numeric_values, stab
 from symfilt.analysis.findings import Finding, finding
 from symfilt.analysis.numeric import magnitude_squared, numeric_cutoff, tidy as _tidy
 from symfilt.analysis.loop import check_polarity, loops, substitute_loop
+from symfilt.model.safe import as_sympy, require
 
 #: Numbers left out of a view whose poles are in the right half-plane.
 UNSTABLE_DROPS = ("cutoff_hz", "low_edge_hz", "high_edge_hz", "bandwidth_hz", "notch_hz", "notch_depth_db", "notch_null",
@@ -257,7 +258,7 @@ def magnitude_factors(h: NetworkFunction, at_hz) -> list:
     >>> magnitude_factors(NetworkFunction.from_expr(1 / (1 + S * R * C)), sympy.Rational(1, 2) / sympy.pi)
     [(1, 1/2), (C**2*R**2 + 1, -1/2)]
     """
-    u = (2 * sympy.pi * sympy.sympify(at_hz)) ** 2
+    u = (2 * sympy.pi * as_sympy(at_hz)) ** 2
 
     def mag2(cs):
         return sympy.expand(sum((d * u**k for k, d in enumerate(magnitude_squared(cs, sympy.Integer(0)))),
@@ -339,6 +340,7 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     >>> sorted({r.quantity for r in a.rules}), all(r.holds for r in a.rules)
     (['gain', 'q', 'w0'], True)
     """
+    require(circuit, Circuit, "analyse circuit", "build one with Circuit.build or load_circuit")
     h = derive(circuit, "transfer", max_terms=max_terms, progress=progress)
     if h.ratio.num == 0:  # the output is not reached from the input: most likely a misspelt node
         raise unreached_error(circuit)
@@ -412,7 +414,7 @@ def substitute(analysis: Analysis) -> Analysis:
     def sub(e):
         if e is None:
             return None
-        e = sympy.sympify(e).xreplace(values)
+        e = as_sympy(e).xreplace(values)
         return _tidy(e) if not e.has(sympy.sqrt(2)) or sympy.count_ops(e) < 200 else e
 
     def stage(st: StageResult) -> StageResult:

@@ -1,9 +1,12 @@
 """Decide whether two expressions are equal: exactly on python-flint, else by sampling.
 
 Rational functions (``I`` and ``pi`` allowed) are brought to python-flint
-polynomials and cancelled exactly; anything with radicals or functions is
-compared at ``SAMPLE_POINTS`` random points at ``SAMPLE_DIGITS`` digits with
-mpmath, within a relative ``TOLERANCE``.
+polynomials and cancelled exactly; radicals are first made new symbols
+(:mod:`symfilt.claims.radicals`), so a claim with roots is decided exactly too.
+Anything else (``exp``, ``log``, trigonometric functions) is compared at
+``SAMPLE_POINTS`` random points at ``SAMPLE_DIGITS`` digits with mpmath: a difference
+over the relative ``TOLERANCE`` proves the claim different; agreement proves nothing,
+and the judge says it cannot decide (a ClaimError) rather than "equal".
 
 Examples
 --------
@@ -22,6 +25,7 @@ import flint
 import mpmath
 import sympy
 
+from symfilt.claims.radicals import has_radicals, reduce_relations, without_radicals
 from symfilt.errors import ClaimError, UsageError
 
 SAMPLE_POINTS = 24  # points of the sampled test
@@ -36,7 +40,8 @@ class Judge:
 
     Exact on python-flint polynomials when both sides are rational functions
     (``I`` reduced by I**2 = -1, ``pi`` kept as an indeterminate, which is exact
-    since pi is transcendental); otherwise sampled with mpmath.
+    since pi is transcendental), also once radicals are new symbols; otherwise
+    sampled with mpmath, which can only show a difference.
 
     Parameters
     ----------
@@ -52,6 +57,8 @@ class Judge:
     >>> Judge({R1, R2}, 0).same(R1 * R2 / (R1 + R2), 1 / (1 / R1 + 1 / R2))
     (True, 'exact', 0)
     >>> Judge({R1}, 0).same(sympy.sqrt(R1) + 1, R1)[:2]
+    (False, 'exact')
+    >>> Judge({R1}, 0).same(sympy.exp(R1), R1)[:2]
     (False, 'sampled')
     """
 
@@ -262,8 +269,27 @@ class Judge:
         pa, pb = self.rational(a), self.rational(b)
         if pa is not None and pb is not None:
             return self.reduced(pa[0] * pb[1] - pb[0] * pa[1]).is_zero(), "exact", 0
+        decided = self._exact_with_radicals(a, b)
+        if decided is not None:
+            return decided, "exact", 0
         equal, used = self._sampled(a, b)
-        return equal, "sampled", used
+        if not equal:
+            return False, "sampled", used
+        raise ClaimError("claim", f"the claim agrees with the derived quantity at {used} sample points, but it holds "
+                         f"{_undecidable(a, b)}, and agreement at sample points is no proof of equality",
+                         "write it as a rational function of the symbols (square roots are decided exactly)")
+
+    def _exact_with_radicals(self, a: sympy.Expr, b: sympy.Expr) -> bool | None:
+        """Equality decided after the radicals are new symbols (:mod:`symfilt.claims.radicals`), or None."""
+        if not (has_radicals(a) or has_radicals(b)):
+            return None
+        a2, b2, relations = without_radicals(a, b)
+        sub = Judge(a2.free_symbols | b2.free_symbols | {self.s}, self.seed)
+        pa, pb = sub.pair(a2), sub.pair(b2)
+        if pa is None or pb is None:
+            return None
+        diff = sub.reduced(pa[0] * pb[1] - pb[0] * pa[1])
+        return diff.is_zero() if not relations else reduce_relations(diff, sub, relations)
 
     def equal(self, a: sympy.Expr | None, b: sympy.Expr | None) -> bool:
         """Whether a equals b; None is equal to nothing, zoo only to zoo.
@@ -281,7 +307,10 @@ class Judge:
         """
         if a is None or b is None or a.has(sympy.zoo) or b.has(sympy.zoo):
             return a is not None and b is not None and a.has(sympy.zoo) and b.has(sympy.zoo)
-        return self.same(a, b)[0]
+        try:
+            return self.same(a, b)[0]
+        except ClaimError:  # undecided by sampling: not shown to be equal
+            return False
 
     # facts ------------------------------------------------------------------------
     def _lowest(self, expr: sympy.Expr):
@@ -332,6 +361,12 @@ class Judge:
         if q is None or max(q[0].degrees()[self.symbols.index(self.s)], q[1].degrees()[self.symbols.index(self.s)]):
             return None
         return self.to_sympy(q[0]) / self.to_sympy(q[1])
+
+
+def _undecidable(a: sympy.Expr, b: sympy.Expr) -> str:
+    """What keeps the exact test out: the functions, else the roots of a base linear in no symbol."""
+    names = sorted({type(f).__name__ for e in (a, b) for f in e.atoms(sympy.Function)})
+    return ", ".join(names) if names else "a root of an expression that no change of variable makes rational"
 
 
 _MP_FUNCTIONS = {"exp": "exp", "log": "log", "sin": "sin", "cos": "cos", "tan": "tan", "atan": "atan",

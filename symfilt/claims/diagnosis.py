@@ -36,7 +36,7 @@ from symfilt.claims.slips import coefficient_hint, find_slips, limit_of
 #: Kinds of finding, in the order they are looked for.
 FINDING_KINDS = ("left-out", "part-limit", "sign", "two-pi", "missing-j", "exchanged", "renamed",
                  "constant-factor", "no-simple-cause", "missing-symbols", "extra-symbols", "order", "limit-differs",
-                 "coefficient", "equal-at-values", "counterexample")
+                 "coefficient", "equal-at-values", "counterexample", "not-diagnosed")
 
 
 @dataclass(frozen=True)

@@ -19,8 +19,11 @@ import sympy
 
 from symfilt.claims.compare import SAMPLE_DIGITS, SAMPLE_POINTS, TOLERANCE, Judge, S
 from symfilt.claims.diagnosis import ClaimFinding, diagnose
+from symfilt.claims.limits import DIAGNOSE_TERMS, MAX_TERMS, check_size, claim_size
 from symfilt.claims.parse import parse_claim
-from symfilt.errors import UsageError
+from symfilt.claims.radicals import check_analytic
+from symfilt.errors import ClaimError, UsageError
+from symfilt.model.safe import as_sympy
 
 __all__ = ["SAMPLE_DIGITS", "SAMPLE_POINTS", "TOLERANCE", "ClaimFinding", "Equivalence", "equivalent",
            "parse_claim"]
@@ -151,12 +154,29 @@ def equivalent(claim: Any, derived: Any, *, symbols: Any = None, values: Mapping
         except (TypeError, ValueError):
             raise UsageError("values", f"the value of {name} is not a number", "pass numbers") from None
     hand = _claim_expr(claim, table)
+    check_analytic(hand, "claim")
+    check_analytic(target, "derived")
+    sizes = _checked_sizes(hand, target)
     if ties:
-        hand = hand.xreplace({table[name]: sympy.sympify(e) for name, e in ties.items() if name in table})
+        hand = hand.xreplace({table[name]: as_sympy(e) for name, e in ties.items() if name in table})
     judge = Judge(hand.free_symbols | target.free_symbols | {table["s"]}, rng_seed)
     same, method, points = judge.same(hand, target)
     if same:
         return Equivalence(True, method, points, (), None)
+    if max(sizes) > DIAGNOSE_TERMS:  # the diagnosis works in sympy: minutes for such a size
+        return Equivalence(False, method, points, (ClaimFinding("not-diagnosed", {"terms": max(sizes)}),), None)
     gain = None if quantity is None else quantity in ("transfer", "dc-gain", "dc_gain", "gain")
     diagnosis, counter = diagnose(hand, target, judge, given, rng_seed, gain)
     return Equivalence(False, method, points, diagnosis, counter)
+
+
+def _checked_sizes(hand: sympy.Expr, target: sympy.Expr) -> tuple[int, int]:
+    """Estimated terms of the claim and of the derived quantity, both within the limits, and their product."""
+    check_size(hand, "claim")
+    check_size(target, "derived")
+    a, b = claim_size(hand)[0], claim_size(target)[0]
+    if a * b > MAX_TERMS * 100:
+        raise ClaimError("claim", f"the claim ({a} terms) and the derived quantity ({b} terms) are too large to "
+                         f"compare: their cross product could reach {a * b} terms", "check a smaller quantity or "
+                         "write the claim in fewer terms")
+    return a, b

@@ -22,8 +22,11 @@ from symfilt.errors import ClaimError
 MAX_LENGTH = 5000  # characters in a claim
 MAX_DEPTH = 100  # nesting of brackets and operators
 MAX_EXPONENT = 64  # largest |exponent|, whole or half-integer
-MAX_DIGITS = 20000  # digits a numeric power may produce
+MAX_DIGITS = 4000  # digits a number may have (under Python's 4300-digit limit of int to text)
 MAX_TERMS = 10**6  # estimated terms once brought over a common denominator
+MAX_DEGREE = 256  # estimated total degree once brought over a common denominator
+MAX_CLAIM_BYTES = 200 * 10**6  # estimated memory of the expanded claim
+DIAGNOSE_TERMS = 1000  # a differing claim larger than this is not diagnosed (the diagnosis works in sympy)
 MAX_LATEX_TOKENS = 400  # sympy's LaTeX parser (Earley) needs about 10-25 ms per token
 
 S = sympy.Symbol("s")
@@ -99,7 +102,8 @@ def unknown_name(name: str, table: Mapping[str, sympy.Symbol], where: str) -> Cl
 
 
 def _digits(number: sympy.Rational) -> int:
-    return len(str(abs(number.p))) + len(str(number.q))
+    """Decimal digits of numerator and denominator, from their bit lengths (no text made)."""
+    return sum(abs(int(x)).bit_length() * 30103 // 100000 + 1 for x in (number.p, number.q))
 
 
 def checked_power(base: sympy.Expr, exp: sympy.Expr, where: str, limit: int | None = MAX_EXPONENT) -> sympy.Expr:
@@ -162,26 +166,61 @@ def parallel(a: sympy.Expr, b: sympy.Expr) -> sympy.Expr:
     >>> parallel(sympy.Integer(2), sympy.Integer(2))
     1
     """
-    return a * b / (a + b)
+    # 1/(1/a + 1/b), not a*b/(a + b): each side appears once, so a chain of n parallels stays
+    # a tree of n leaves (a*b/(a + b) doubles every level: 2**n nodes for sympy to walk)
+    if a == 0 or b == 0:
+        return sympy.Integer(0)
+    return 1 / (1 / a + 1 / b)
 
 
-def _estimate(expr: sympy.Expr, cap: int) -> tuple[int, int]:
-    """Upper estimate of (numerator, denominator) terms over a common denominator."""
+class _Size(tuple):
+    """(terms, degree, bits) of a polynomial, upper estimates: how much it holds once expanded."""
+
+    @staticmethod
+    def of(terms: int, degree: int, bits: int) -> "_Size":
+        return _Size((min(terms, _CAP), min(degree, _CAP), min(bits, _CAP)))
+
+    def times(self, other: "_Size") -> "_Size":
+        return _Size.of(self[0] * other[0], self[1] + other[1], self[2] + other[2] + _log2(min(self[0], other[0])))
+
+    def plus(self, other: "_Size") -> "_Size":
+        if not self[0] or not other[0]:
+            return self if other[0] == 0 else other
+        return _Size.of(self[0] + other[0], max(self[1], other[1]), max(self[2], other[2]) + 1)
+
+    def power(self, k: int) -> "_Size":
+        return _Size.of(_multiset(self[0], k, _CAP), k * self[1], k * (self[2] + _log2(self[0])))
+
+
+def _log2(n: int) -> int:
+    """ceil(log2 n) for n >= 1 (0 for 0 and 1)."""
+    return max(0, int(n) - 1).bit_length()
+
+
+_CAP = 10**12
+_ONE = _Size((1, 0, 0))
+
+
+def _estimate(expr: sympy.Expr) -> tuple[_Size, _Size]:
+    """Upper estimates of (numerator, denominator) over a common denominator: terms, degree, bits."""
+    if expr.is_Rational:
+        return _Size.of(1, 0, _log2(abs(int(expr.p)))), _Size.of(1, 0, _log2(int(expr.q)))
     if expr.is_Atom or not expr.args:
-        return 1, 1
+        return _Size.of(1, 1, 0), _ONE
     if expr.is_Add or expr.is_Mul:
-        num, den = (0, 1) if expr.is_Add else (1, 1)
+        num, den = (_Size.of(0, 0, 0), _ONE) if expr.is_Add else (_ONE, _ONE)
         for arg in expr.args:
-            n, d = _estimate(arg, cap)
-            num = num * d + n * den if expr.is_Add else num * n
-            num, den = min(num, cap + 1), min(den * d, cap + 1)
+            n, d = _estimate(arg)
+            num = num.times(d).plus(n.times(den)) if expr.is_Add else num.times(n)
+            den = den.times(d)
         return num, den
     if expr.is_Pow and expr.exp.is_Rational:
-        n, d = _estimate(expr.base, cap)
-        k = int(abs(expr.exp))
-        grown = tuple(_multiset(t, k, cap) for t in (n, d))
+        n, d = _estimate(expr.base)
+        k = max(1, -(-abs(expr.exp.p) // expr.exp.q))
+        grown = (n.power(k), d.power(k))
         return grown[::-1] if expr.exp < 0 else grown
-    return 1, 1
+    sizes = [_estimate(a) for a in expr.args]  # a function: as large as its arguments, counted once
+    return max((n for n, _ in sizes), default=_ONE), max((d for _, d in sizes), default=_ONE)
 
 
 def _multiset(terms: int, k: int, cap: int) -> int:
@@ -194,8 +233,37 @@ def _multiset(terms: int, k: int, cap: int) -> int:
     return count
 
 
+def claim_size(expr: sympy.Expr) -> tuple[int, int, int]:
+    """(terms, degree, digits) the larger of a claim's numerator and denominator may reach, estimated.
+
+    Parameters
+    ----------
+    expr : sympy.Expr
+        A claim.
+
+    Returns
+    -------
+    tuple of int
+        Upper estimates: number of terms, total degree, decimal digits of a coefficient.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> s = sympy.Symbol("s")
+    >>> claim_size((1 + s) ** 4)
+    (5, 4, 3)
+    """
+    num, den = _estimate(expr)
+    terms, degree, bits = (max(a, b) for a, b in zip(num, den))
+    return terms, degree, -(-bits * 30103 // 100000)
+
+
 def check_size(expr: sympy.Expr, where: str) -> sympy.Expr:
-    """The claim itself, once checked finite and within ``MAX_TERMS`` when expanded.
+    """The claim itself, once checked finite and within the size limits when expanded.
+
+    The limits are checked on estimates made from the expression's tree, before anything
+    is expanded: terms (``MAX_TERMS``), total degree (``MAX_DEGREE``), digits of a
+    coefficient (``MAX_DIGITS``) and the memory all of it takes (``MAX_CLAIM_BYTES``).
 
     Parameters
     ----------
@@ -214,13 +282,26 @@ def check_size(expr: sympy.Expr, where: str) -> sympy.Expr:
     >>> import sympy
     >>> check_size(sympy.Symbol("R1"), "claim")
     R1
+    >>> check_size((1 + sympy.Symbol("s")) ** 4096, "claim")
+    Traceback (most recent call last):
+    ...
+    symfilt.errors.ClaimError: claim: the claim would reach degree 4096 when expanded, over the limit of 256, write it with fewer or smaller powers
     """
     if expr.has(sympy.zoo, sympy.nan, sympy.oo, -sympy.oo):
         raise ClaimError(where, "the claim divides by zero", "check the denominators")
-    num, den = _estimate(expr, MAX_TERMS)
-    if max(num, den) > MAX_TERMS:
-        raise ClaimError(where, f"the claim would expand to more than {MAX_TERMS} terms",
-                         "write it with fewer or smaller powers")
+    terms, degree, digits = claim_size(expr)
+    fix = "write it with fewer or smaller powers"
+    if terms > MAX_TERMS:
+        raise ClaimError(where, f"the claim would expand to more than {MAX_TERMS} terms", fix)
+    if degree > MAX_DEGREE:
+        raise ClaimError(where, f"the claim would reach degree {degree} when expanded, over the limit of {MAX_DEGREE}", fix)
+    if digits > MAX_DIGITS:
+        raise ClaimError(where, f"a coefficient of the claim would have about {digits} digits when expanded, "
+                         f"over the limit of {MAX_DIGITS}", fix + " and smaller numbers")
+    need = terms * (2 + -(-digits // 19) + -(-len(expr.free_symbols) // 4)) * 8
+    if need > MAX_CLAIM_BYTES:
+        raise ClaimError(where, f"the claim would take about {need // 10**6} MB when expanded, over the limit of "
+                         f"{MAX_CLAIM_BYTES // 10**6} MB", fix)
     return expr
 
 

@@ -15,6 +15,7 @@ from __future__ import annotations
 
 import ast
 import re
+import unicodedata
 from typing import Mapping
 
 import sympy
@@ -161,6 +162,14 @@ def _parse_plain(text: str, table: Mapping[str, sympy.Symbol], where: str) -> sy
 
 
 
+def _refuse_odd_digits(text: str, where: str) -> None:
+    """Digits other than 0-9 (superscripts, Arabic-Indic, Devanagari, double-struck) name their code point."""
+    for ch in text:
+        if ord(ch) > 127 and (unicodedata.category(ch) in ("Nd", "No", "Nl") or 0x1D400 <= ord(ch) <= 0x1D7FF):
+            raise ClaimError(where, f"the character {ch} (U+{ord(ch):04X}, {unicodedata.name(ch, 'unnamed')}) is not "
+                             "read in a claim", "write digits as 0-9 and powers as ^2 (or ^{2} in LaTeX)")
+
+
 def parse_claim(text: str, symbols: Mapping[str, sympy.Symbol], *, where: str = "claim") -> sympy.Expr:
     r"""Read a hand-derived formula, plain text or LaTeX, without evaluating it.
 
@@ -216,6 +225,7 @@ def parse_claim(text: str, symbols: Mapping[str, sympy.Symbol], *, where: str = 
     if len(text) > MAX_LENGTH:
         raise ClaimError(where, f"the claim is {len(text)} characters long, over the limit of {MAX_LENGTH}",
                          "shorten it")
+    _refuse_odd_digits(text, where)
     table = dict(symbols)
     body = strip_lhs(text, where)
     if not body.strip():

@@ -29,21 +29,24 @@ from typing import Mapping
 from symfilt.model.circuit import GROUND, LOAD_C, LOAD_R, SOURCE_R, Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
+from symfilt.model.safe import require
+from symfilt.model.stamps import SOURCE_NODE, Unknown
 from symfilt.errors import UsageError
 from symfilt.analysis.network import NetworkFunction
 from symfilt.model.values import parse_value
 
 
-def node_transfer(circuit: Circuit, unknown: str, *, max_terms: int = DEFAULT_MAX_TERMS) -> NetworkFunction:
+def node_transfer(circuit: Circuit, unknown, *, max_terms: int = DEFAULT_MAX_TERMS) -> NetworkFunction:
     """The exact ratio of an MNA unknown to the source voltage, fixtures kept in place.
 
     Parameters
     ----------
     circuit : Circuit
-    unknown : str
-        A node name (its voltage) or ``I(<part>)`` for the branch current of a
+    unknown : str or Unknown
+        A node name (its voltage), ``I(<part>)`` for the branch current of a
         voltage-type part (op-amp, vcvs, ccvs; the current flows from the node
-        into the part's output).
+        into the part's output), or an :class:`symfilt.model.stamps.Unknown`
+        (read as :func:`symfilt.engine.solve.solve_unknown` reads it).
     max_terms : int
 
     Examples
@@ -67,7 +70,8 @@ class BranchCurrent:
     part : str
         Part or fixture name (``R_L``, ``C_L`` for the load).
     node : str
-        The part's other node (``0`` for ground).
+        The part's other node (``0`` for ground, :data:`symfilt.model.stamps.SOURCE_NODE` for
+        R_s's end at the source, a name no user node can have).
     peak_a : float
         Peak current in A.
 
@@ -202,6 +206,7 @@ def drive(circuit: Circuit, amplitude, frequency, *, max_terms: int = DEFAULT_MA
     >>> round(d.vout_peak_v, 6), round(d.iout_peak_a * 1e3, 6), d.iout_exceeded
     (2.2, 1.2, True)
     """
+    require(circuit, Circuit, "drive circuit", "build one with Circuit.build or load_circuit")
     amp, freq = _read_signal(amplitude, frequency)
     opamps = [p for p in circuit.parts if p.kind == "opamp"]
     if not opamps:
@@ -225,9 +230,9 @@ class _Probe:
 
     def __init__(self, circuit: Circuit, values: Mapping, s_value: complex, max_terms: int):
         self.circuit, self.values, self.s_value, self.max_terms = circuit, values, s_value, max_terms
-        self.transfers: dict[str, NetworkFunction] = {}
+        self.transfers: dict[Unknown, NetworkFunction] = {}
 
-    def transfer(self, unknown: str) -> NetworkFunction:
+    def transfer(self, unknown: Unknown) -> NetworkFunction:
         if unknown not in self.transfers:
             h = node_transfer(self.circuit, unknown, max_terms=self.max_terms)
             missing = sorted(str(x) for x in h.free_symbols() - {S} if x not in self.values)
@@ -236,11 +241,11 @@ class _Probe:
             self.transfers[unknown] = h
         return self.transfers[unknown]
 
-    def at(self, unknown: str) -> complex:
+    def at(self, unknown: Unknown) -> complex:
         return _at(self.transfer(unknown), self.values, self.s_value)
 
     def voltage(self, node: str) -> complex:
-        return 0j if node == GROUND else self.at(node)
+        return 0j if node == GROUND else self.at(Unknown("V", node))
 
     def admittance(self, kind: str, value, name: str) -> complex:
         v = float(value)
@@ -264,7 +269,7 @@ def _output_items(circuit: Circuit, node: str, values: Mapping) -> list[tuple]:
         if circuit.load_capacitance.present:
             items.append((LOAD_C, "capacitor", circuit.load_capacitance.value, GROUND))
     if node == circuit.input and circuit.source.present:
-        items.append((SOURCE_R, "resistor", circuit.source.value, "source"))
+        items.append((SOURCE_R, "resistor", circuit.source.value, SOURCE_NODE))
     return items
 
 
@@ -277,12 +282,12 @@ def _opamp_drive(probe: _Probe, op, amp: float, freq: float) -> OpampDrive:
     for name, kind, value, other in _output_items(probe.circuit, node, probe.values):
         if value is None:
             raise UsageError("drive", f"no value for {name}", f"give {name} a value")
-        v_other = 1.0 if other == "source" else probe.voltage(other)
+        v_other = 1.0 if other == SOURCE_NODE else probe.voltage(other)
         i = (v_out - v_other) * probe.admittance(kind, value, name)
         total_parts += i
         branches.append(BranchCurrent(name, other, abs(i) * amp))
     # the op-amp's branch current flows from the node into its output: the current it delivers is minus that
-    i_total = -probe.at(f"I({op.name})")
+    i_total = -probe.at(Unknown("I", op.name))
     other_peak = abs(i_total - total_parts) * amp
     if other_peak <= 1e-9 * abs(i_total) * amp:
         other_peak = 0.0
@@ -292,7 +297,7 @@ def _opamp_drive(probe: _Probe, op, amp: float, freq: float) -> OpampDrive:
     smax = None if op.slew is None else float(op.slew)
     return OpampDrive(op.name, node, vpk, ipk, slew, tuple(branches), other_peak, imax, smax,
                       None if imax is None else ipk > imax, None if smax is None else slew > smax,
-                      probe.transfer(node) if node != GROUND else None)
+                      probe.transfer(Unknown("V", node)) if node != GROUND else None)
 
 
 __all__ = ["BranchCurrent", "DriveResult", "OpampDrive", "drive", "node_transfer"]

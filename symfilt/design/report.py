@@ -26,6 +26,7 @@ from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.errors import SingularCircuitError, SizeLimitError, UsageError
 from symfilt.model.circuit import Circuit
 from symfilt.model.opamp import OPAMP_MODELS
+from symfilt.model.safe import require, require_budget
 from symfilt.model.structure import structure_warnings
 
 
@@ -104,6 +105,8 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     >>> sorted(r.opamp_error.cutoff_first_order), r.circuit is r.analysis.circuit
     (['A_U1'], True)
     """
+    require(circuit, Circuit, "report circuit", "build one with Circuit.build or load_circuit")
+    require_budget(max_terms, "report")
     if opamp_model is not None and opamp_model not in OPAMP_MODELS:
         raise UsageError("opamp_model", f"{opamp_model!r} is not an op-amp model", "use " + ", ".join(OPAMP_MODELS))
     if load_limit is not None and not 0 < load_limit < 1:

@@ -39,6 +39,7 @@ from symfilt.errors import UsageError
 from symfilt.model.values import format_value
 
 from symfilt.design.eseries import series_neighbours, series_values
+from symfilt.model.safe import as_sympy
 
 from symfilt.design.targets import ALIGNMENTS, TARGETS, parse_target, read_target
 
@@ -485,9 +486,9 @@ def _signed_goal(a, at, quantity: str, tval, present, kind: str, notes: list):
 def _require_dependence(stage: StageResult, quantity: str, x, tie: dict, first_name: str) -> None:
     """UsageError when the varied part does not appear in the loaded quantity."""
     expr0 = _quantity_expr(stage, quantity)
-    if expr0 is not None and x not in sympy.sympify(expr0).free_symbols and not (
-            tie and set(tie) & sympy.sympify(expr0).free_symbols):
-        used = sorted(str(v) for v in sympy.sympify(expr0).free_symbols)
+    if expr0 is not None and x not in as_sympy(expr0).free_symbols and not (
+            tie and set(tie) & as_sympy(expr0).free_symbols):
+        used = sorted(str(v) for v in as_sympy(expr0).free_symbols)
         raise UsageError("--vary", f"{first_name} does not change the loaded {quantity}",
                          "vary a part that appears in it: " + (", ".join(used) if used else "none does"))
 

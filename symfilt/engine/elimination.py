@@ -40,6 +40,10 @@ from symfilt.engine.rational import Ratio, cancel_pair
 #: has 28 657 terms; a result of 200 000 terms takes a few seconds and a few hundred
 #: megabytes, the point where a formula stops being something to read.
 DEFAULT_MAX_TERMS = 200_000
+#: Memory the engine lets its polynomials take (bytes): 1 GB. A product whose result could
+#: need more than half of it, or a matrix whose entries together would, stops the derivation
+#: with the size message before the memory is taken (see :func:`memory_estimate`).
+DEFAULT_MAX_MEMORY = 10**9
 
 
 @dataclass(frozen=True)
@@ -86,6 +90,65 @@ class DelayedProgress:
             self.write(stage)
 
 
+def memory_estimate(terms: int, nvars: int) -> int:
+    """Bytes that ``terms`` terms of a polynomial in ``nvars`` variables take, estimated.
+
+    flint stores each term's exponents packed into 64-bit words (at least 8 bits per
+    exponent, 16 counted here to leave room for degrees past 255) and its coefficient in one
+    word while it fits (circuit coefficients are small integers), plus the arrays' slack.
+
+    Parameters
+    ----------
+    terms : int
+        Number of terms.
+    nvars : int
+        Number of variables of the ring.
+
+    Returns
+    -------
+    int
+
+    Examples
+    --------
+    >>> memory_estimate(1_000_000, 30)
+    80000000
+    """
+    return terms * 8 * (2 + -(-nvars // 4))
+
+
+class _Budget:
+    """The size budget of one elimination: terms of each result, memory of each product and of all rows."""
+
+    def __init__(self, system: MnaSystem, max_terms: int, max_memory: int, where: str) -> None:
+        self.system, self.max_terms, self.max_memory, self.where = system, max_terms, max_memory, where
+        self.nvars = system.ctx.nvars()
+
+    def result(self, p) -> None:
+        _check_size(p, self.max_terms, self.system, self.where)
+
+    def product(self, a, b) -> None:
+        need = memory_estimate(len(a) * len(b), self.nvars)
+        if need > self.max_memory // 2:
+            self.stop(f"a product of {len(a)} by {len(b)} terms could need {_gb(need)}")
+
+    def rows(self, rows: list[dict]) -> None:
+        need = memory_estimate(sum(len(v) for row in rows for v in row.values()), self.nvars)
+        if need > self.max_memory // 2:
+            self.stop(f"the matrix entries together need about {_gb(need)}")
+
+    def stop(self, what: str) -> None:
+        system = self.system
+        raise SizeLimitError(
+            self.where,
+            f"the derivation outgrew its memory budget: {what}, over the budget of {_gb(self.max_memory)} "
+            f"(the circuit has {system.parts} parts and {system.size} unknowns)",
+            "derive the stages one at a time, or raise the budget with --max-memory (max_memory= in Python)")
+
+
+def _gb(n: int) -> str:
+    return f"{n / 1e9:.3g} GB" if n >= 10**8 else f"{n / 1e6:.3g} MB"
+
+
 def _check_size(p, max_terms: int, system: MnaSystem, where: str) -> None:
     if len(p) > max_terms:
         fix = "raise the budget with --max-terms (max_terms= in Python) or derive the stages one at a time"
@@ -98,7 +161,8 @@ def _check_size(p, max_terms: int, system: MnaSystem, where: str) -> None:
 
 
 def solve(system: MnaSystem, *, max_terms: int = DEFAULT_MAX_TERMS,
-          progress: Callable[[str], None] | None = None, where: str = "circuit") -> Ratio:
+          progress: Callable[[str], None] | None = None, where: str = "circuit",
+          max_memory: int = DEFAULT_MAX_MEMORY) -> Ratio:
     """Solve for the system's target unknown as an exact, cancelled ratio.
 
     Parameters
@@ -112,6 +176,9 @@ def solve(system: MnaSystem, *, max_terms: int = DEFAULT_MAX_TERMS,
         :class:`DelayedProgress` to stay silent on short derivations).
     where : str
         Name used in error messages.
+    max_memory : int
+        Memory budget in bytes: raise :class:`SizeLimitError` before a product or the
+        matrix as a whole could take more than half of it (:func:`memory_estimate`).
 
     Returns
     -------
@@ -122,7 +189,7 @@ def solve(system: MnaSystem, *, max_terms: int = DEFAULT_MAX_TERMS,
     SingularCircuitError
         When the equations have no unique solution.
     SizeLimitError
-        When the derivation grows past ``max_terms``.
+        When the derivation grows past ``max_terms`` or ``max_memory``.
 
     Examples
     --------
@@ -132,7 +199,7 @@ def solve(system: MnaSystem, *, max_terms: int = DEFAULT_MAX_TERMS,
     >>> r.to_sympy()
     (1, C1*R1*s + 1)
     """
-    num, den = _bareiss_target(system, max_terms, progress, where)
+    num, den = _bareiss_target(system, _Budget(system, max_terms, max_memory, where), progress, where)
     if progress:
         progress("restoring resistances")
     num, den, symbols = _restore(system, num, den)
@@ -148,7 +215,7 @@ def _singular(where: str) -> SingularCircuitError:
                                 "or a node held only by current sources")
 
 
-def _bareiss_target(system: MnaSystem, max_terms: int, progress, where: str):
+def _bareiss_target(system: MnaSystem, budget: _Budget, progress, where: str):
     """Sparse Bareiss elimination with lazy row scaling; returns (c, a) of the last row ``a x_t = c``."""
     n = system.size
     ctx = system.ctx
@@ -159,10 +226,6 @@ def _bareiss_target(system: MnaSystem, max_terms: int, progress, where: str):
     pivots = [ctx.from_dict({(0,) * ctx.nvars(): 1})]  # pivots[k]: pivot of step k (pivots[0] = 1)
     level = [0] * n  # step after which each row was last brought up to date
     report = max(1, (n - 1) // 10)
-
-    def checked(v) -> None:
-        _check_size(v, max_terms, system, where)
-
     step = 0
     while active_cols:
         step += 1
@@ -175,11 +238,11 @@ def _bareiss_target(system: MnaSystem, max_terms: int, progress, where: str):
         active_rows.discard(pr)
         active_cols.discard(pc)
         prev = pivots[step - 1]
-        _bring(rows, level, pivots, pr, step - 1)
+        _bring(rows, level, pivots, pr, step - 1, budget)
         pivot_row = rows[pr]
         for i in col_rows[pc] & active_rows:
-            _bring(rows, level, pivots, i, step - 1)
-            new_row = _eliminated(rows[i], pivot_row, pc, prev, checked)
+            _bring(rows, level, pivots, i, step - 1, budget)
+            new_row = _eliminated(rows[i], pivot_row, pc, prev, budget)
             for j in rows[i]:
                 if j not in new_row:
                     col_rows[j].discard(i)
@@ -188,6 +251,7 @@ def _bareiss_target(system: MnaSystem, max_terms: int, progress, where: str):
             rows[i] = new_row
             level[i] = step
         pivots.append(pivot_row[pc])
+        budget.rows(rows)
     (last,) = active_rows
     den = rows[last].get(target)
     num = rows[last].get(n, ctx.from_dict({}))
@@ -223,16 +287,18 @@ def _choose_pivot(rows: list[dict], col_rows: dict[int, set[int]], active_rows: 
     return None if best is None else best[1:]
 
 
-def _bring(rows: list[dict], level: list[int], pivots: list, i: int, k: int) -> None:
+def _bring(rows: list[dict], level: list[int], pivots: list, i: int, k: int, budget: _Budget) -> None:
     """Scale row i to the state after step k: times pivots[k] / pivots[level[i]]."""
     if level[i] == k:
         return
     up, down = pivots[k], pivots[level[i]]
+    for v in rows[i].values():
+        budget.product(up, v)
     rows[i] = {j: (up * v) / down if not down.is_one() else up * v for j, v in rows[i].items()}
     level[i] = k
 
 
-def _eliminated(row: dict, pivot_row: dict, pc: int, prev, checked) -> dict:
+def _eliminated(row: dict, pivot_row: dict, pc: int, prev, budget: _Budget) -> dict:
     """One Bareiss update of ``row`` by the pivot row: (pivot * row - factor * pivot row) / prev."""
     pivot = pivot_row[pc]
     factor = row[pc]
@@ -242,6 +308,10 @@ def _eliminated(row: dict, pivot_row: dict, pc: int, prev, checked) -> dict:
             continue
         a = row.get(j)
         b = pivot_row.get(j)
+        if a is not None:
+            budget.product(pivot, a)
+        if b is not None:
+            budget.product(factor, b)
         if a is None:
             v = -(factor * b)
         elif b is None:
@@ -252,7 +322,7 @@ def _eliminated(row: dict, pivot_row: dict, pc: int, prev, checked) -> dict:
             continue
         if not prev.is_one():
             v = v / prev
-        checked(v)
+        budget.result(v)
         new_row[j] = v
     return new_row
 

@@ -53,6 +53,10 @@ class MnaSystem:
         Generator name -> sympy object it means (``pi`` maps to :data:`sympy.pi`).
     parts : int
         Number of parts of the circuit (fixtures not counted), for messages.
+    keys : tuple of Unknown
+        The unknowns themselves (:class:`symfilt.model.stamps.Unknown`), in the order of
+        ``unknowns``: labels are for display and may coincide (a part named ``source``),
+        keys never do.
 
     Examples
     --------
@@ -70,6 +74,7 @@ class MnaSystem:
     reciprocal: dict
     symbols: dict
     parts: int = 0
+    keys: tuple = ()
 
     @property
     def size(self) -> int:
@@ -131,7 +136,7 @@ def build_system(circuit: Circuit, mode: str = "transfer", opamp: str | None = N
     rhs = {index[u]: _poly(entry, factor, ctx) for u, entry in table.rhs}
     return MnaSystem(ctx=ctx, rows=tuple(rows), rhs=rhs, unknowns=tuple(u.label for u in table.unknowns),
                      target=index[table.target], reciprocal=reciprocal, symbols=symbols,
-                     parts=len(circuit.parts))
+                     parts=len(circuit.parts), keys=tuple(table.unknowns))
 
 
 def _ring(circuit: Circuit, twos):

@@ -15,6 +15,7 @@ from operator import itemgetter
 
 import flint
 import sympy
+from symfilt.model.safe import as_sympy
 
 
 class PolyContext:
@@ -40,8 +41,8 @@ class PolyContext:
         syms: set = set()
         has_pi = False
         for e in exprs:
-            syms |= sympy.sympify(e).free_symbols
-            has_pi = has_pi or sympy.sympify(e).has(sympy.pi)
+            syms |= as_sympy(e).free_symbols
+            has_pi = has_pi or as_sympy(e).has(sympy.pi)
         self.gens = sorted(syms, key=lambda z: z.name)
         if has_pi:
             self.gens.append(self._pi)
@@ -67,7 +68,7 @@ class PolyContext:
         >>> PolyContext([x]).to_flint(x**2 / 3 + 1)
         1/3*x0^2 + 1
         """
-        e = sympy.expand(sympy.sympify(expr).xreplace({sympy.pi: self._pi}))
+        e = sympy.expand(as_sympy(expr).xreplace({sympy.pi: self._pi}))
         n = self.ctx.nvars()
         if not self.gens:
             q = sympy.Rational(e)

@@ -23,6 +23,8 @@ import sympy
 from sympy.polys.polyerrors import BasePolynomialError
 
 from symfilt.engine.polybridge import PolyContext, poly_to_sympy, smaller_than, to_fmpq
+from symfilt.model.safe import as_sympy
+from symfilt.model.values import parse_value
 
 #: A cancelled ratio with at most this many terms is shown factored by :meth:`Ratio.quotient`.
 FACTOR_TERMS = 60
@@ -68,7 +70,7 @@ class Ratio:
         >>> Ratio.from_sympy(x / 2 + sympy.pi, -x).to_sympy()
         (-x - 2*pi, 2*x)
         """
-        num, den = sympy.expand(num), sympy.expand(den)
+        num, den = sympy.expand(as_sympy(num, "num")), sympy.expand(as_sympy(den, "den"))
         bridge = PolyContext([num, den])
         fn, fd = cancel_pair(bridge.to_flint(num), bridge.to_flint(den))
         return _integer_ratio(fn, fd, bridge.symbols())
@@ -316,7 +318,8 @@ class Ratio:
             name = self.name_of(key)
             if name is None:
                 continue
-            v = sympy.Rational(repr(v)) if isinstance(v, float) else sympy.sympify(v)
+            v = sympy.Rational(repr(v)) if isinstance(v, float) else parse_value(v, where=str(key)) if isinstance(v, str) \
+                else as_sympy(v, str(key))
             if v.is_Rational:
                 point[name] = flint.fmpq(int(v.p), int(v.q))
             else:

@@ -12,10 +12,10 @@ from __future__ import annotations
 from dataclasses import replace
 from typing import Callable
 
-from symfilt.engine.elimination import DEFAULT_MAX_TERMS, Ratio, solve
+from symfilt.engine.elimination import DEFAULT_MAX_MEMORY, DEFAULT_MAX_TERMS, Ratio, solve
 from symfilt.engine.mna import build_system
 from symfilt.engine.ties import substitute_ties
-from symfilt.model.stamps import DRIVES
+from symfilt.model.stamps import DRIVES, SOURCE_BRANCH, Unknown
 from symfilt.errors import UsageError
 from symfilt.model.circuit import Circuit
 
@@ -24,16 +24,21 @@ __all__ = ["solve_unknown"]
 
 def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = "transfer",
                   max_terms: int = DEFAULT_MAX_TERMS, progress: Callable[[str], None] | None = None,
-                  where: str | None = None, opamp: str | None = None) -> Ratio:
+                  where: str | None = None, opamp: str | None = None,
+                  max_memory: int = DEFAULT_MAX_MEMORY) -> Ratio:
     """One unknown of the circuit's MNA system as an exact, cancelled ratio.
 
     Parameters
     ----------
     circuit : Circuit
-    unknown : str, optional
-        ``V(<node>)`` (or just the node name), ``I(<part>)`` for the branch current
-        of an op-amp, vcvs or ccvs (it flows from the node into the part's output),
-        or ``I(source)`` for the source's (from the input side into the source).
+    unknown : str or Unknown, optional
+        An :class:`symfilt.model.stamps.Unknown` (exact: ``Unknown("V", node)``,
+        ``Unknown("I", part)``, ``Unknown("I", SOURCE_BRANCH)`` for the source's current), or
+        text: ``V(<node>)``, ``I(<part>)`` for the branch current of an op-amp, vcvs or ccvs
+        (it flows from the node into the part's output), ``I(source)`` for the source's (from
+        the input side into the source; a part named ``source`` comes first), or a bare node
+        name. Text that is both (a node named ``I(U1)``) is read as ``V(...)`` and ``I(...)``
+        first; code inside symfilt always passes an ``Unknown``.
         Default: the drive mode's own unknown (output voltage for ``transfer``,
         input voltage for ``zin``, output voltage for ``zout``).
     drive : {"transfer", "zin", "zout", "loop"}
@@ -51,6 +56,8 @@ def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = 
         Name used in error messages (default: the circuit's title, or "circuit").
     opamp : str, optional
         The op-amp whose loop ``drive="loop"`` breaks.
+    max_memory : int
+        Memory budget of the elimination in bytes (:func:`symfilt.engine.elimination.solve`).
 
     Returns
     -------
@@ -76,11 +83,25 @@ def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = 
         raise ValueError(f"drive must be one of {DRIVES}")
     system = build_system(circuit, drive, opamp)
     if unknown is not None:
-        name = unknown if unknown.startswith(("I(", "V(")) else f"V({unknown})"
-        if name not in system.unknowns:
-            raise UsageError(unknown, "no such node or branch", "name a node of the circuit")
-        system = replace(system, target=system.unknowns.index(name))
+        key = unknown if isinstance(unknown, Unknown) else _read_unknown(unknown, system.keys)
+        if key not in system.keys:
+            raise UsageError(str(unknown), "no such node or branch", "name a node of the circuit")
+        system = replace(system, target=system.keys.index(key))
     where = where if where is not None else circuit.title or "circuit"
-    ratio = solve(system, max_terms=max_terms, progress=progress, where=where)
+    ratio = solve(system, max_terms=max_terms, progress=progress, where=where, max_memory=max_memory)
     ties = circuit.ties()
     return substitute_ties(ratio, ties, where) if ties else ratio
+
+
+def _read_unknown(text: str, keys: tuple) -> Unknown | None:
+    """The unknown a text names: ``V(node)``, ``I(part)``, ``I(source)``, else a bare node name."""
+    if not isinstance(text, str):
+        raise UsageError(repr(text), "an unknown is named by text", "write V(node), I(part) or a node name")
+    if len(text) > 3 and text[1] == "(" and text.endswith(")") and text[0] in "VI":
+        key = Unknown(text[0], text[2:-1])
+        if key in keys:
+            return key
+        if text == "I(source)":
+            return Unknown("I", SOURCE_BRANCH)
+    return Unknown("V", text)
+

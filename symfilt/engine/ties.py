@@ -26,6 +26,7 @@ import sympy
 
 from symfilt.engine.rational import Ratio, reringed
 from symfilt.errors import SingularCircuitError
+from symfilt.model.safe import as_sympy
 
 __all__ = ["substitute_ties"]
 
@@ -64,7 +65,7 @@ def substitute_ties(ratio: Ratio, ties: Mapping[str, sympy.Expr], where: str = "
         return ratio
     symbols, names = dict(ratio.symbols), list(old)
     for expr in used.values():
-        for x in sorted(sympy.sympify(expr).free_symbols, key=lambda x: x.name):
+        for x in sorted(as_sympy(expr).free_symbols, key=lambda x: x.name):
             if x.name not in symbols:
                 symbols[x.name] = x
                 names.append(x.name)
@@ -100,7 +101,7 @@ _U = "tie:1/L"
 
 def _integer_pair(expr: sympy.Expr, gens: dict, ctx):
     """A tie ``p/q`` as two integer polynomials of ``ctx``, ``q``'s sign made positive when constant."""
-    n, d = sympy.fraction(sympy.together(sympy.sympify(expr)))
+    n, d = sympy.fraction(sympy.together(as_sympy(expr)))
     scale = 1
     for c in sympy.Poly(n * d, *sorted((n * d).free_symbols, key=lambda x: x.name) or [sympy.Symbol("x")]).coeffs():
         scale = scale * int(sympy.Rational(c).q) // math.gcd(scale, int(sympy.Rational(c).q))

@@ -98,6 +98,7 @@ _WORDING = {
                               f"D's lowest coefficient 1): expected {_show(d['expected'])}, got {_show(d['got'])}"),
     "equal-at-values": lambda d: ("equal at your values of " + ", ".join(d["symbols"])
                                   + " but not in general: they differ at other values"),
+    "not-diagnosed": lambda d: f"not diagnosed: the claim or the derived result has about {d['terms']} terms",
 }
 
 

@@ -13,6 +13,7 @@ from pathlib import Path
 
 from symfilt.errors import OutputError
 from symfilt.model.values import format_value
+from symfilt.model.stamps import SOURCE_NODE
 from symfilt.export.text import one_line
 from symfilt.export.findings import describe, describe_all
 
@@ -331,7 +332,7 @@ def drive_dict(r) -> dict:
         "frequency_hz": r.frequency,
         "opamps": {d.name: {"iout_peak_a": _num(d.iout_peak_a), "vout_peak_v": _num(d.vout_peak_v),
                             "slew_v_per_us": _num(d.slew_v_per_us), "node": d.node,
-                            "branches": [{"part": b.part, "to": b.node, "peak_a": _num(b.peak_a)} for b in d.branches],
+                            "branches": [{"part": b.part, "to": "source" if b.node == SOURCE_NODE else b.node, "peak_a": _num(b.peak_a)} for b in d.branches],
                             "other_peak_a": _num(d.other_peak_a), "iout_max_a": _num(d.iout_max_a),
                             "slew_limit_v_per_us": _num(d.slew_limit_v_per_us), "iout_exceeded": d.iout_exceeded,
                             "slew_exceeded": d.slew_exceeded,
@@ -367,7 +368,7 @@ def drive_text(r) -> str:
         limit = "" if d.iout_max_a is None else f"   (iout_max {_fmt(d.iout_max_a, 'A')})"
         lines.append(f"  output current   {_fmt(d.iout_peak_a, 'A')} peak{limit}")
         for b in d.branches:
-            to = "ground" if b.node == "0" else f"node {b.node}"
+            to = "ground" if b.node == "0" else "the source" if b.node == SOURCE_NODE else f"node {b.node}"
             lines.append(f"    through {b.part:<8} to {to:<14} {_fmt(b.peak_a, 'A')}")
         if d.other_peak_a:
             lines.append(f"    into other active parts       {_fmt(d.other_peak_a, 'A')}")

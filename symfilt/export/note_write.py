@@ -27,8 +27,32 @@ from symfilt.export.note import (SENS_COLUMNS, assumptions, cautions, equations,
                                  opamp_error_lines, standard_form_tex, sweep, views)
 
 
+_MD_SPECIAL = set("\\`*_{}[]()<>#+!|~&")
+
+
+def md_text(text: str) -> str:
+    """User text (a title, a name) for Markdown: every character Markdown or HTML gives a meaning escaped.
+
+    Parameters
+    ----------
+    text : str
+
+    Returns
+    -------
+    str
+        The text with ``\\`` before each of ``\\ ` * _ { } [ ] ( ) < > # + ! | ~`` and ``&`` as ``&amp;``,
+        so a renderer shows it as written and no HTML in it runs.
+
+    Examples
+    --------
+    >>> print(md_text("<b>x</b> *y* R_s"))
+    \\<b\\>x\\</b\\> \\*y\\* R\\_s
+    """
+    return "".join("&amp;" if ch == "&" else "\\" + ch if ch in _MD_SPECIAL else ch for ch in text)
+
+
 def _md_cell(text: str) -> str:
-    return text.replace("|", "\\|")
+    return md_text(text)
 
 
 def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = "", opamp_error=None,
@@ -58,8 +82,8 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
     from symfilt.version import __version__
 
     title = a.circuit.title or "Untitled stage"
-    out = [f"# {title}", "", f"Design note: {kind_words(a.ideal)} from {node_name(a.circuit.input)} "
-           f"to {node_name(a.circuit.output)}.", ""]
+    out = [f"# {md_text(title)}", "", f"Design note: {kind_words(a.ideal)} from {md_text(node_name(a.circuit.input))} "
+           f"to {md_text(node_name(a.circuit.output))}.", ""]
     rows = number_rows(a)
     out += ["## Loaded and ideal", ""]
     if rows:
@@ -77,10 +101,10 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
         out += ["", "## Real op-amps", "", *[f"- {x}" for x in real]]
     out += ["", "## Parts", "", "| Part | Kind | Connection | Value |", "|---|---|---|---:|"]
     for r in part_rows(a):
-        out.append(f"| {r['name']} | {_md_cell(r['kind'])} | {_md_cell(r['connection'])} | {r['value']} |")
+        out.append(f"| {md_text(r['name'])} | {_md_cell(r['kind'])} | {_md_cell(r['connection'])} | {r['value']} |")
     if tie_lines(a):
         out += ["", "Tied values (each follows from the parameters and parts it names): "
-                + ", ".join(tie_lines(a)) + "."]
+                + ", ".join(md_text(t) for t in tie_lines(a)) + "."]
     out += ["", "## Equations", ""]
     for view, vtitle in views(a):
         st = getattr(a, view)
@@ -104,12 +128,12 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
         out += [f"### {vtitle}", "", "| Part | " + " | ".join(f"S of {labels[k]}" for k in cols) + " |",
                 "|---|" + "---:|" * len(cols)]
         for name, cells in srows:
-            out.append(f"| {name} | " + " | ".join(c["text"] for c in cells) + " |")
+            out.append(f"| {md_text(name)} | " + " | ".join(c["text"] for c in cells) + " |")
         out.append("")
     out += noise_markdown(noise)
     out += ["## Assumptions", "", *[f"- {x}" for x in assumptions(a)], "",
             "## Cautions", "", *[f"- {x}" for x in cautions(a)], "",
-            f"*Derived exactly by symfilt {__version__}" + (f" from {source}" if source else "")
+            f"*Derived exactly by symfilt {__version__}" + (f" from {md_text(source)}" if source else "")
             + ". Numbers are rounded to 4 significant digits.*", ""]
     return "\n".join(out)
 

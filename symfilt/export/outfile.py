@@ -122,6 +122,8 @@ def output_target(path, *, protect=()) -> OutputTarget:
     """
     if str(path) == "-":
         return OutputTarget(None, "stdout")
+    if str(path).endswith(("/", os.sep)) or Path(path).name in ("", ".", ".."):
+        raise OutputError(str(path), "names a folder (it ends in a slash), not a file", "give a file name to write")
     p = Path(path)
     if not os.path.lexists(p):
         return _new_file(p)
@@ -218,6 +220,57 @@ def write_bytes_atomic(path, data: bytes, *, protect=()) -> None:
         _write_stream(target.path, data)
     else:
         _write_replacing(target.path, data, shown=str(path))
+
+
+def write_files_atomic(items, *, protect=()) -> None:
+    """Write several files as one: either every one is written or none is changed.
+
+    Every target is checked first; then each is written in turn (each atomically), and when
+    one fails, those already written get their old content back (or are removed when they are
+    new). Streams (``-``, pipes) cannot be taken back, so they are written last.
+
+    Parameters
+    ----------
+    items : iterable of (path, bytes)
+        The files and their content, rendered beforehand.
+    protect : iterable of str or Path
+        Files that must not be overwritten.
+
+    Raises
+    ------
+    OutputError
+        For the first target that cannot be written; nothing else has changed then.
+
+    Examples
+    --------
+    >>> import tempfile, pathlib
+    >>> folder = pathlib.Path(tempfile.mkdtemp())
+    >>> write_files_atomic([(folder / "a.csv", b"1"), (folder / "missing" / "b.svg", b"2")])
+    Traceback (most recent call last):
+    ...
+    symfilt.errors.OutputError: ...: folder ... does not exist, create the folder first or choose another path
+    >>> (folder / "a.csv").exists()
+    False
+    """
+    items = list(items)
+    targets = [output_target(path, protect=protect) for path, _ in items]
+    order = sorted(range(len(items)), key=lambda k: targets[k].mode != "atomic")
+    done: list[tuple[Path, bytes | None]] = []
+    try:
+        for k in order:
+            path, data = items[k]
+            t = targets[k]
+            old = t.path.read_bytes() if t.mode == "atomic" and t.path is not None and t.path.exists() else None
+            write_bytes_atomic(path, data, protect=protect)
+            if t.mode == "atomic":
+                done.append((t.path, old))
+    except BaseException:
+        for p, old in reversed(done):
+            try:
+                p.unlink() if old is None else _write_replacing(p, old, shown=str(p))
+            except OSError:
+                pass
+        raise
 
 
 def _write_stdout(data: bytes) -> None:

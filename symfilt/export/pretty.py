@@ -23,7 +23,10 @@ class _NoQuantity:
 
 
 class Printer(PrettyPrinter):
-    """sympy's PrettyPrinter, the same output, without importing ``sympy.physics.units``.
+    """sympy's PrettyPrinter without importing ``sympy.physics.units``, names drawn as written.
+
+    sympy draws ``R2`` as R₂ and ``R_s`` as Rₛ, which keeps the name; it also draws ``Rhat``
+    as R̂, ``Cbar`` as C̅ and ``beta`` as β, which changes it: those are written as they are.
 
     Parameters
     ----------
@@ -39,6 +42,15 @@ class Printer(PrettyPrinter):
     ─────
     R + 1
     """
+
+    def _print_Symbol(self, e, bold_name=False):
+        import unicodedata
+
+        from sympy.printing.pretty.stringpict import prettyForm
+
+        drawn = super()._print_Symbol(e, bold_name)
+        plain = unicodedata.normalize("NFKC", str(drawn)).replace("_", "")
+        return drawn if plain == e.name.replace("_", "") else prettyForm(e.name)
 
     def _print_Mul(self, product):
         if _UNITS in sys.modules:

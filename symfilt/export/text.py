@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import sympy
+from sympy.printing.str import StrPrinter
 
 from symfilt.analysis.numeric import tidy
 from symfilt.model.circuit import S
@@ -15,6 +16,19 @@ from symfilt.export.response_text import kind_rows, pole_zero_lines
 
 LONG = 400  # one-line expressions longer than this are not printed in the text report
 _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
+
+
+class _TextPrinter(StrPrinter):
+    """sympy's str printer with infinity written ∞ (the only rewrite; names print as they are)."""
+
+    def _print_Infinity(self, expr):
+        return "∞"
+
+    def _print_NegativeInfinity(self, expr):
+        return "-∞"
+
+    def _print_ComplexInfinity(self, expr):
+        return "∞"
 
 
 def one_line(expr) -> str:
@@ -37,8 +51,9 @@ def one_line(expr) -> str:
         return "—"
     if not smaller_than(expr, 4 * LONG):
         return "(large expression; see --format json or latex)"
-    text = sympy.sstr(parallel_display(expr))
-    text = text.replace("**", "^").replace("*", "·").replace("oo", "∞")
+    # the printer spells infinity ∞; names are never rewritten (a part Rfoo stays Rfoo)
+    text = _TextPrinter().doprint(parallel_display(expr))
+    text = text.replace("**", "^").replace("*", "·")
     if len(text) > LONG:
         return f"({len(text)}-character expression; see --format json or latex)"
     return text

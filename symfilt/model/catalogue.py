@@ -15,7 +15,7 @@ from dataclasses import dataclass
 from typing import Callable
 
 from symfilt.model.circuit import Circuit, Part
-from symfilt.errors import UsageError
+from symfilt.errors import ArgumentTypeError, UsageError
 from symfilt.model.values import parse_value
 
 R, C, L, U = Part.resistor, Part.capacitor, Part.inductor, Part.opamp
@@ -505,6 +505,9 @@ def build(name: str, **values) -> Circuit:
     >>> build("@rc-lowpass", R1="1k").part("R1").value
     1000
     """
+    if not isinstance(name, str):
+        raise ArgumentTypeError("catalogue name", f"expected the name as text, got {type(name).__name__}",
+                                "pass a name such as \"rc-lowpass\"")
     key = name[1:] if name.startswith("@") else name
     if key not in CATALOGUE:
         raise UsageError(f"@{key}", "no built-in circuit of that name",

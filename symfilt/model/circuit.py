@@ -21,7 +21,7 @@ from typing import Iterable, Mapping
 
 import sympy
 
-from symfilt.errors import CircuitError
+from symfilt.errors import ArgumentTypeError, CircuitError
 from symfilt.model.fixture import Fixture
 from symfilt.model.names import GROUND, clip_name, is_ground, node_name
 from symfilt.model.opamp import OPAMP_MODELS, opamp_parameters
@@ -76,6 +76,15 @@ class Circuit:
     probes: tuple[tuple[str, str], ...] = ()
 
     def __post_init__(self) -> None:
+        if isinstance(self.parts, (str, bytes)) or not isinstance(self.parts, (tuple, list)):
+            raise ArgumentTypeError("Circuit parts", f"expected a list of Part, got {type(self.parts).__name__}",
+                                    "pass parts such as [Part.resistor(\"R1\", \"in\", \"out\")]")
+        bad = next((p for p in self.parts if not isinstance(p, Part)), None)
+        if bad is not None:
+            raise ArgumentTypeError("Circuit parts", f"expected Part values, got a {type(bad).__name__}",
+                                    "build each with Part.resistor, Part.capacitor, ... or Part.make")
+        if isinstance(self.parts, list):
+            object.__setattr__(self, "parts", tuple(self.parts))
         # a bare word that is also an RKM code (R47) is a tie when the circuit has that name
         names = {q.name for q in self.parameters} | {p.name for p in self.parts}
         settled = tuple(p if p.tie is None or p.value is None else
@@ -108,6 +117,12 @@ class Circuit:
         >>> c.ties()
         {'R1': R, 'R2': R/2}
         """
+        if parts is None or isinstance(parts, (str, bytes)) or not hasattr(parts, "__iter__"):
+            raise ArgumentTypeError("Circuit.build parts", f"expected a list of Part, got {type(parts).__name__}",
+                                    "pass parts such as [Part.resistor(\"R1\", \"in\", \"out\")]")
+        if parameters is not None and not isinstance(parameters, Mapping):
+            raise ArgumentTypeError("Circuit.build parameters", f"expected a mapping, got {type(parameters).__name__}",
+                                    "pass a dict such as {\"R\": \"10k\"}")
         params = tuple(Parameter.parse(k, v) for k, v in (parameters or {}).items())
         c = cls(parts=tuple(parts), input=node_name(input, "ports input"), output=node_name(output, "ports output"),
                 source=Fixture.parse(source, "source resistance"),
@@ -310,6 +325,9 @@ class Circuit:
         """
         from symfilt.model.symbols import with_values
 
+        if not isinstance(values, Mapping):
+            raise ArgumentTypeError("with_values values", f"expected a mapping, got {type(values).__name__}",
+                                    "pass a dict such as {\"R1\": \"4k7\"}")
         return with_values(self, values)
 
     # --- validation ----------------------------------------------------------

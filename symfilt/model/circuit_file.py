@@ -12,13 +12,15 @@ circuit's own errors (:class:`~symfilt.errors.CircuitError`,
 from __future__ import annotations
 
 import difflib
+import os
 import re
+import stat
 import tomllib
 import unicodedata
 from pathlib import Path
 
 from symfilt.model.circuit import PART_PINS, Circuit, Fixture, Parameter, Part, clip_name
-from symfilt.errors import CircuitFileError, SizeLimitError, SymfiltError
+from symfilt.errors import ArgumentTypeError, CircuitFileError, SizeLimitError, SymfiltError
 from symfilt.model.noise import noise_from_dict
 from symfilt.model.sweep import note_sweep
 from symfilt.model.structure import MAX_PARTS
@@ -366,6 +368,19 @@ def _part(pname: str, spec, name: str) -> Part:
         raise type(exc)(where + tail, exc.what, exc.fix) from None
 
 
+_SPECIAL = ((stat.S_ISFIFO, "a named pipe (FIFO)"), (stat.S_ISCHR, "a character device"),
+            (stat.S_ISBLK, "a block device"), (stat.S_ISSOCK, "a socket"))
+
+
+def _refuse_special(p: Path, what: str) -> None:
+    """Refuse anything but a regular file before it is opened: reading a pipe or a device may never end."""
+    mode = os.stat(p).st_mode
+    for test, word in _SPECIAL:
+        if test(mode):
+            raise CircuitFileError(str(p), f"is {word}, not a {what}",
+                                   f"save the {what} as an ordinary file and give its path")
+
+
 def read_text_file(path, what: str = "circuit file") -> tuple[str, str]:
     """The UTF-8 text of a small input file and the name its errors start with.
 
@@ -383,7 +398,8 @@ def read_text_file(path, what: str = "circuit file") -> tuple[str, str]:
     Raises
     ------
     CircuitFileError, SizeLimitError
-        A missing, unreadable, over-long or non-UTF-8 file.
+        A missing, unreadable, over-long or non-UTF-8 file, or one that is no regular file
+        (a named pipe or a device is refused before it is opened).
 
     Examples
     --------
@@ -392,12 +408,16 @@ def read_text_file(path, what: str = "circuit file") -> tuple[str, str]:
     ...
     symfilt.errors.CircuitFileError: /nonexistent/rc.toml: no such file, check the path, or use @NAME for a built-in circuit
     """
+    if not isinstance(path, (str, Path)):
+        raise ArgumentTypeError(f"{what} path", f"expected a path, got {type(path).__name__}",
+                                "pass the file's path as text or a pathlib.Path")
     p = Path(path)
     name = p.name
     try:
         if p.is_dir():
             raise CircuitFileError(str(p), f"is a folder, not a {what}", f"give the path of a .toml {what}")
-        with open(p, "rb") as fh:  # read at most one byte past the limit: /dev/zero must not hang us
+        _refuse_special(p, what)
+        with open(p, "rb") as fh:  # read at most one byte past the limit: a file growing meanwhile stops there
             raw = fh.read(MAX_FILE_BYTES + 1)
         if len(raw) > MAX_FILE_BYTES:
             raise SizeLimitError(name, f"the file is over the size limit of {MAX_FILE_BYTES} bytes",

@@ -115,7 +115,7 @@ def node_name(name: object, where: str) -> str:
     return GROUND if is_ground(name) else name
 
 
-def check_symbol_name(name: object, where: str, what: str = "part") -> None:
+def check_symbol_name(name: object, where: str, what: str = "part", *, reserved: bool = True) -> None:
     """Raise for a name that cannot be a part's or parameter's symbol.
 
     Parameters
@@ -126,6 +126,9 @@ def check_symbol_name(name: object, where: str, what: str = "part") -> None:
         The place to name in an error message.
     what : str
         What is named (``part`` or ``parameter``), for the message.
+    reserved : bool
+        Also refuse symfilt's own names (``R_s``, ``A_*``, ...) and Python keywords; False
+        checks only the form (text, length, ASCII letters, digits and ``_``).
 
     Raises
     ------
@@ -148,9 +151,71 @@ def check_symbol_name(name: object, where: str, what: str = "part") -> None:
     if not _NAME.fullmatch(name):
         raise CircuitError(where, f"a {what} name must start with an ASCII letter and hold only ASCII letters, digits and _",
                            "rename it, e.g. R1 or C_in")
+    if not reserved:
+        return
     if name in RESERVED or name.startswith(("A_", "GBW_")):
         raise CircuitError(where, f"the name {name} is reserved for a symbol of symfilt",
                            f"rename the {what} (R_s, R_L, C_L, s, A_*, GBW_* are taken)")
     if keyword.iskeyword(name):
         raise CircuitError(where, f"the name {name} is a reserved word of Python, which reads the formulas back",
                            f"rename the {what}, e.g. R_" + name)
+
+
+#: Letters of other scripts that look like ASCII ones (Cyrillic and Greek lookalikes; common practice).
+_LOOKALIKES = str.maketrans({
+    "а": "a", "е": "e", "о": "o", "р": "p", "с": "c", "у": "y", "х": "x", "і": "i", "ј": "j", "ѕ": "s",
+    "ԁ": "d", "ɡ": "g", "һ": "h", "ո": "n", "ս": "u", "ν": "v", "ο": "o", "ι": "i", "κ": "k", "τ": "t",
+    "А": "A", "В": "B", "Е": "E", "К": "K", "М": "M", "Н": "H", "О": "O", "Р": "P", "С": "C", "Т": "T",
+    "У": "Y", "Х": "X", "І": "I", "Ј": "J", "Ѕ": "S", "Α": "A", "Β": "B", "Ε": "E", "Ζ": "Z", "Η": "H",
+    "Ι": "I", "Κ": "K", "Μ": "M", "Ν": "N", "Ο": "O", "Ρ": "P", "Τ": "T", "Υ": "Y", "Χ": "X", "ℓ": "l",
+})
+
+
+def skeleton(name: str) -> str:
+    """The name as it looks: compatibility forms folded (NFKC) and lookalike letters made ASCII.
+
+    Parameters
+    ----------
+    name : str
+
+    Returns
+    -------
+    str
+
+    Examples
+    --------
+    >>> skeleton("\u0456n") == skeleton("in")
+    True
+    """
+    return unicodedata.normalize("NFKC", name).translate(_LOOKALIKES).casefold()
+
+
+def confusable_hint(name: str, others) -> str:
+    """A hint naming the code points when ``name`` looks like one of ``others`` but is not it; else "".
+
+    Parameters
+    ----------
+    name : str
+        The name that was not found.
+    others : iterable of str
+        The names there are.
+
+    Returns
+    -------
+    str
+        ``"node in looks like in but differs at ..."`` or an empty string.
+
+    Examples
+    --------
+    >>> print(confusable_hint("in", ["\u0456n", "out"]))
+    in looks the same as \u0456n but is another name: \u0456n holds U+0456 (CYRILLIC SMALL LETTER BYELORUSSIAN-UKRAINIAN I); retype it in ASCII
+    """
+    key = skeleton(name)
+    for other in others:
+        if other != name and skeleton(other) == key:
+            odd = sorted({ch for ch in name + other if ord(ch) > 127})
+            points = ", ".join(f"U+{ord(ch):04X} ({unicodedata.name(ch, 'unnamed')})" for ch in odd)
+            holder = other if any(ord(ch) > 127 for ch in other) else name
+            return f"{name} looks the same as {other} but is another name: {holder} holds {points}; retype it in ASCII"
+    return ""
+

@@ -404,8 +404,10 @@ def load_noise(path, circuit=None) -> NoiseSpec:
     import tomllib
     from pathlib import Path
 
+    from symfilt.model.circuit_file import read_text_file  # the reader refuses pipes and devices
+
     p = Path(path)
-    data = tomllib.loads(p.read_bytes().decode("utf-8").removeprefix("\ufeff"))
+    data = tomllib.loads(read_text_file(p)[0].removeprefix("\ufeff"))
     return noise_from_dict(data, p.name, circuit)
 
 

@@ -11,7 +11,7 @@ from typing import Iterable
 
 import sympy
 
-from symfilt.errors import CircuitError
+from symfilt.errors import ArgumentTypeError, CircuitError
 from symfilt.model.fixture import Fixture
 from symfilt.model.names import check_symbol_name, clip_name, node_name
 from symfilt.model.opamp import check_opamp_options, opamp_parameters
@@ -137,6 +137,26 @@ class Part:
     rin: Fixture = field(default_factory=Fixture)
     cin: Fixture = field(default_factory=Fixture)
     tie: str | None = None
+
+    def __post_init__(self) -> None:
+        # a Part built directly gets the form checks Part.make gives (the reserved names are
+        # checked by Part.make and the circuit file: symfilt's own transformations make parts
+        # named R_s or N:R1); internal parts hold a colon, which no user name can
+        if not isinstance(self.name, str) or ":" not in self.name:
+            check_symbol_name(self.name, f"part {clip_name(self.name)}", reserved=False)
+        where = f"part {self.name}"
+        if self.kind not in PART_PINS:
+            raise CircuitError(where, f"unknown kind {clip_name(self.kind)}", "use one of " + ", ".join(PART_PINS))
+        if not isinstance(self.nodes, tuple) or len(self.nodes) != len(PART_PINS[self.kind]) or not all(
+                isinstance(n, str) for n in self.nodes):
+            raise CircuitError(where, f"the nodes must be a tuple of {len(PART_PINS[self.kind])} names",
+                               "list the pins: " + ", ".join(PART_PINS[self.kind]))
+        for key in ("value", "gain", "gbw", "iout_max", "slew", "pole2"):
+            v = getattr(self, key)
+            if v is not None and not (isinstance(v, sympy.Basic) and v.is_Rational):
+                raise ArgumentTypeError(f"{where} {key}", f"expected an exact number, got {type(v).__name__}",
+                                        "build the part with Part.make or Part.resistor, ..., which read text and numbers")
+        self.check_values()
 
     # --- constructors -------------------------------------------------------
     @classmethod

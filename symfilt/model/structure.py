@@ -33,7 +33,7 @@ from typing import TYPE_CHECKING
 import sympy
 
 from symfilt.errors import CircuitError, SizeLimitError
-from symfilt.model.names import clip_name
+from symfilt.model.names import clip_name, confusable_hint
 
 if TYPE_CHECKING:  # pragma: no cover
     from symfilt.model.circuit import Circuit
@@ -115,7 +115,8 @@ def check_structure(circuit: "Circuit") -> None:
         if node == GROUND:
             raise CircuitError(f"ports {label}", "the port is on ground", "name the node the signal is on")
         if node not in used:
-            raise CircuitError(f"ports {label}", f"node {node} is not connected to any part",
+            hint = confusable_hint(node, sorted(used))
+            raise CircuitError(f"ports {label}", f"node {node} is not connected to any part" + (f" ({hint})" if hint else ""),
                                "name a node that a part uses")
     if circuit.input == circuit.output and not any(p.kind != "opamp" for p in parts):
         raise CircuitError("ports", "input and output are the same node", "name two different nodes")
@@ -170,6 +171,7 @@ def check_probes(circuit: "Circuit") -> None:
         if node not in nodes:
             close = difflib.get_close_matches(node, nodes, n=1)
             hint = f"did you mean {close[0]}? " if close else ""
+            hint = (confusable_hint(node, nodes) + "; ") if confusable_hint(node, nodes) else hint
             raise CircuitError(where, f"node {clip_name(node)} is not in the circuit",
                                f"{hint}probe one of {', '.join(clip_name(n) for n in nodes[:12])}")
 
