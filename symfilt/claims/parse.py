@@ -214,7 +214,7 @@ def parse_claim(text: str, symbols: Mapping[str, sympy.Symbol], *, where: str = 
     >>> parse_claim("2.2e-9 * R1^2", {"R1": R1})
     11*R1**2/5000000000
     >>> parse_claim("R1 + R1 || C1", {"R1": R1, "C1": C1})
-    C1*R1/(C1 + R1) + R1
+    R1 + 1/(1/R1 + 1/C1)
     >>> parse_claim("__import__('os')", {"R1": R1})
     Traceback (most recent call last):
     ...
