@@ -28,7 +28,6 @@ import math
 from dataclasses import dataclass, field
 from typing import Callable, Sequence
 
-import numpy as np
 import sympy
 from mpmath.libmp.libhyper import NoConvergence
 
@@ -253,6 +252,8 @@ class _Problem:
 
     def residual(self, u: np.ndarray) -> np.ndarray | None:
         """ln(quantity/target) of each target with each group's first part at exp(u)."""
+        import numpy as np  # here, not at import: a report that does not size needs no numpy
+
         for g, ug in zip(self.groups, u):
             lo, hi = SCAN_RANGE[self.kind[g[0]]]
             if not math.log(lo) <= ug <= math.log(hi):
@@ -269,6 +270,8 @@ class _Problem:
 
 def _newton(res: Callable, u0: np.ndarray, tol: float = 1e-11, iterations: int = 60) -> np.ndarray | None:
     """A damped Newton iteration on res(u) = 0 with a forward-difference Jacobian."""
+    import numpy as np  # here, not at import: a report that does not size needs no numpy
+
     u, r = np.array(u0, dtype=float), res(np.array(u0, dtype=float))
     if r is None:
         return None
@@ -299,6 +302,8 @@ def _newton(res: Callable, u0: np.ndarray, tol: float = 1e-11, iterations: int =
 
 def _grid(problem: _Problem, points: int) -> list[np.ndarray]:
     """Log-spaced starting points: six decades around the present value, else the kind's whole range."""
+    import numpy as np  # here, not at import: a report that does not size needs no numpy
+
     axes = []
     for g in problem.groups:
         first = problem.present[g[0]]
@@ -313,6 +318,8 @@ def _grid(problem: _Problem, points: int) -> list[np.ndarray]:
 
 def _solve(problem: _Problem) -> list[np.ndarray]:
     """Every distinct solution found from the best starting points, nearest the present values first."""
+    import numpy as np  # here, not at import: a report that does not size needs no numpy
+
     points = 7 if len(problem.groups) <= 2 else 4
     starts = []
     if all(problem.present[g[0]] is not None for g in problem.groups):
@@ -430,6 +437,8 @@ def size_joint(circuit, targets: Sequence, vary: Sequence, *, series: str = "E24
     >>> sorted(r.chosen.values), r.chosen.worst_pct < 10
     (['R1', 'R2'], True)
     """
+    import numpy as np  # here, not at import: a report that does not size needs no numpy
+
     tlist = read_targets(targets)
     series_values(series)
     groups, varied = read_groups(circuit, vary)

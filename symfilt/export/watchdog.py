@@ -17,7 +17,6 @@ from __future__ import annotations
 import os
 import signal
 import sys
-import time
 
 from symfilt.errors import UsageError
 
@@ -152,8 +151,10 @@ def run_watched(work, limit: int, message) -> int:
                 stream.flush()
         except (OSError, ValueError):
             pass
+    ended_r, ended_w = os.pipe()  # closed by the child's exit: the parent wakes at once, not at the next poll
     pid = os.fork()
     if pid == 0:  # the child: do the work, leave without running the parent's exit handlers twice
+        os.close(ended_r)
         code = 2
         try:
             code = work()
@@ -164,10 +165,16 @@ def run_watched(work, limit: int, message) -> int:
             except (OSError, ValueError):  # the stream error was already reported by work()
                 pass
             os._exit(code if isinstance(code, int) else 0)
-    return _watch(pid, limit, message)
+    os.close(ended_w)
+    try:
+        return _watch(pid, limit, message, ended_r)
+    finally:
+        os.close(ended_r)
 
 
-def _watch(pid: int, limit: int, message) -> int:
+def _watch(pid: int, limit: int, message, ended: int) -> int:
+    import select
+
     old = signal.signal(signal.SIGINT, signal.SIG_IGN)  # the child reports an interrupt itself
     try:
         while True:
@@ -180,7 +187,7 @@ def _watch(pid: int, limit: int, message) -> int:
                 os.waitpid(pid, 0)
                 os.write(2, (message(limit) + "\n").encode("ascii", "replace"))
                 return 2
-            time.sleep(_POLL)
+            select.select([ended], [], [], _POLL)  # returns early when the child has gone
     finally:
         signal.signal(signal.SIGINT, old)
 
