@@ -8,20 +8,8 @@ Examples
 (R1 + R_L + R_s)/(C1*R_L*(R1 + R_s))
 """
 
-from symfilt.model import catalogue
-from symfilt.analysis.forms import StandardForm, standard_form
-from symfilt.analysis.stage import Analysis, analyse, substitute
-from symfilt.analysis.loading import LoadLimit, load_limits
-from symfilt.analysis.loop import Loop, loops
-from symfilt.analysis.probe import Probe, probe, probes
-from symfilt.model.circuit import Circuit, Fixture, Part
-from symfilt.claims.judge import Equivalence, equivalent, parse_claim
-from symfilt.export.check_report import assert_equivalent
-from symfilt.export.findings import describe
-from symfilt.analysis.findings import Finding
-from symfilt.design.report import Report, report
-from symfilt.design.joint import JointResult, size_joint, sized_circuit
-from symfilt.model.circuit_file import circuit_to_text, load_circuit, parse_circuit_text
+from functools import lru_cache
+
 from symfilt.errors import (
     ArgumentTypeError,
     CircuitError,
@@ -34,18 +22,83 @@ from symfilt.errors import (
     UsageError,
     ValueParseError,
 )
-from symfilt.analysis.network import NetworkFunction, derive
-from symfilt.model.values import format_value, parse_value
-from symfilt.model.noise import NoiseSpec, OpampNoise, load_noise
-from symfilt.analysis.noise import derive_noise
-from symfilt.analysis.noise_numbers import NoiseReport, noise_report
-
-from symfilt.export.family_plot import plot_sweep
 from symfilt.version import __version__
-from symfilt.export.display import attach
 
-attach()  # notebook display (_repr_html_, _repr_latex_) on the result classes: symfilt.export.display
-del attach
+#: Public name -> the module that defines it. They are imported on first use (PEP 562), so that a
+#: command of the command line, which imports ``symfilt.cli``, loads only what it runs.
+_PUBLIC = {
+    "Analysis": "symfilt.analysis.stage",
+    "Circuit": "symfilt.model.circuit",
+    "Equivalence": "symfilt.claims.judge",
+    "Finding": "symfilt.analysis.findings",
+    "Fixture": "symfilt.model.circuit",
+    "JointResult": "symfilt.design.joint",
+    "LoadLimit": "symfilt.analysis.loading",
+    "Loop": "symfilt.analysis.loop",
+    "NetworkFunction": "symfilt.analysis.network",
+    "NoiseReport": "symfilt.analysis.noise_numbers",
+    "NoiseSpec": "symfilt.model.noise",
+    "OpampNoise": "symfilt.model.noise",
+    "Part": "symfilt.model.circuit",
+    "Probe": "symfilt.analysis.probe",
+    "Report": "symfilt.design.report",
+    "StandardForm": "symfilt.analysis.forms",
+    "analyse": "symfilt.analysis.stage",
+    "assert_equivalent": "symfilt.export.check_report",
+    "catalogue": "symfilt.model.catalogue",
+    "circuit_to_text": "symfilt.model.circuit_file",
+    "derive": "symfilt.analysis.network",
+    "derive_noise": "symfilt.analysis.noise",
+    "describe": "symfilt.export.findings",
+    "equivalent": "symfilt.claims.judge",
+    "format_value": "symfilt.model.values",
+    "load_circuit": "symfilt.model.circuit_file",
+    "load_limits": "symfilt.analysis.loading",
+    "load_noise": "symfilt.model.noise",
+    "loops": "symfilt.analysis.loop",
+    "noise_report": "symfilt.analysis.noise_numbers",
+    "parse_circuit_text": "symfilt.model.circuit_file",
+    "parse_claim": "symfilt.claims.judge",
+    "parse_value": "symfilt.model.values",
+    "plot_sweep": "symfilt.export.family_plot",
+    "probe": "symfilt.analysis.probe",
+    "probes": "symfilt.analysis.probe",
+    "report": "symfilt.design.report",
+    "size_joint": "symfilt.design.joint",
+    "sized_circuit": "symfilt.design.joint",
+    "standard_form": "symfilt.analysis.forms",
+    "substitute": "symfilt.analysis.stage",
+}
+
+
+#: Public names that are modules themselves (``symfilt.catalogue``), not names defined in one.
+_MODULES = ("catalogue",)
+
+
+@lru_cache(maxsize=None)
+def _attach_display() -> None:
+    """Notebook display (_repr_html_, _repr_latex_) on the result classes: symfilt.export.display."""
+    from symfilt.export.display import attach
+
+    attach()
+
+
+def __getattr__(name: str):
+    import importlib
+
+    module = _PUBLIC.get(name)
+    if module is None:
+        raise AttributeError(f"module 'symfilt' has no attribute {name!r}")
+    _attach_display()  # the first use of the library's API installs the notebook display
+    found = importlib.import_module(module)
+    value = found if name in _MODULES else getattr(found, name)
+    globals()[name] = value
+    return value
+
+
+def __dir__() -> list[str]:
+    return sorted(set(globals()) | set(_PUBLIC))
+
 
 __all__ = [
     "Analysis",
