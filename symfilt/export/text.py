@@ -573,7 +573,9 @@ def render_demo(results) -> str:
     out += ["",
             "  The passive stage's cutoff and gain depend on the probe and the ADC; the buffered one holds",
             "  its response, within its op-amps' limits: finite gain and bandwidth, and an output resistance",
-            "  that meets the ADC's capacitance inside the loop. Try: symfilt derive @rc-lowpass, symfilt catalogue."]
+            "  that meets the ADC's capacitance inside the loop. Try: symfilt derive @rc-lowpass, symfilt catalogue;",
+            "  from the repository, symfilt chain examples/geophone_chain/chain.toml (where a buffer pays) and",
+            "  symfilt noise examples/demo_noise_passive.toml (the passive stage's noise against a 16-bit LSB)."]
     return "\n".join(out) + "\n"
 
 
