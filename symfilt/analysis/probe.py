@@ -14,8 +14,7 @@ from typing import Callable
 
 from symfilt.analysis.forms import cutoff, standard_form
 from symfilt.analysis.network import NetworkFunction
-from symfilt.analysis.numbers import numeric_values
-from symfilt.analysis.stage import UNSTABLE_DROPS, Analysis, StageResult, substitute
+from symfilt.analysis.stage import Analysis, StageResult, settled_numbers, substitute
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
 from symfilt.model.circuit import Circuit, S
@@ -99,11 +98,7 @@ def transfer_view(h: NetworkFunction, values) -> tuple[StageResult, dict]:
     """
     form = standard_form(h)
     st = StageResult(h, None, None, form, cutoff(form))
-    numbers = numeric_values(st, values)
-    if numbers.get("stability") == "unstable":
-        for key in UNSTABLE_DROPS:
-            numbers.pop(key, None)
-    return st, numbers
+    return st, settled_numbers(st, values)
 
 
 def probe(circuit: Circuit, node: str, label: str | None = None, *, max_terms: int = DEFAULT_MAX_TERMS,

@@ -310,6 +310,37 @@ def scaling_classes(circuit: Circuit) -> dict[str, str]:
     return out
 
 
+def settled_numbers(st: StageResult, values) -> dict:
+    """:func:`~symfilt.analysis.numbers.numeric_values` of a view, without the frequencies that only
+    a settling circuit has (:data:`UNSTABLE_DROPS`) when its poles are in the right half-plane.
+
+    Parameters
+    ----------
+    st : StageResult
+    values : mapping
+        Symbol -> exact number.
+
+    Returns
+    -------
+    dict
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> s = sympy.Symbol("s")
+    >>> h = NetworkFunction.from_expr(1 / (1 - s * R * C))
+    >>> f = standard_form(h)
+    >>> d = settled_numbers(StageResult(h, None, None, f, cutoff(f)), {R: 1, C: 1})
+    >>> d["stability"], "cutoff_hz" in d
+    ('unstable', False)
+    """
+    numbers = numeric_values(st, values)
+    if numbers.get("stability") == "unstable":  # a cutoff of a circuit that does not settle means nothing
+        for key in UNSTABLE_DROPS:
+            numbers.pop(key, None)
+    return numbers
+
+
 def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFAULT_MAX_TERMS,
             progress: Callable[[str], None] | None = None, at=None) -> Analysis:
     """Derive and analyse a circuit, loaded and ideal.
@@ -357,11 +388,7 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     loaded = _stage(h, zin, zout, symbols, sensitivity, at_hz)
     ideal = _stage(h.ideal(), zin.ideal(), zout.ideal(), symbols, sensitivity, at_hz)
     values = circuit.values()
-    numeric = {"loaded": numeric_values(loaded, values), "ideal": numeric_values(ideal, values)}
-    for numbers in numeric.values():
-        if numbers.get("stability") == "unstable":  # a cutoff of a circuit that does not settle means nothing
-            for key in UNSTABLE_DROPS:
-                numbers.pop(key, None)
+    numeric = {"loaded": settled_numbers(loaded, values), "ideal": settled_numbers(ideal, values)}
     if sensitivity:
         for key, st in (("loaded", loaded), ("ideal", ideal)):
             numeric[key]["sensitivity"] = numeric_sensitivities(st, values)
@@ -433,4 +460,4 @@ def substitute(analysis: Analysis) -> Analysis:
 
 __all__ = ["RESPONSE_KINDS", "Analysis", "Cutoff", "StageResult", "StandardForm", "analyse", "cutoff",
            "numeric_cutoff", "numeric_sensitivities", "numeric_values", "second_order_root", "stability",
-           "standard_form", "substitute"]
+           "settled_numbers", "standard_form", "substitute"]
