@@ -34,17 +34,14 @@ def probe_text(report) -> str:
     >>> print(probe_text(r).splitlines()[0])
     Probe out: H(s) = V(out)/V(source), with the load on out
     """
-    from symfilt.export.text import numbers_rows, stage_formulas, transfer_line, transfer_pretty
+    from symfilt.export.text import numbers_rows, stage_formulas, transfer_drawing
 
     c = report.circuit
     out = []
     for p in report.probes:
         out.append(f"Probe {p.label}: H(s) = V({p.node})/V(source), with the load on {c.output}")
         for key, st in (("loaded", p.loaded), ("ideal", p.ideal)):
-            drawn = transfer_pretty(st.transfer)
-            if max(len(line) for line in drawn.splitlines()) > 140:
-                drawn = transfer_line(st.transfer)
-            out += [f"  {key}:"] + ["    " + line for line in drawn.splitlines()]
+            out += [f"  {key}:"] + ["    " + line for line in transfer_drawing(st.transfer).splitlines()]
             out += [""] + stage_formulas(st) + [""]
         rows = numbers_rows(p.analysis(c))
         if rows:

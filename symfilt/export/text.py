@@ -152,6 +152,30 @@ def transfer_line(h) -> str:
     return text
 
 
+#: Widest 2-D drawing of H(s), in characters; a wider one is written on one line instead.
+DRAWING_WIDTH = 140
+
+
+def transfer_drawing(h) -> str:
+    """H(s) drawn in 2-D (:func:`transfer_pretty`), or on one line when the drawing would be too wide.
+
+    Parameters
+    ----------
+    h : NetworkFunction
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.network import derive
+    >>> transfer_drawing(derive(catalogue.build("rc-lowpass")).ideal()).splitlines()[1]
+    '───────────'
+    """
+    drawn = transfer_pretty(h)
+    if max(len(line) for line in drawn.splitlines()) > DRAWING_WIDTH:
+        return transfer_line(h)
+    return drawn
+
+
 def _indent(text: str, pad: str = "    ") -> str:
     return "\n".join(pad + line for line in text.splitlines())
 
@@ -402,10 +426,7 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     out += _symbol_rows(a)
     for key, st in (("loaded", a.loaded), ("ideal", a.ideal)):
         out += ["", f"Transfer function H(s) = V({c.output})/V(source), {key}"]
-        drawn = transfer_pretty(st.transfer)
-        if max(len(line) for line in drawn.splitlines()) > 140:
-            drawn = transfer_line(st.transfer)
-        out.append(_indent(drawn))
+        out.append(_indent(transfer_drawing(st.transfer)))
         out += [""] + stage_formulas(st)
     rows = numbers_rows(a)
     if rows:
