@@ -540,7 +540,7 @@ def demo():
     """Run the built-in scenario: a sensor into an ADC, passive versus buffered."""
     from symfilt.model import demo as scenario
     from symfilt.analysis.stage import analyse
-    from symfilt.export.text import render_demo
+    from symfilt.export.demo_text import render_demo
 
     results = [analyse(c, sensitivity=False) for c in scenario.stages()]
     _emit(render_demo(results))

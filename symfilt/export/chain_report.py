@@ -15,6 +15,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass
 
+from symfilt.export.note_write import md_text
+from symfilt.export.text import unvalued_names
 from symfilt.model.values import format_value
 
 #: Rows of the numbers table: label, key, unit ("" for a plain number, "dB" for a level).
@@ -48,17 +50,40 @@ def _ratio(x: float | None) -> str:
     return "∞ (open)" if math.isinf(x) else f"{x:.4g}"
 
 
+def _number_rows(r) -> list[list[str]]:
+    """The rows of the numbers table: a label, then a cell per column of :data:`_COLUMNS`."""
+    cols = _columns(r)
+    return [[label] + [_cell(cols[k], key, unit) for _h, k in _COLUMNS]
+            for label, key, unit in _ROWS if any(key in cols[k] for _h, k in _COLUMNS)]
+
+
+#: The interface table's columns: key of :func:`_interface_cells` and heading (text report, note).
+_INTERFACE_TEXT = (("index", "#"), ("between", "between"), ("node", "node"), ("dc", "|Zout/Zin| DC"),
+                   ("at_fc", "at fc"), ("largest", "largest"), ("at", "at"), ("buffered_fc", "buffered fc"),
+                   ("dc_gain", "DC gain"), ("share", "share"))
+_INTERFACE_NOTE = (("index", "#"), ("between", "between"), ("node", "node"), ("dc", "Zout/Zin DC"),
+                   ("at_fc", "at fc"), ("largest", "largest"), ("buffered_fc", "buffered cutoff"),
+                   ("dc_gain", "buffer: DC gain"), ("needed", "buffer needed"))
+
+
+def _interface_cells(r, i) -> dict[str, str]:
+    """One interface's cells, as the text report and the note show them."""
+    lo, res = i.loading, r.restored(i)
+    return {"index": str(i.index), "between": f"{i.upstream} → {i.downstream}", "node": i.node,
+            "dc": _ratio(lo["dc"]), "at_fc": _ratio(lo["at_cutoff"]), "largest": _ratio(lo["max"]),
+            "at": "—" if lo["max_at_hz"] is None or not lo["max"] else format_value(lo["max_at_hz"], "Hz"),
+            "buffered_fc": format_value(i.buffered["cutoff_hz"], "Hz") if i.buffered.get("cutoff_hz") else "—",
+            "dc_gain": "—" if res["dc_gain_db"] is None else f"{res['dc_gain_db']:+.3f} dB",
+            "share": "—" if res["cutoff_share"] is None else f"{100 * res['cutoff_share']:.0f} %",
+            "needed": {True: "yes", False: "no", None: "—"}[r.needs_buffer(i)]}
+
+
 def _interface_lines(r) -> list[str]:
     """The interface table (one row each), then each interface's buffer verdict."""
-    rows = [("#", "between", "node", "|Zout/Zin| DC", "at fc", "largest", "at", "buffered fc", "DC gain", "share")]
+    rows = [tuple(h for _k, h in _INTERFACE_TEXT)]
     for i in r.interfaces:
-        lo, res = i.loading, r.restored(i)
-        rows.append((str(i.index), f"{i.upstream} → {i.downstream}", i.node, _ratio(lo["dc"]), _ratio(lo["at_cutoff"]),
-                     _ratio(lo["max"]), "—" if lo["max_at_hz"] is None or not lo["max"] else
-                     format_value(lo["max_at_hz"], "Hz"),
-                     format_value(i.buffered["cutoff_hz"], "Hz") if i.buffered.get("cutoff_hz") else "—",
-                     "—" if res["dc_gain_db"] is None else f"{res['dc_gain_db']:+.3f} dB",
-                     "—" if res["cutoff_share"] is None else f"{100 * res['cutoff_share']:.0f} %"))
+        cells = _interface_cells(r, i)
+        rows.append(tuple(cells[k] for k, _h in _INTERFACE_TEXT))
     widths = [max(len(row[k]) for row in rows) for k in range(len(rows[0]))]
     out = ["  " + "  ".join(cell.ljust(w) if k < 3 else cell.rjust(w) for k, (cell, w) in enumerate(zip(row, widths)))
            .rstrip() for row in rows]
@@ -99,7 +124,6 @@ def chain_text(r) -> str:
     from symfilt.export.text import LONG, stage_formulas, transfer_line
 
     ch = r.chain
-    c = r.analysis.circuit
     rs = "R_s = " + format_value(ch.source.value, "Ω") if ch.source.value is not None else \
         ("R_s (symbolic)" if ch.source.present else "source (ideal)")
     loads = [f"{n} = {format_value(f.value, u)}" if f.value is not None else f"{n} (symbolic)"
@@ -124,17 +148,12 @@ def chain_text(r) -> str:
     out += ["", "Stages designed alone (ideal source, open output)"]
     for k, st in enumerate(r.stages, start=1):
         d = st.numeric
-        cut = _cell(d, "cutoff_hz", "Hz") if "cutoff_hz" in d else "—"
         out.append(f"  [{k}] {st.name} ({st.origin or 'Python'}): {st.view.form.kind}, order {st.view.form.order}, "
-                   f"cutoff {cut}, DC gain {_cell(d, 'dc_gain', '')}")
+                   f"cutoff {_cell(d, 'cutoff_hz', 'Hz')}, DC gain {_cell(d, 'dc_gain', '')}")
         out.append("      H(s) = " + transfer_line(st.view.transfer))
-    cols = _columns(r)
     out += ["", "Numbers at the given values", "  " + f"{'':<14}" + "".join(f"{h:>16}" for h, _k in _COLUMNS)]
-    for label, key, unit in _ROWS:
-        if any(key in cols[k] for _h, k in _COLUMNS):
-            out.append(f"  {label:<14}" + "".join(f"{_cell(cols[k], key, unit):>16}" for _h, k in _COLUMNS))
-    missing = [n for n, info in r.analysis.circuit.symbols().items()
-               if info["value"] is None and info["role"] != "laplace" and "tie" not in info]
+    out += [f"  {label:<14}" + "".join(f"{cell:>16}" for cell in cells) for label, *cells in _number_rows(r)]
+    missing = unvalued_names(r.analysis.circuit)
     if missing:
         out.append("  —: needs values; give " + ", ".join(missing) + " a value for these numbers")
     out.append("  connected: as wired, with the chain's source and load; conn. ideal: the same with R_s → 0, "
@@ -238,7 +257,7 @@ def chain_plot_bytes(r, fmt: str = "svg", fmin=None, fmax=None, points: int = 40
 
 
 def _md_table(head: list[str], rows: list[list[str]]) -> list[str]:
-    cell = lambda t: _md_text(str(t))
+    cell = lambda t: md_text(str(t))
     return ["| " + " | ".join(head) + " |", "|" + "---|" * len(head)] + \
         ["| " + " | ".join(cell(c) for c in row) + " |" for row in rows]
 
@@ -249,21 +268,10 @@ def _note_sections(r) -> list[tuple[str, list[str], list[list[str]]]]:
             [[str(k), st.name, st.origin or "Python", f"{st.view.form.kind}, {st.view.form.order}",
               _cell(st.numeric, "cutoff_hz", "Hz"), _cell(st.numeric, "dc_gain", "")]
              for k, st in enumerate(r.stages, start=1)])]
-    cols = _columns(r)
-    out.append(("Numbers at the given values", [""] + [h for h, _k in _COLUMNS],
-                [[label] + [_cell(cols[k], key, unit) for _h, k in _COLUMNS]
-                 for label, key, unit in _ROWS if any(key in cols[k] for _h, k in _COLUMNS)]))
+    out.append(("Numbers at the given values", [""] + [h for h, _k in _COLUMNS], _number_rows(r)))
     if r.interfaces:
-        rows = []
-        for i in r.interfaces:
-            res, lo = r.restored(i), i.loading
-            rows.append([str(i.index), f"{i.upstream} → {i.downstream}", i.node, _ratio(lo["dc"]),
-                         _ratio(lo["at_cutoff"]), _ratio(lo["max"]),
-                         "—" if not i.buffered.get("cutoff_hz") else format_value(i.buffered["cutoff_hz"], "Hz"),
-                         "—" if res["dc_gain_db"] is None else f"{res['dc_gain_db']:+.3f} dB",
-                         {True: "yes", False: "no", None: "—"}[r.needs_buffer(i)]])
-        out.append(("Interfaces", ["#", "between", "node", "Zout/Zin DC", "at fc", "largest", "buffered cutoff",
-                                   "buffer: DC gain", "buffer needed"], rows))
+        rows = [[cells[k] for k, _h in _INTERFACE_NOTE] for cells in (_interface_cells(r, i) for i in r.interfaces)]
+        out.append(("Interfaces", [h for _k, h in _INTERFACE_NOTE], rows))
     return out
 
 
@@ -300,10 +308,10 @@ def chain_markdown(r, plot_file: str | None = None) -> str:
     >>> chain_markdown(chain_report(Chain((rc, rc)))).splitlines()[0]
     '# Chain: chain'
     """
-    out = [f"# Chain: {_md_text(r.chain.title or 'chain')}"]
+    out = [f"# Chain: {md_text(r.chain.title or 'chain')}"]
     for heading, head, rows in _note_sections(r):
         out += ["", f"## {heading}", ""] + _md_table(head, rows)
-    out += [""] + [_md_text(p) + "\n" for p in _note_prose(r)]
+    out += [""] + [md_text(p) + "\n" for p in _note_prose(r)]
     if plot_file:
         out += [f"![Bode plot of the chain]({plot_file})"]
     return "\n".join(out).rstrip("\n") + "\n"
@@ -352,11 +360,6 @@ def chain_html(r, svg: str | None = None) -> str:
         body += ['<section id="bode"><h2>Frequency response</h2>', svg, "</section>"]
     body += [f"<footer>Derived exactly by symfilt {escape(__version__)}.</footer>", "</main>", "</body>", "</html>"]
     return "\n".join(body) + "\n"
-
-
-def _md_text(text: str) -> str:
-    """Text from a file shown in Markdown: no raw HTML, no table breaks."""
-    return text.replace("&", "&amp;").replace("<", "&lt;").replace(">", "&gt;").replace("|", "\\|")
 
 
 @dataclass(frozen=True)

@@ -180,7 +180,19 @@ def _indent(text: str, pad: str = "    ") -> str:
     return "\n".join(pad + line for line in text.splitlines())
 
 
-def _fmt_num(x, unit: str = "") -> str:
+def number_text(x, unit: str = "") -> str:
+    """A number with its unit in engineering notation; None (a division by zero) said in words.
+
+    Parameters
+    ----------
+    x : float or None
+    unit : str
+
+    Examples
+    --------
+    >>> number_text(2088.4, "Hz"), number_text(None)
+    ('2.088 kHz', 'undefined at these values')
+    """
     if x is None:
         return "undefined at these values"
     return format_value(x, unit)
@@ -203,6 +215,23 @@ def _symbol_rows(a: Analysis) -> list[str]:
             value = f"{name} = {info['tie']}" + ("" if info["value"] is None else f" ({value})")
         rows.append(f"  {name:<10} {info['role']:<{width}} {value}")
     return rows
+
+
+def unvalued_names(circuit) -> list[str]:
+    """The symbols a circuit gives no value (parts, fixtures, parameters; a tied part has its tie's).
+
+    Parameters
+    ----------
+    circuit : Circuit
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> unvalued_names(catalogue.build("rc-lowpass", source="symbol"))
+    ['R_s']
+    """
+    return [n for n, info in circuit.symbols().items()
+            if info["value"] is None and info["role"] != "laplace" and "tie" not in info]
 
 
 def numbers_rows(a: Analysis) -> list[str]:
@@ -278,8 +307,7 @@ def _number_notes(a: Analysis, lo: dict, hi: dict) -> list[str]:
         rows.append("  undefined: the formula divides by zero at these values (the formulas above still hold)")
     if lo.get("no_cutoff") or hi.get("no_cutoff"):
         rows.append("  none: |H| never falls 3 dB below its pass-band gain at these values (no cutoff)")
-    missing = [n for n, info in a.circuit.symbols().items()
-               if info["value"] is None and info["role"] != "laplace" and "tie" not in info]
+    missing = unvalued_names(a.circuit)
     if missing and any(k not in d for d in (lo, hi) for k in ("cutoff_hz", "dc_gain") if k in lo or k in hi):
         rows.append("  needs values: give " + ", ".join(missing) + " a value for these numbers")
     for key, d in (("loaded", lo), ("ideal", hi)):
@@ -542,7 +570,7 @@ def _render_quantity(a: Analysis, quantity: str) -> str:
             e = impedance_display(getattr(st, key))
         lines.append(f"{label}, {k:<6} = {one_line(e)}")
     if key == "cutoff" and "low_edge_hz" in a.numeric["loaded"]:
-        f = lambda d, x: _fmt_num(d.get(x), "Hz")
+        f = lambda d, x: number_text(d.get(x), "Hz")
         lo, hi = a.numeric["loaded"], a.numeric["ideal"]
         lines.append(f"band edges (Hz), loaded = {f(lo, 'low_edge_hz')} … {f(lo, 'high_edge_hz')}, "
                      f"ideal = {f(hi, 'low_edge_hz')} … {f(hi, 'high_edge_hz')}")
@@ -552,55 +580,6 @@ def _render_quantity(a: Analysis, quantity: str) -> str:
         if lo is not None or hi is not None:
             unit = "Hz" if hz.endswith("_hz") else ""
             name = {"cutoff_hz": "cutoff (Hz)", "f0_hz": "f0 (Hz)"}.get(hz, label)
-            f = (lambda v: _fmt_num(v, unit)) if unit else (lambda v: "undefined" if v is None else f"{v:.6g}")
+            f = (lambda v: number_text(v, unit)) if unit else (lambda v: "undefined" if v is None else f"{v:.6g}")
             lines.append(f"{name}, loaded = {f(lo)}, ideal = {f(hi)}")
     return "\n".join(lines) + "\n"
-
-
-def render_demo(results) -> str:
-    """The demo's short report: loaded versus ideal cutoff and DC gain for each stage.
-
-    Parameters
-    ----------
-    results : sequence of Analysis
-
-    Examples
-    --------
-    >>> from symfilt.model import demo
-    >>> from symfilt.analysis.stage import analyse
-    >>> print(render_demo([analyse(demo.passive_stage(), sensitivity=False)]).splitlines()[0])
-    symfilt demo: a humidity probe (10 kΩ output resistance) into an ADC input (22 kΩ ‖ 100 pF)
-    """
-    c0 = results[0].circuit
-    head = (f"symfilt demo: a humidity probe ({format_value(c0.source.value, 'Ω')} output resistance) into an ADC input "
-            f"({format_value(c0.load_resistance.value, 'Ω')} ‖ {format_value(c0.load_capacitance.value, 'F')})")
-    out = [head, "", f"  {'stage':<34}{'cutoff ideal':>14}{'cutoff loaded':>15}{'shift':>9}{'DC gain ideal':>15}{'loaded':>9}"]
-    for a in results:
-        lo, hi = a.numeric["loaded"], a.numeric["ideal"]
-        shift = a.ratio("cutoff_hz")
-        name = a.circuit.title.split(", ")[-1]
-        out.append(f"  {name:<34}{_fmt_num(hi.get('cutoff_hz'), 'Hz'):>14}{_fmt_num(lo.get('cutoff_hz'), 'Hz'):>15}"
-                   f"{_demo_shift(shift):>9}"
-                   f"{hi.get('dc_gain', 0):>15.4f}{lo.get('dc_gain', 0):>9.4f}")
-    out.append("")
-    for a in results:
-        name = a.circuit.title.split(", ")[-1]
-        margins = [(x.opamp, x.loaded.numbers["phase_margin_deg"]) for x in a.loops
-                   if x.loaded.numbers.get("phase_margin_deg") is not None]
-        if margins:
-            out.append(f"  {name}: phase margin loaded " + ", ".join(f"{n} {pm:.1f}°" for n, pm in margins))
-        else:
-            out.append(f"  {name}: ωc loaded = {one_line(a.loaded.cutoff.value)}")
-    out += ["",
-            "  The passive stage's cutoff and gain depend on the probe and the ADC; the buffered one holds",
-            "  its response, within its op-amps' limits: finite gain and bandwidth, and an output resistance",
-            "  that meets the ADC's capacitance inside the loop. Try: symfilt derive @rc-lowpass, symfilt catalogue;",
-            "  from the repository, symfilt chain examples/geophone_chain/chain.toml (where a buffer pays) and",
-            "  symfilt noise examples/demo_noise_passive.toml (the passive stage's noise against a 16-bit LSB)."]
-    return "\n".join(out) + "\n"
-
-
-def _demo_shift(shift: float | None) -> str:
-    if shift is None:
-        return ""
-    return f"{(shift - 1) * 100:+.1f}%"
