@@ -31,6 +31,32 @@ def _finite(values) -> list[float]:
     return [float(v) for v in values if math.isfinite(float(v))]
 
 
+def magnitude_limits(finite: list[float], floors=()) -> tuple[float, float]:
+    """The magnitude axis of a Bode plot, in dB: at most :data:`DEPTH_DB` deep below the top (a
+    notch would otherwise take the whole axis), stop-band floors kept in view, a small margin.
+
+    Parameters
+    ----------
+    finite : list of float
+        Every finite magnitude drawn, in dB (at least one).
+    floors : sequence of float
+        Floor levels drawn, in dB.
+
+    Examples
+    --------
+    >>> magnitude_limits([0.0, -40.0])
+    (-42.0, 2.0)
+    >>> magnitude_limits([0.0, -300.0])
+    (-105.0, 5.0)
+    """
+    top = max(finite)
+    bottom = max(min(finite), top - DEPTH_DB)
+    if floors:
+        bottom = min(bottom, min(floors) - 6.0)  # the floor line stays in view
+    pad = max(1.0, 0.05 * (top - bottom))
+    return bottom - pad, top + pad
+
+
 def _figure(data):
     from symfilt.model.values import format_value
 
@@ -127,12 +153,7 @@ def finish_axes(mag, ph, f, finite: list[float], floors: list[float], title: str
     ph.xaxis.set_major_formatter(FuncFormatter(lambda x, _pos: format_value(x, "Hz") if x > 0 else ""))
     ph.xaxis.set_minor_formatter(NullFormatter())
     if finite:
-        top = max(finite)
-        bottom = max(min(finite), top - DEPTH_DB)
-        if floors:
-            bottom = min(bottom, min(floors) - 6.0)  # the floor line stays in view
-        pad = max(1.0, 0.05 * (top - bottom))
-        mag.set_ylim(bottom - pad, top + pad)
+        mag.set_ylim(*magnitude_limits(finite, floors))
     mag.set_ylabel("|H| / dB")
     ph.set_ylabel("phase / degrees")
     ph.set_xlabel("frequency")

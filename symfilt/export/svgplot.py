@@ -12,6 +12,7 @@ from __future__ import annotations
 import math
 from html import escape
 
+from symfilt.export.plot import COLOURS, magnitude_limits
 from symfilt.model.values import format_value
 
 #: Canvas size in px, and the plot area's margins (left, right, top, bottom).
@@ -19,10 +20,8 @@ WIDTH, HEIGHT = 760, 560
 _LEFT, _RIGHT, _TOP, _GAP = 64, 24, 36, 18
 #: Heights of the magnitude and phase panels.
 _MAG_H, _PH_H = 290, 170
-#: Colours and dash patterns of the views (the plot module's palette).
-_STYLE = {"loaded": ("#a23b2a", None), "ideal": ("#2f5d8a", "7 4")}
-#: Depth of the magnitude axis below its top, in dB.
-DEPTH_DB = 100.0
+#: Colours (the plot module's palette) and SVG dash patterns of the views.
+_STYLE = {"loaded": (COLOURS["loaded"], None), "ideal": (COLOURS["ideal"], "7 4")}
 
 
 def _nice_step(span: float, target: int = 6) -> float:
@@ -116,14 +115,10 @@ def bode_svg(data) -> str:
                   if v[1] is not None)  # a view left out (a fixture without a value) has no curve
     floors = {k: v for k, v in getattr(data, "floors", {}).items() if k in {view for view, _d, _p in views}}
     mags = [x for _v, db, _p in views for x in _finite(db)]
-    top = max(mags) if mags else 0.0
-    bottom = max(min(mags), top - DEPTH_DB) if mags else -40.0
-    if floors:
-        bottom = min(bottom, min(floors.values()) - 6.0)
-    pad = max(1.0, 0.05 * (top - bottom))
+    low, high = magnitude_limits(mags, list(floors.values())) if mags else (-42.0, 2.0)
     phases = [x for _v, _d, ph in views for x in _finite(ph)] or [0.0]
     ppad = max(5.0, 0.05 * (max(phases) - min(phases)))
-    mag = _Panel(_TOP, _MAG_H, f[0], f[-1], bottom - pad, top + pad)
+    mag = _Panel(_TOP, _MAG_H, f[0], f[-1], low, high)
     ph = _Panel(_TOP + _MAG_H + _GAP, _PH_H, f[0], f[-1], min(phases) - ppad, max(phases) + ppad)
     out = [f'<svg xmlns="http://www.w3.org/2000/svg" viewBox="0 0 {WIDTH} {HEIGHT}" font-family="sans-serif" '
            'font-size="11" role="img" aria-label="Bode plot">',
