@@ -246,11 +246,9 @@ def _low_order(coeffs) -> tuple[float, int] | None:
     return None
 
 
-def _dc_ratio(zout: NetworkFunction, zin: NetworkFunction, values) -> float | None:
-    """|Zout/Zin| as s -> 0, from the lowest terms of each (0 or inf when the powers differ)."""
-    a, b = zout.coefficient_values(values), zin.coefficient_values(values)
-    if a is None or b is None:
-        return None
+def _dc_ratio(a, b) -> float:
+    """|Zout/Zin| as s -> 0 from the coefficient lists (lowest power first) of Zout (``a``) and Zin
+    (``b``): from the lowest terms of each, 0 or inf when their powers of s differ."""
     terms = [_low_order(p) for p in (*a, *b)]
     if terms[0] is None:  # Zout = 0 (an ideal op-amp's output)
         return 0.0
@@ -268,12 +266,18 @@ def _dc_ratio(zout: NetworkFunction, zin: NetworkFunction, values) -> float | No
 def _loading(zout: NetworkFunction, zin: NetworkFunction, values, fc: float | None) -> dict:
     import numpy as np
 
-    out = {"dc": _dc_ratio(zout, zin, values), "at_cutoff": None, "max": None, "max_at_hz": None, "cutoff_hz": fc}
-    if fc is None or zout.coefficient_values(values) is None or zin.coefficient_values(values) is None:
+    out = {"dc": None, "at_cutoff": None, "max": None, "max_at_hz": None, "cutoff_hz": fc}
+    a, b = zout.coefficient_values(values), zin.coefficient_values(values)  # lowest power first; None: no values
+    if a is None or b is None:
+        return out
+    out["dc"] = _dc_ratio(a, b)
+    if fc is None:
         return out
     f = np.geomspace(fc / 10**BAND_DECADES, fc, 301)
+    sv = 2j * np.pi * f
+    at = lambda cs: np.polyval(cs[::-1], sv)
     with np.errstate(all="ignore"):
-        ratio = np.abs(zout.evaluate(values, 2j * np.pi * f) / zin.evaluate(values, 2j * np.pi * f))
+        ratio = np.abs(at(a[0]) * at(b[1]) / (at(a[1]) * at(b[0])))
     ratio = np.where(np.isfinite(ratio), ratio, np.inf)
     out["at_cutoff"] = float(ratio[-1])
     k = int(np.argmax(ratio))
@@ -380,7 +384,7 @@ def chain_sweep(r: ChainResult, fmin: float | None = None, fmax: float | None = 
     """
     import numpy as np
 
-    from symfilt.analysis.bode import missing_values, transfer_sweep
+    from symfilt.analysis.bode import default_range, missing_values, transfer_sweep
     from symfilt.errors import UsageError
 
     values = r.analysis.circuit.values()
@@ -391,9 +395,8 @@ def chain_sweep(r: ChainResult, fmin: float | None = None, fmax: float | None = 
     marks = [d.get(k) for d in (r.analysis.numeric["loaded"], r.analysis.numeric["ideal"], r.product_numeric,
                                 r.buffered_numeric) for k in ("cutoff_hz", "f0_hz", "low_edge_hz", "high_edge_hz")]
     marks = [m for m in marks if m]
-    centre = marks or [1e3]
-    lo = fmin if fmin is not None else 10 ** (math.floor(math.log10(min(centre))) - 2)
-    hi = fmax if fmax is not None else 10 ** (math.ceil(math.log10(max(centre))) + 2)
+    lo, hi = default_range({"chain": {str(k): m for k, m in enumerate(marks)}})
+    lo, hi = (fmin if fmin is not None else lo), (fmax if fmax is not None else hi)
     if not 0 < lo < hi:
         raise UsageError("chain plot", f"the range {lo:g} .. {hi:g} Hz is empty", "give --fmin below --fmax")
     f = np.geomspace(lo, hi, max(2, int(points)))
