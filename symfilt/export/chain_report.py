@@ -194,24 +194,21 @@ def chain_dict(r) -> dict:
     >>> sorted(chain_dict(chain_report(Chain((rc, rc)))))[:4]
     ['buffered', 'connected', 'interfaces', 'product']
     """
-    from symfilt.export.json import analysis_dict, numeric_dict, stage_dict
+    from symfilt.export.json import analysis_dict, json_value, numeric_dict, stage_dict
 
     def view(st, numbers):
         d = stage_dict(st)
         return {**{k: v for k, v in d.items() if k not in ("input_impedance", "output_impedance", "sensitivity")},
                 "numeric": numeric_dict({"v": numbers})["v"]}
 
-    def num(x):
-        return None if x is None or (isinstance(x, float) and not math.isfinite(x)) else x
-
     interfaces = []
     for i in r.interfaces:
-        loading = {k: num(v) for k, v in i.loading.items()}
+        loading = {k: json_value(v) for k, v in i.loading.items()}
         loading["dc_open"] = i.loading["dc"] is not None and math.isinf(i.loading["dc"])
         interfaces.append({"index": i.index, "node": i.node, "upstream": i.upstream, "downstream": i.downstream,
                            "zout": str(i.zout.as_expr()), "zin": str(i.zin.as_expr()), "loading": loading,
                            "buffered": numeric_dict({"v": i.buffered})["v"],
-                           "restored": {k: num(v) for k, v in r.restored(i).items()},
+                           "restored": {k: json_value(v) for k, v in r.restored(i).items()},
                            "needs_buffer": r.needs_buffer(i)})
     w = r.worst()
     return {"title": r.chain.title, "tolerance": r.tolerance,

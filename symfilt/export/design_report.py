@@ -16,17 +16,11 @@ from symfilt.model.values import format_value
 from symfilt.model.stamps import SOURCE_NODE
 from symfilt.export.text import one_line
 from symfilt.export.findings import describe, describe_all
+from symfilt.export.json import json_float
 
 _PART_UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
 _QUANTITY_UNITS = {"cutoff": "Hz", "w0": "Hz", "q": "", "dc-gain": ""}
 _SPREAD_LABELS = {"cutoff_hz": ("cutoff", "Hz"), "f0_hz": ("f0", "Hz"), "q": ("Q", ""), "dc_gain": ("DC gain", "")}
-
-
-def _num(x):
-    if x is None:
-        return None
-    x = float(x)
-    return x if math.isfinite(x) else None
 
 
 def _s(e):
@@ -69,15 +63,15 @@ def size_dict(r) -> dict:
         "target": {"quantity": r.quantity, "value": float(r.target), "unit": _QUANTITY_UNITS[r.quantity] or None},
         "exact": _s(r.exact),
         "exact_note": describe(r.exact_note) or None,
-        "value": _num(r.value),
+        "value": json_float(r.value),
         "method": r.method,
-        "solutions": [_num(v) for v in r.solutions],
+        "solutions": [json_float(v) for v in r.solutions],
         "series": r.series,
-        "neighbours": [{"value": _num(n.values[first]), "loaded": _num(n.loaded), "ideal": _num(n.ideal),
-                        "error_pct": _num(n.error_pct), "ideal_error_pct": _num(n.ideal_error_pct),
-                        "values": {k: _num(v) for k, v in n.values.items()}} for n in r.neighbours],
+        "neighbours": [{"value": json_float(n.values[first]), "loaded": json_float(n.loaded),
+                        "ideal": json_float(n.ideal), "error_pct": json_float(n.error_pct), "ideal_error_pct": json_float(n.ideal_error_pct),
+                        "values": {k: json_float(v) for k, v in n.values.items()}} for n in r.neighbours],
         "held_in_ratio": {k: str(v) for k, v in r.ratio.items()} if len(r.vary) > 1 else None,
-        "present": _num(r.present),
+        "present": json_float(r.present),
         "notes": describe_all(r.notes),
     }
 
@@ -152,14 +146,14 @@ def spread_dict(r) -> dict:
     """
     quantities = {}
     for k, q in r.quantities.items():
-        row = {key: _num(getattr(q, key)) for key in _STAT_KEYS}
-        row.update({"worst_method": q.worst_method, "linear_low": _num(q.linear_low), "linear_high": _num(q.linear_high),
-                    "corner_low": _num(q.corner_low), "corner_high": _num(q.corner_high),
-                    "std_linear": _num(q.std_linear), "undefined": q.undefined})
+        row = {key: json_float(getattr(q, key)) for key in _STAT_KEYS}
+        row.update({"worst_method": q.worst_method, "linear_low": json_float(q.linear_low),
+                    "linear_high": json_float(q.linear_high), "corner_low": json_float(q.corner_low), "corner_high": json_float(q.corner_high),
+                    "std_linear": json_float(q.std_linear), "undefined": q.undefined})
         quantities[k] = row
     return {"runs": r.runs, "seed": r.seed, "distribution": r.distribution,
-            "tolerances": {k: _num(v) for k, v in r.tolerances.items()}, "quantities": quantities,
-            "sensitivities": {k: {n: _num(v) for n, v in row.items()} for k, row in r.sensitivities.items()},
+            "tolerances": {k: json_float(v) for k, v in r.tolerances.items()}, "quantities": quantities,
+            "sensitivities": {k: {n: json_float(v) for n, v in row.items()} for k, row in r.sensitivities.items()},
             "notes": describe_all(r.notes)}
 
 
@@ -330,11 +324,11 @@ def drive_dict(r) -> dict:
     return {
         "amplitude_v": r.amplitude,
         "frequency_hz": r.frequency,
-        "opamps": {d.name: {"iout_peak_a": _num(d.iout_peak_a), "vout_peak_v": _num(d.vout_peak_v),
-                            "slew_v_per_us": _num(d.slew_v_per_us), "node": d.node,
-                            "branches": [{"part": b.part, "to": "source" if b.node == SOURCE_NODE else b.node, "peak_a": _num(b.peak_a)} for b in d.branches],
-                            "other_peak_a": _num(d.other_peak_a), "iout_max_a": _num(d.iout_max_a),
-                            "slew_limit_v_per_us": _num(d.slew_limit_v_per_us), "iout_exceeded": d.iout_exceeded,
+        "opamps": {d.name: {"iout_peak_a": json_float(d.iout_peak_a), "vout_peak_v": json_float(d.vout_peak_v),
+                            "slew_v_per_us": json_float(d.slew_v_per_us), "node": d.node,
+                            "branches": [{"part": b.part, "to": "source" if b.node == SOURCE_NODE else b.node, "peak_a": json_float(b.peak_a)} for b in d.branches],
+                            "other_peak_a": json_float(d.other_peak_a), "iout_max_a": json_float(d.iout_max_a),
+                            "slew_limit_v_per_us": json_float(d.slew_limit_v_per_us), "iout_exceeded": d.iout_exceeded,
                             "slew_exceeded": d.slew_exceeded,
                             "vout_transfer": None if d.vout_transfer is None else str(d.vout_transfer.as_expr())}
                    for d in r.opamps},
@@ -404,10 +398,10 @@ def opamp_error_dict(e) -> dict:
     def block(numeric):
         if numeric is None:
             return None
-        out = {k: _num(v) for k, v in numeric.items()}
+        out = {k: json_float(v) for k, v in numeric.items()}
         for k in ("error", "first_order"):
             if k in numeric:
-                out[f"{k}_percent"] = None if numeric[k] is None else _num(100 * numeric[k])
+                out[f"{k}_percent"] = None if numeric[k] is None else json_float(100 * numeric[k])
         return out
 
     return {

@@ -11,16 +11,10 @@ import math
 
 from symfilt.export.findings import describe_all
 from symfilt.model.values import format_value
+from symfilt.export.json import json_float
 
 _PART_UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
 _QUANTITY_UNITS = {"cutoff": "Hz", "w0": "Hz", "q": "", "dc-gain": ""}
-
-
-def _num(x):
-    if x is None:
-        return None
-    x = float(x)
-    return x if math.isfinite(x) else None
 
 
 def _fmt(x, unit: str = "") -> str:
@@ -118,16 +112,16 @@ def joint_dict(r) -> dict:
         "held_in_ratio": {n: str(v) for n, v in r.ratio.items()} if any(len(g) > 1 for g in r.groups) else None,
         "targets": [{"quantity": q, "value": float(v), "unit": _QUANTITY_UNITS[q] or None, "alignment": a}
                     for q, v, a in r.targets],
-        "solution": {n: _num(v) for n, v in r.solution.items()},
+        "solution": {n: json_float(v) for n, v in r.solution.items()},
         "solutions": r.solutions,
         "series": r.series,
-        "chosen": {n: _num(v) for n, v in r.chosen.values.items()},
-        "candidates": [{"values": {n: _num(v) for n, v in c.values.items()},
-                        "loaded": {q: _num(v) for q, v in c.loaded.items()},
-                        "ideal": {q: _num(v) for q, v in c.ideal.items()},
-                        "error_pct": {q: _num(v) for q, v in c.error_pct.items()},
-                        "worst_pct": _num(c.worst_pct)} for c in r.candidates],
-        "present": {q: _num(v) for q, v in r.present.items()} or None,
+        "chosen": {n: json_float(v) for n, v in r.chosen.values.items()},
+        "candidates": [{"values": {n: json_float(v) for n, v in c.values.items()},
+                        "loaded": {q: json_float(v) for q, v in c.loaded.items()},
+                        "ideal": {q: json_float(v) for q, v in c.ideal.items()},
+                        "error_pct": {q: json_float(v) for q, v in c.error_pct.items()},
+                        "worst_pct": json_float(c.worst_pct)} for c in r.candidates],
+        "present": {q: json_float(v) for q, v in r.present.items()} or None,
         "notes": describe_all(r.notes),
     }
 

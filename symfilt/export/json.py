@@ -21,12 +21,41 @@ def _s(e):
     return str(e)
 
 
-def _num(x):
+def json_value(x):
+    """A number for JSON as it is, a float that is not finite as None (JSON has no infinity).
+
+    Parameters
+    ----------
+    x : number or None
+
+    Examples
+    --------
+    >>> json_value(3), json_value(float("inf")), json_value(None)
+    (3, None, None)
+    """
     if x is None:
         return None
     if isinstance(x, float) and not math.isfinite(x):
         return None
     return x
+
+
+def json_float(x) -> float | None:
+    """A number for JSON as a float, None when it is None or not finite.
+
+    Parameters
+    ----------
+    x : number or None
+
+    Examples
+    --------
+    >>> json_float(3), json_float(float("nan"))
+    (3.0, None)
+    """
+    if x is None:
+        return None
+    x = float(x)
+    return x if math.isfinite(x) else None
 
 
 def transfer_text(h) -> str:
@@ -145,7 +174,7 @@ def numeric_dict(numeric: dict) -> dict:
     >>> numeric_dict({"loaded": {"dc_gain": float("inf")}, "ideal": {"dc_gain": 1.0}})
     {'loaded': {'dc_gain': None}, 'ideal': {'dc_gain': 1.0}}
     """
-    return {k: {kk: (_num(vv) if not isinstance(vv, (dict, list)) else vv) for kk, vv in v.items()}
+    return {k: {kk: (json_value(vv) if not isinstance(vv, (dict, list)) else vv) for kk, vv in v.items()}
             for k, v in numeric.items()}
 
 
@@ -183,7 +212,7 @@ def analysis_dict(a: Analysis, extra: dict | None = None) -> dict:
         "loaded": stage_dict(a.loaded),
         "ideal": stage_dict(a.ideal),
         "numeric": numeric,
-        "ratios": {key: _num(a.ratio(key)) for key in ("cutoff_hz", "f0_hz", "q", "dc_gain")
+        "ratios": {key: json_value(a.ratio(key)) for key in ("cutoff_hz", "f0_hz", "q", "dc_gain")
                    if a.ratio(key) is not None},
         "sum_rules": {"checked": [{"quantity": r.quantity, "group": r.group, "expected": r.expected,
                                    "sum": _s(r.total), "holds": r.holds} for r in a.rules],

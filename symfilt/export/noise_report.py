@@ -17,17 +17,11 @@ import math
 from symfilt.export.findings import describe_all
 from symfilt.export.text import one_line
 from symfilt.model.values import format_value
+from symfilt.export.json import json_float
 
 #: Views in the order they are shown.
 VIEWS = (("loaded", "loaded"), ("ideal", "ideal"))
 _DENSITY = "V/√Hz"
-
-
-def _num(x):
-    if x is None:
-        return None
-    x = float(x)
-    return x if math.isfinite(x) else None
 
 
 def number_text(x, unit: str, digits: int = 4) -> str:
@@ -214,15 +208,15 @@ def _form_dict(form):
 
 def _view_dict(view, terms) -> dict:
     return {
-        "density_v_per_rthz": [_num(x) for x in view.density],
-        "input_density_v_per_rthz": [_num(x) for x in view.input_density],
+        "density_v_per_rthz": [json_float(x) for x in view.density],
+        "input_density_v_per_rthz": [json_float(x) for x in view.input_density],
         "density_form": _form_dict(view.density_closed),
-        "power_v2": _num(view.power), "rms_v": _num(view.rms), "method": view.method,
-        "gain": _num(view.gain), "input_rms_v": _num(view.input_rms),
-        "whole_power_v2": _num(view.whole_power), "whole_form": _form_dict(view.whole_closed),
-        "contributors": [{"name": c.name, "kind": c.kind, "part": c.part, "share": _num(c.share),
-                          "power_v2": _num(c.power), "rms_v": _num(c.rms),
-                          "density_v_per_rthz": [_num(x) for x in c.density]} for c in view.contributions],
+        "power_v2": json_float(view.power), "rms_v": json_float(view.rms), "method": view.method,
+        "gain": json_float(view.gain), "input_rms_v": json_float(view.input_rms),
+        "whole_power_v2": json_float(view.whole_power), "whole_form": _form_dict(view.whole_closed),
+        "contributors": [{"name": c.name, "kind": c.kind, "part": c.part, "share": json_float(c.share),
+                          "power_v2": json_float(c.power), "rms_v": json_float(c.rms),
+                          "density_v_per_rthz": [json_float(x) for x in c.density]} for c in view.contributions],
         "transfers": {t.source.name: str(t.transfer.as_expr()) for t in terms},
     }
 
@@ -246,16 +240,16 @@ def noise_dict(r) -> dict:
     n = r.analysis
     a = r.adc
     return {
-        "title": n.circuit.title, "temperature_k": _num(n.spec.temperature),
-        "band_hz": None if r.loaded.band is None else [_num(x) for x in r.loaded.band],
+        "title": n.circuit.title, "temperature_k": json_float(n.spec.temperature),
+        "band_hz": None if r.loaded.band is None else [json_float(x) for x in r.loaded.band],
         "frequencies_hz": list(r.loaded.frequencies),
         "sources": [{"name": t.source.name, "kind": t.source.kind, "part": t.source.part,
                      "level": str(t.source.level), "unit": t.source.unit,
-                     "corner_hz": _num(t.source.corner)} for t in n.loaded],
+                     "corner_hz": json_float(t.source.corner)} for t in n.loaded],
         "loaded": _view_dict(r.loaded, n.loaded), "ideal": _view_dict(r.ideal, n.ideal),
         "adc": None if a is None else {"bits": a.bits, "full_scale_v": a.full_scale, "lsb_v": a.lsb,
                                        "quantisation_rms_v": a.quantisation_rms,
-                                       "ratio": {k: _num(v) for k, v in a.ratio.items()}, "below_lsb": a.below},
+                                       "ratio": {k: json_float(v) for k, v in a.ratio.items()}, "below_lsb": a.below},
         "findings": describe_all(r.findings),
     }
 
