@@ -25,21 +25,16 @@ take their place); its ``[probes]`` are not used either.
 
 from __future__ import annotations
 
-import difflib
 from pathlib import Path
 
 from symfilt.errors import CircuitFileError, SymfiltError
 from symfilt.model.chain import MAX_STAGES, Chain, ChainStage
 from symfilt.model.circuit import Fixture, clip_name
 from symfilt.model.circuit_file import MAX_TITLE, load_circuit, read_text_file, read_toml
+from symfilt.model.names import suggest
 
 _TOP = {"title", "source", "load", "stage"}
 _STAGE = {"name", "circuit", "values"}
-
-
-def _suggest(word: str, choices) -> str:
-    close = difflib.get_close_matches(word, sorted(choices), n=1)
-    return f"did you mean {close[0]}? " if close else ""
 
 
 def _stage(k: int, spec, name: str, base: Path) -> ChainStage:
@@ -49,7 +44,7 @@ def _stage(k: int, spec, name: str, base: Path) -> ChainStage:
     extra = set(spec) - _STAGE
     if extra:
         key = sorted(extra)[0]
-        raise CircuitFileError(where, f"unknown key {clip_name(key)!r}", _suggest(key, _STAGE) + "use circuit, name, values")
+        raise CircuitFileError(where, f"unknown key {clip_name(key)!r}", suggest(key, _STAGE) + "use circuit, name, values")
     ref = spec.get("circuit")
     if not isinstance(ref, str) or not ref.strip():
         raise CircuitFileError(where, "no circuit", "write circuit = \"stage.toml\" or circuit = \"@rc-lowpass\"")
@@ -106,7 +101,7 @@ def parse_chain_text(text: str, name: str = "<text>", base: Path | str = ".") ->
     if unknown:
         key = sorted(unknown)[0]
         raise CircuitFileError(name, f"unknown section or key {clip_name(key)!r}",
-                               _suggest(key, _TOP) + "a chain file has title, [source], [load] and [[stage]] tables")
+                               suggest(key, _TOP) + "a chain file has title, [source], [load] and [[stage]] tables")
     stages = data.get("stage")
     if not isinstance(stages, list) or not stages:
         raise CircuitFileError(name, "no [[stage]] tables", "add one [[stage]] table per stage, in signal order")
@@ -124,7 +119,7 @@ def parse_chain_text(text: str, name: str = "<text>", base: Path | str = ".") ->
         if set(t) - keys:
             bad = sorted(set(t) - keys)[0]
             raise CircuitFileError(f"{name} [{key}]", f"unknown key {clip_name(bad)!r}",
-                                   _suggest(bad, keys) + "use " + " and ".join(sorted(keys)))
+                                   suggest(bad, keys) + "use " + " and ".join(sorted(keys)))
         tables[key] = t
     base = Path(base)
     built = tuple(_stage(k, spec, name, base) for k, spec in enumerate(stages, start=1))

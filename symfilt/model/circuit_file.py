@@ -11,7 +11,6 @@ circuit's own errors (:class:`~symfilt.errors.CircuitError`,
 
 from __future__ import annotations
 
-import difflib
 import os
 import re
 import stat
@@ -24,6 +23,7 @@ from symfilt.errors import ArgumentTypeError, CircuitFileError, SizeLimitError, 
 from symfilt.model.noise import noise_from_dict
 from symfilt.model.sweep import note_sweep
 from symfilt.model.structure import MAX_PARTS
+from symfilt.model.names import suggest
 from symfilt.model.values import format_value
 
 #: Largest circuit file read, in bytes.
@@ -228,7 +228,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
     if unknown:
         key = sorted(unknown)[0]
         raise CircuitFileError(name, f"unknown section or key {clip_name(key)!r}",
-                               _suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parameters], "
+                               suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parameters], "
                                "[parts], [probes], [noise], [note]")
     title = data.get("title", "")
     if not isinstance(title, str):
@@ -248,7 +248,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
         if extra:
             key = sorted(extra)[0]
             raise CircuitFileError(f"{name} [{label}]", f"unknown key {clip_name(key)!r}",
-                                   _suggest(key, keys) + "use " + " and ".join(sorted(keys)))
+                                   suggest(key, keys) + "use " + " and ".join(sorted(keys)))
     parts_table = data.get("parts")
     if not isinstance(parts_table, dict) or not parts_table:
         raise CircuitFileError(name, "no [parts] table", "add [parts] with one line per part")
@@ -285,11 +285,6 @@ def _file_place(where: str) -> str:
         if where.startswith(plain):
             return section + where[len(plain):]
     return where
-
-
-def _suggest(word: str, choices) -> str:
-    close = difflib.get_close_matches(word, sorted(choices), n=1)
-    return f"did you mean {close[0]}? " if close else ""
 
 
 def _port(v, where: str) -> str:
@@ -339,12 +334,12 @@ def _part(pname: str, spec, name: str) -> Part:
     if not isinstance(kind, str) or kind not in PART_PINS:
         shown = f"{clip_name(kind)!r}" if isinstance(kind, str) else clip_name(kind)
         raise CircuitFileError(where, f"unknown kind {shown}" if kind is not None else "no kind given",
-                               (_suggest(kind, PART_PINS) if isinstance(kind, str) else "") + "use one of " + ", ".join(PART_PINS))
+                               (suggest(kind, PART_PINS) if isinstance(kind, str) else "") + "use one of " + ", ".join(PART_PINS))
     extra = set(spec) - _PART_KEYS[kind]
     if extra:
         key = sorted(extra)[0]
         raise CircuitFileError(where, f"unknown key {clip_name(key)!r} for a {kind}",
-                               _suggest(key, _PART_KEYS[kind]) + "use " + ", ".join(sorted(_PART_KEYS[kind])))
+                               suggest(key, _PART_KEYS[kind]) + "use " + ", ".join(sorted(_PART_KEYS[kind])))
     try:
         if kind == "opamp":
             missing = [pin for pin in ("plus", "minus", "out") if pin not in spec]

@@ -6,6 +6,7 @@
 
 from __future__ import annotations
 
+import difflib
 import keyword
 import re
 import unicodedata
@@ -219,3 +220,19 @@ def confusable_hint(name: str, others) -> str:
             return f"{name} looks the same as {other} but is another name: {holder} holds {points}; retype it in ASCII"
     return ""
 
+
+def suggest(word: str, choices) -> str:
+    """``"did you mean X? "`` for the choice closest to a misspelt key, or ``""``.
+
+    Parameters
+    ----------
+    word : str
+    choices : iterable of str
+
+    Examples
+    --------
+    >>> suggest("valeu", ["kind", "nodes", "value"]), suggest("zzz", ["value"])
+    ('did you mean value? ', '')
+    """
+    close = difflib.get_close_matches(word, sorted(choices), n=1)
+    return f"did you mean {close[0]}? " if close else ""

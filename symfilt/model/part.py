@@ -5,7 +5,6 @@
 
 from __future__ import annotations
 
-import difflib
 from dataclasses import dataclass, field
 from typing import Iterable
 
@@ -13,7 +12,7 @@ import sympy
 
 from symfilt.errors import ArgumentTypeError, CircuitError
 from symfilt.model.fixture import Fixture
-from symfilt.model.names import check_symbol_name, clip_name, node_name
+from symfilt.model.names import check_symbol_name, clip_name, node_name, suggest
 from symfilt.model.opamp import check_opamp_options, opamp_parameters
 from symfilt.model.expression import parse_tie, rkm_value, tie_text
 from symfilt.model.ties import TIEABLE
@@ -269,9 +268,9 @@ class Part:
         check_symbol_name(name, where)
         extras = {"pole2": pole2, "rout": rout, "rin": rin, "cin": cin}
         if not isinstance(kind, str) or kind not in PART_PINS:
-            close = difflib.get_close_matches(kind, PART_PINS, n=1) if isinstance(kind, str) else []
+            hint = suggest(kind, PART_PINS) if isinstance(kind, str) else ""
             raise CircuitError(where, f"unknown kind {clip_name(kind)!r}" if isinstance(kind, str) else f"unknown kind {clip_name(kind)}",
-                               (f"did you mean {close[0]}? " if close else "") + "use one of " + ", ".join(PART_PINS))
+                               hint + "use one of " + ", ".join(PART_PINS))
         if isinstance(nodes, (str, bytes)) or not isinstance(nodes, Iterable):
             raise CircuitError(where, "the nodes must be a list", "list the pins: " + ", ".join(PART_PINS[kind]))
         nodes = list(nodes)

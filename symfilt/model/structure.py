@@ -33,7 +33,7 @@ from typing import TYPE_CHECKING
 import sympy
 
 from symfilt.errors import CircuitError, SizeLimitError
-from symfilt.model.names import clip_name, confusable_hint
+from symfilt.model.names import clip_name, confusable_hint, suggest
 
 if TYPE_CHECKING:  # pragma: no cover
     from symfilt.model.circuit import Circuit
@@ -152,8 +152,6 @@ def check_probes(circuit: "Circuit") -> None:
     ...
     symfilt.errors.CircuitError: probe mdi: node mdi is not in the circuit, did you mean mid? probe one of in, mid
     """
-    import difflib
-
     from symfilt.model.circuit import GROUND
 
     if len(circuit.probes) > MAX_PROBES:
@@ -169,9 +167,8 @@ def check_probes(circuit: "Circuit") -> None:
         if node == GROUND:
             raise CircuitError(where, "the probe is on ground", "name a node the signal is on")
         if node not in nodes:
-            close = difflib.get_close_matches(node, nodes, n=1)
-            hint = f"did you mean {close[0]}? " if close else ""
-            hint = (confusable_hint(node, nodes) + "; ") if confusable_hint(node, nodes) else hint
+            look_alike = confusable_hint(node, nodes)
+            hint = f"{look_alike}; " if look_alike else suggest(node, nodes)
             raise CircuitError(where, f"node {clip_name(node)} is not in the circuit",
                                f"{hint}probe one of {', '.join(clip_name(n) for n in nodes[:12])}")
 
