@@ -175,7 +175,7 @@ def probes(circuit: Circuit, nodes=(), *, max_terms: int = DEFAULT_MAX_TERMS,
     >>> [p.label for p in probes(catalogue.build("sallen-key-lowpass"), ["a"])]
     ['a']
     """
-    c = circuit.with_probes(nodes)
+    c = circuit.with_probes(nodes) if nodes else circuit  # its own probes were checked when it was built
     return tuple(probe(c, node, label, max_terms=max_terms, progress=progress) for label, node in c.probes)
 
 
