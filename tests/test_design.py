@@ -183,7 +183,7 @@ def test_size_sallen_key_q_every_solution_meets_target():
     assert len(r.solutions) == 2  # Q(R2) rises then falls
     for r2 in r.solutions:
         q = math.sqrt(6850 * r2 * 10e-9 * 3.3e-9) / (3.3e-9 * (6850 + r2))
-        assert rel(q, 0.7071) < 1e-9
+        assert rel(q, 1 / math.sqrt(2)) < 1e-9  # 0.7071 is read as 1/sqrt(2) (targets.recognise)
     assert r.value == max(r.solutions, key=lambda v: -abs(math.log(v / 15000)))
 
 

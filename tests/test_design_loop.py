@@ -72,6 +72,23 @@ def test_alignment_words_are_checked():
     assert str(e.value) == "--target: butterworth names a Q, not a w0, write q=butterworth"
 
 
+def test_decimal_targets_are_read_as_the_closed_form_they_round_from(run_cli):
+    # Butterworth Q = 1/sqrt(2) = 0.70711 and Bessel Q = 1/sqrt(3) = 0.57735 (REFERENCES.md,
+    # Mancini, coefficient tables; Thomson 1949): written to 4 and 3 digits they are the radicals.
+    assert parse_target("q=0.7071") == ("q", 1 / sympy.sqrt(2))
+    assert parse_target("q=0.577") == ("q", 1 / sympy.sqrt(3))
+    assert parse_target("dc-gain=-0.333") == ("dc-gain", sympy.Rational(-1, 3))
+    # not within half a unit of the last digit, or too few digits: kept exactly as written
+    assert parse_target("q=0.7072") == ("q", sympy.Rational("0.7072"))
+    assert parse_target("q=0.71") == ("q", sympy.Rational("0.71"))
+    assert parse_target("cutoff=1.414k") == ("cutoff", 1414)
+    # the sizing closed form then reads with the radical, not 49999041/100000000
+    code, out, _err = run_cli("size", "@sallen-key-lowpass", "--target", "q=0.7071", "--vary", "C1")
+    assert code == 0
+    assert "for a loaded q of 0.7071 (sqrt(2)/2)" in out
+    assert "C1 = C2·(R1 + R2 + R_s)^2/(2·R2·(R1 + R_s))" in out
+
+
 # --- joint w0 and Q of a Sallen-Key with its source resistance ------------------------------
 
 C1, C2 = 10e-9, 3.3e-9  # the catalogue's Sallen-Key capacitors

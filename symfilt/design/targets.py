@@ -10,6 +10,9 @@ from __future__ import annotations
 
 from types import MappingProxyType
 
+import re
+from fractions import Fraction
+
 import sympy
 
 from symfilt.errors import UsageError
@@ -26,6 +29,72 @@ _ALIASES = {"cutoff": "cutoff", "fc": "cutoff", "w0": "w0", "f0": "w0", "q": "q"
 #: Named second-order alignments for a Q target: Butterworth 1/sqrt(2) (maximally flat
 #: magnitude), Bessel 1/sqrt(3) (maximally flat delay; B2(s) = s^2 + 3s + 3).
 ALIGNMENTS = MappingProxyType({"butterworth": 1 / sympy.sqrt(2), "bessel": 1 / sympy.sqrt(3)})
+
+
+_DECIMAL = re.compile(r"^[+-]?(\d*)\.(\d+)$")
+#: Largest numerator and denominator tried by :func:`recognise`.
+_SMALL = 12
+
+
+def _candidates():
+    """Simple closed forms, simplest first: p/q and sqrt(p/q) with p, q <= 12 (each once)."""
+    seen, out = set(), []
+    for total in range(2, 2 * _SMALL + 1):
+        for q in range(1, min(total, _SMALL + 1)):
+            p = total - q
+            if p > _SMALL or Fraction(p, q) in seen:
+                continue
+            seen.add(Fraction(p, q))
+            out.append(sympy.Rational(p, q))
+            root = sympy.sqrt(sympy.Rational(p, q))
+            if not root.is_Rational:
+                out.append(root)
+    return out
+
+
+def recognise(text: str, value: sympy.Rational) -> sympy.Expr:
+    """The simplest p/q or sqrt(p/q) (p, q <= 12) that a decimal equals to the digits given.
+
+    A dimensionless target written as a decimal of three or more significant digits is taken
+    as the simple closed form it rounds from, when there is one within half a unit of its last
+    digit (0.7071 -> 1/sqrt(2), 0.333 -> 1/3); otherwise the decimal stays as written. The
+    result differs from the decimal by less than the precision the decimal states, so a sizing
+    result is the same to those digits, and its closed form reads without constants such as
+    49999041/100000000.
+
+    Parameters
+    ----------
+    text : str
+        The value as written.
+    value : sympy.Rational
+        Its exact value (``parse_value(text)``).
+
+    Returns
+    -------
+    sympy.Expr
+        The recognised form, or ``value``.
+
+    Examples
+    --------
+    >>> recognise("0.7071", sympy.Rational("0.7071")), recognise("0.577", sympy.Rational("0.577"))
+    (sqrt(2)/2, sqrt(3)/3)
+    >>> recognise("-0.333", sympy.Rational("-0.333")), recognise("0.7", sympy.Rational("0.7"))
+    (-1/3, 7/10)
+    >>> recognise("0.5412", sympy.Rational("0.5412"))
+    1353/2500
+    """
+    m = _DECIMAL.match(text.strip())
+    digits = m and (m.group(1) + m.group(2)).lstrip("0")
+    if not m or len(digits) < 3:
+        return value
+    tol = sympy.Rational(1, 2 * 10 ** len(m.group(2)))
+    mag = abs(value)
+    for c in _candidates():
+        if c == mag:
+            return value
+        if abs(c - mag) < tol and abs(float(c) - float(mag)) < float(tol):
+            return c if value > 0 else -c
+    return value
 
 
 def parse_target(text: str) -> tuple[str, sympy.Rational]:
@@ -72,7 +141,8 @@ def _target_value(key: str, raw):
     if word and word[:1].isalpha() and key == "q":
         raise UsageError("--target", f"unknown alignment {raw!r}",
                          "use q=butterworth, q=bessel or a number such as q=0.7071")
-    return parse_value(raw, where="--target")
+    value = parse_value(raw, where="--target")
+    return recognise(raw, value) if isinstance(raw, str) and key in ("q", "dc-gain") else value
 
 
 def read_target(target) -> tuple[str, sympy.Expr]:
@@ -104,4 +174,4 @@ def read_target(target) -> tuple[str, sympy.Expr]:
     return quantity, tval
 
 
-__all__ = ["ALIGNMENTS", "TARGETS", "parse_target", "read_target"]
+__all__ = ["ALIGNMENTS", "TARGETS", "parse_target", "read_target", "recognise"]

@@ -76,6 +76,16 @@ def size_dict(r) -> dict:
     }
 
 
+def _exact_target(target) -> str:
+    """`` (√2/2)`` after a target that is not a terminating decimal (a recognised or named form)."""
+    q = target.q if getattr(target, "is_Rational", False) else None
+    while q and q % 2 == 0:
+        q //= 2
+    while q and q % 5 == 0:
+        q //= 5
+    return "" if q == 1 else f" ({one_line(target)})"
+
+
 def size_text(r) -> str:
     """A :class:`~symfilt.design.sizing.SizeResult` as a plain-text report.
 
@@ -100,7 +110,7 @@ def size_text(r) -> str:
     held = ""
     if len(r.vary) > 1:
         held = " (with " + ", ".join(f"{n} = {one_line(r.ratio[n])}·{first}" for n in r.vary[1:]) + ")"
-    lines = [f"Size {first}{held} for a loaded {r.quantity} of {_fmt(float(r.target), qunit)}"]
+    lines = [f"Size {first}{held} for a loaded {r.quantity} of {_fmt(float(r.target), qunit)}{_exact_target(r.target)}"]
     if r.exact is not None:
         lines.append(f"  exact      {first} = {one_line(r.exact)}")
     else:
