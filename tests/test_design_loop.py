@@ -326,3 +326,20 @@ def test_load_limit_json_carries_actual_factor_shift_and_combined(run_cli):
     assert rel(rs["shift"], 4700 / 5300 - 1) < 1e-9
     thev = 1 / (1 / (600 + 4700) + 1 / 10000)
     assert rel(data["load_limit_combined"]["shift"], 4700 / thev - 1) < 1e-9
+
+
+def test_a_sized_resistor_reads_as_the_ideal_part_less_what_the_source_takes(run_cli):
+    # Loaded RC low-pass: w_c = 1/(C ((R_s + R) || R_L)) (REFERENCES.md, first order; Thevenin,
+    # common practice), so R = R_L/(w_c C R_L - 1) - R_s: the hand form, written as such.
+    code, out, _err = run_cli("size", "@rc-lowpass", "--target", "cutoff=2k", "--vary", "R1")
+    assert code == 0 and "  exact      R1 = R_L/(4000·pi·C1·R_L - 1) - R_s\n" in out
+    # Non-inverting stage's input RC, open load behind the op-amp: R = 1/(w_c C) - R_s.
+    code, out, _err = run_cli("size", "@noninverting-lowpass", "--target", "cutoff=2k", "--vary", "R1")
+    assert code == 0 and "  exact      R1 = -R_s + 1/(4000·pi·C1)\n" in out
+    # the split is checked equal to the solved form, which the JSON keeps
+    from symfilt.export.design_report import solution_form
+    c1, rl, rs, r1 = sympy.symbols("C1 R_L R_s R1", positive=True)
+    w = 4000 * sympy.pi
+    hand = rl / (w * c1 * rl - 1) - rs
+    solved = sympy.solve(sympy.Eq(w, (r1 + rs + rl) / (c1 * rl * (r1 + rs))), r1)[0]
+    assert sympy.simplify(solution_form(solved) - hand) == 0

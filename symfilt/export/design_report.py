@@ -11,6 +11,8 @@ import io
 import math
 from pathlib import Path
 
+import sympy
+
 from symfilt.errors import OutputError
 from symfilt.model.values import format_value
 from symfilt.model.stamps import SOURCE_NODE
@@ -76,6 +78,50 @@ def size_dict(r) -> dict:
     }
 
 
+#: Fixture symbols a sized part's closed form is split over (partial fractions), and the
+#: largest expression (characters) tried.
+_FIXTURES = ("R_s", "R_L", "C_L")
+_SPLIT_LIMIT = 400
+
+
+def solution_form(expr):
+    """The shortest of a closed form and its partial fractions in each fixture symbol.
+
+    A part sized for a target usually reads best as the ideal part plus or minus what a fixture
+    takes: ``R_L/(4000·pi·C1·R_L - 1) - R_s`` rather than one fraction over a negative
+    denominator. Each candidate is checked equal to ``expr`` (``sympy.cancel`` of the difference).
+
+    Parameters
+    ----------
+    expr : sympy.Expr
+        The closed form.
+
+    Returns
+    -------
+    sympy.Expr
+        Equal to ``expr``.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> C1, R_L, R_s = sympy.symbols("C1 R_L R_s", positive=True)
+    >>> solution_form(-(4000*sympy.pi*C1*R_L*R_s - R_L - R_s)/(4000*sympy.pi*C1*R_L - 1))
+    R_L/(4000*pi*C1*R_L - 1) - R_s
+    """
+    if len(str(expr)) > _SPLIT_LIMIT:
+        return expr
+    best, size = expr, len(one_line(expr))
+    for x in sorted((x for x in expr.free_symbols if x.name in _FIXTURES), key=lambda x: x.name):
+        try:
+            c = sympy.apart(expr, x)
+        except (sympy.PolynomialError, NotImplementedError):
+            continue
+        n = len(one_line(c))
+        if n < size and sympy.cancel(c - expr) == 0:
+            best, size = c, n
+    return best
+
+
 def _exact_target(target) -> str:
     """`` (√2/2)`` after a target that is not a terminating decimal (a recognised or named form)."""
     q = target.q if getattr(target, "is_Rational", False) else None
@@ -112,7 +158,7 @@ def size_text(r) -> str:
         held = " (with " + ", ".join(f"{n} = {one_line(r.ratio[n])}·{first}" for n in r.vary[1:]) + ")"
     lines = [f"Size {first}{held} for a loaded {r.quantity} of {_fmt(float(r.target), qunit)}{_exact_target(r.target)}"]
     if r.exact is not None:
-        lines.append(f"  exact      {first} = {one_line(r.exact)}")
+        lines.append(f"  exact      {first} = {one_line(solution_form(r.exact))}")
     else:
         lines.append(f"  exact      none: {describe(r.exact_note)}")
     lines.append(f"  value      {first} = {_fmt(r.value, unit)}  ({r.method})")
