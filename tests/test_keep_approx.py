@@ -253,3 +253,23 @@ def test_approx_in_text_json_and_note(run_cli, tmp_path):
     assert code == 0
     md = note.read_text()
     assert "## Approximation" in md and md.index("## Approximation") < md.index("## Sensitivities")
+
+
+def test_keep_load_limit_needs_the_fixtures(run_cli):
+    code, out, err = run_cli("derive", "@rc-lowpass", "--keep", "R1", "--load-limit", "2%")
+    assert code == 2 and out == ""
+    assert err.strip() == ("error: --load-limit: the load limits need R_L, R_s as symbols, "
+                           "keep them too: --keep R1,R_L,R_s")
+    full = report(catalogue.build("rc-lowpass"), load_limit=0.02, sensitivity=False)
+    part = report(catalogue.build("rc-lowpass"), keep="R1,R_L,R_s", load_limit=0.02, sensitivity=False)
+    assert [x.value for x in part.load_limits] == pytest.approx([x.value for x in full.load_limits], rel=1e-12)
+
+
+def test_keep_leaves_out_the_opamp_error_and_keeps_opamp_symbols():
+    c = catalogue.build("sallen-key-lowpass").with_opamp_model("single-pole", gain="100k", gbw="1M")
+    full = report(c, sensitivity=False)
+    r = report(c, keep="R1,GBW_U1", sensitivity=False)
+    assert full.opamp_error is not None and r.opamp_error is None  # documented: needs every symbol
+    assert {x.name for x in r.analysis.ideal.transfer.free_symbols()} == {"s", "R1", "GBW_U1"}
+    assert r.analysis.numeric["loaded"]["cutoff_hz"] == pytest.approx(full.analysis.numeric["loaded"]["cutoff_hz"],
+                                                                      rel=1e-9)

@@ -26,7 +26,7 @@ from symfilt.design.opamp_error import OPAMP_ERROR_MODELS, OpampError, needs_opa
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.errors import SingularCircuitError, SizeLimitError, UsageError
 from symfilt.model.circuit import Circuit
-from symfilt.model.keep import keep_warnings
+from symfilt.model.keep import fixture_values, keep_warnings
 from symfilt.model.opamp import OPAMP_MODELS
 from symfilt.model.safe import require, require_budget
 from symfilt.model.structure import structure_warnings
@@ -124,10 +124,16 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     if load_limit is not None and not 0 < load_limit < 1:
         raise UsageError("load_limit", f"{load_limit!r} is outside 0..1", "give a fraction such as 0.02")
     shown = circuit.with_opamp_model(opamp_model) if opamp_model else circuit
-    shown = shown.keeping(keep) if keep is not None else shown
+    shown = shown.keeping(keep) if keep is not None else shown  # the op-amp error (an expansion in 1/A) is left out
+    fixed = sorted(x.name for x in fixture_values(shown))
+    if load_limit is not None and fixed:  # the load limits vary R_s and R_L: they must stay symbols
+        raise UsageError("--load-limit", f"the load limits need {', '.join(fixed)} as symbols",
+                         "keep them too: --keep " + ",".join(list(shown.keep) + fixed))
     shown = shown.with_probes(probes) if probes else shown  # an unknown node is refused before any algebra
     error = None
-    if opamp_model in OPAMP_ERROR_MODELS and any(p.kind == "opamp" for p in circuit.parts):
+    if shown.keep is not None:
+        pass  # partly symbolic: no op-amp error section (its expansion in 1/A needs every symbol)
+    elif opamp_model in OPAMP_ERROR_MODELS and any(p.kind == "opamp" for p in circuit.parts):
         error = opamp_error(circuit, opamp_model, max_terms=max_terms or DEFAULT_MAX_TERMS)
     elif opamp_model is None and needs_opamp_error(circuit):
         try:
