@@ -63,6 +63,33 @@ def state_variable() -> Circuit:
     return Circuit.build(parts, source="symbol", load="symbol", title="State-variable filter, single-pole op-amps")
 
 
+def valued_cascade_40() -> Circuit:
+    """A 40-part circuit with values (for ``--keep``): four gain Sallen-Key low-pass stages in cascade.
+
+    A scenario of our own: an input guard (R_in, C_in), then four stages, each an RC section
+    (Rp, Cp) into a Sallen-Key low-pass with gain (R_a, R_b, C_a, C_b, Rf, Rg and a single-pole
+    op-amp U with its gain and gain-bandwidth), and an output isolation resistor with a
+    snubber (R_iso, C_snub). Source 50 Ω, load 10 kΩ, every part valued.
+
+    Examples
+    --------
+    >>> c = valued_cascade_40()
+    >>> len(c.parts), all(p.value is not None for p in c.parts if p.kind != "opamp")
+    (40, True)
+    """
+    parts = [R("R_in", "in", "g", "100"), C("C_in", "g", "0", "1n")]
+    node = "g"
+    for k in range(1, 5):
+        p_, a, b, o, n = f"p{k}", f"a{k}", f"b{k}", f"o{k}", f"n{k}"
+        parts += [R(f"Rp{k}", node, p_, "1k"), C(f"Cp{k}", p_, "0", "1n"),
+                  R(f"Ra{k}", p_, a, "10k"), R(f"Rb{k}", a, b, "12k"), C(f"Ca{k}", a, o, f"{10 + 5 * k}n"),
+                  C(f"Cb{k}", b, "0", "4.7n"), R(f"Rf{k}", o, n, "5.6k"), R(f"Rg{k}", n, "0", "10k"),
+                  U(f"U{k}", b, n, o, model="single-pole", gain="200k", gbw="10M")]
+        node = o
+    parts += [R("R_iso", node, "out", "47"), C("C_snub", "out", "0", "100p")]
+    return Circuit.build(parts, source="50", load="10k", title="Four gain Sallen-Key stages, valued (40 parts)")
+
+
 def catalogue_circuit(name: str) -> Circuit:
     """A catalogue circuit as built by default (its values do not enter the symbolic derivation).
 
@@ -98,4 +125,5 @@ def build_case(name: str) -> Circuit:
         return rc_ladder(int(name.split("-", 1)[1]))
     if name.startswith("@"):
         return catalogue_circuit(name[1:])
-    return {"sk-cascade-1pole": sallen_key_cascade, "state-variable-1pole": state_variable}[name]()
+    return {"sk-cascade-1pole": sallen_key_cascade, "state-variable-1pole": state_variable,
+            "valued-cascade-40": valued_cascade_40}[name]()

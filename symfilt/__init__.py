@@ -28,6 +28,7 @@ from symfilt.version import __version__
 #: command of the command line, which imports ``symfilt.cli``, loads only what it runs.
 _PUBLIC = {
     "Analysis": "symfilt.analysis.stage",
+    "Approximation": "symfilt.analysis.approx",
     "Circuit": "symfilt.model.circuit",
     "Equivalence": "symfilt.claims.judge",
     "Finding": "symfilt.analysis.findings",
@@ -44,6 +45,7 @@ _PUBLIC = {
     "Report": "symfilt.design.report",
     "StandardForm": "symfilt.analysis.forms",
     "analyse": "symfilt.analysis.stage",
+    "approximate": "symfilt.analysis.approx",
     "assert_equivalent": "symfilt.export.check_report",
     "catalogue": "symfilt.model.catalogue",
     "circuit_to_text": "symfilt.model.circuit_file",

@@ -18,6 +18,7 @@ import warnings
 import click
 
 from symfilt.errors import SymfiltError, UsageError
+from symfilt.export.approx_report import keep_or_file, parse_approx, partly_symbolic_options
 from symfilt.export.console import StatusLine, write_stderr, write_stdout
 from symfilt.model.opamp import OPAMP_MODELS
 
@@ -200,7 +201,8 @@ def cli():
               help="Also the sensitivities of |H(jw)| at this frequency in Hz (e.g. 10k).")
 @click.option("--probe", "probe_nodes", multiple=True, metavar="NODE",
               help="Also V(NODE)/V(source), the load staying on the output port (repeatable).")
-def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_terms, at, probe_nodes):
+@partly_symbolic_options
+def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_terms, at, probe_nodes, keep, approx):
     """Derive H(s), gains, w0, Q, cutoff, Zin, Zout and sensitivities of CIRCUIT (a file or @name)."""
     from symfilt.design.report import report
     from symfilt.export.formats import derive_renderer
@@ -210,7 +212,8 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     tol = _percent(load_limit, "--load-limit") if load_limit is not None else None
     r = report(c, load_limit=tol, opamp_model=opamp_model, substitute=substitute,
                sensitivity=quantity in (None, "sensitivity"), max_terms=max_terms,
-               progress=_progress_from_first_stage(), at=at, probes=probe_nodes)
+               progress=_progress_from_first_stage(), at=at, probes=probe_nodes,
+               keep=keep_or_file(circuit, keep), approx=parse_approx(approx))
     for w in r.warnings:
         _say(f"warning: {w}")
     _emit(render(r, quantity))
@@ -393,7 +396,8 @@ def _frequency(text, where: str):
 @click.option("--opamp-model", type=click.Choice(list(OPAMP_MODELS)),
               help="Switch every op-amp to this model.")
 @click.option("--fragment", is_flag=True, help="A .tex note as the equations-only align fragment.")
-def note(circuit, output, fmin, fmax, opamp_model, fragment):
+@partly_symbolic_options
+def note(circuit, output, fmin, fmax, opamp_model, fragment, keep, approx):
     """Write a design note for CIRCUIT (a file or @name): parts, equations, loaded vs ideal, sensitivities, Bode plot."""
     from symfilt.export.formats import note_kind
     from symfilt.export.note_write import write_note
@@ -404,6 +408,7 @@ def note(circuit, output, fmin, fmax, opamp_model, fragment):
     c = load(circuit)
     if opamp_model:
         c = c.with_opamp_model(opamp_model)
+    c, bound = c.keeping(keep_or_file(circuit, keep)), parse_approx(approx)
     spec, noise_data = _noise_spec(circuit, c), None
     if spec.given:  # the note gets a noise section when the file has noise data
         from symfilt.analysis.noise_numbers import noise_report
@@ -413,7 +418,8 @@ def note(circuit, output, fmin, fmax, opamp_model, fragment):
 
     written = write_note(c, output, protect=_inputs(circuit), source=circuit, noise=noise_data,
                          sweep=load_note_sweep(circuit), fragment=fragment,
-                         fmin=_frequency(fmin, "--fmin"), fmax=_frequency(fmax, "--fmax"), progress=_progress())
+                         fmin=_frequency(fmin, "--fmin"), fmax=_frequency(fmax, "--fmax"), progress=_progress(),
+                         approx=bound)
     _wrote(*written)
 
 

@@ -78,7 +78,7 @@ def test_byte_order_mark_is_accepted():
 
 def test_unknown_section_and_keys():
     assert message(CircuitFileError, GOOD + "[part]\n") == (
-        "stage.toml: unknown section or key 'part', did you mean parts? use only title, [ports], [source], "
+        "stage.toml: unknown section or key 'part', did you mean parts? use only title, keep, [ports], [source], "
         "[load], [parameters], [parts], [probes], [noise], [note]")
     assert message(CircuitFileError, GOOD.replace('value = "4k7"', 'valeu = "4k7"')) == (
         "stage.toml [parts] R1: unknown key 'valeu' for a resistor, did you mean value? use kind, nodes, value")

@@ -32,6 +32,7 @@ from symfilt.analysis.numeric import magnitude_squared, positive_roots, trim
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
 from symfilt.errors import CircuitError
+from symfilt.model.keep import fixture_values
 from symfilt.model.circuit import Circuit, Part, S, part_symbol
 from symfilt.model.safe import as_sympy
 
@@ -177,7 +178,8 @@ def loops(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS, progress=None
                                  progress=progress).to_sympy()
         beta = NetworkFunction(-num, den, quantity="transfer")
         views = {}
-        for key, b in (("loaded", beta), ("ideal", beta.ideal())):
+        put = fixture_values(circuit)  # partly symbolic (model.keep): the loaded view gets those values
+        for key, b in (("loaded", beta.subs(put) if put else beta), ("ideal", beta.ideal())):
             a = open_loop_gain(part)
             t = None if a is None else NetworkFunction.from_expr(a * b.as_expr())
             missing = () if t is None else tuple(sorted(x.name for x in t.free_symbols() - {S} - set(values)))

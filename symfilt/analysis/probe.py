@@ -17,6 +17,7 @@ from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.stage import Analysis, StageResult, settled_numbers, substitute
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.solve import solve_unknown
+from symfilt.model.keep import fixture_values
 from symfilt.model.circuit import Circuit, S
 from symfilt.model.names import node_name
 from symfilt.model.safe import require
@@ -147,7 +148,8 @@ def probe(circuit: Circuit, node: str, label: str | None = None, *, max_terms: i
                           where=f"probe {label or node}")
     h = NetworkFunction.from_ratio(ratio, "transfer")
     values = circuit.values()
-    (loaded, lo), (ideal, hi) = transfer_view(h, values), transfer_view(h.ideal(), values)
+    put = fixture_values(circuit)  # partly symbolic (model.keep): the loaded view gets those values
+    (loaded, lo), (ideal, hi) = transfer_view(h.subs(put) if put else h, values), transfer_view(h.ideal(), values)
     return Probe(label or node, node, loaded, ideal, {"loaded": lo, "ideal": hi})
 
 

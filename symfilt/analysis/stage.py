@@ -15,6 +15,7 @@ from typing import Callable
 import sympy
 
 from symfilt.model.circuit import LOAD_C, LOAD_R, SOURCE_R, Circuit
+from symfilt.model.keep import fixed_values, fixture_values
 from symfilt.model.opamp import opamp_parameters
 from symfilt.model.structure import unreached_error
 from symfilt.model.values import parse_value
@@ -383,9 +384,11 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
         progress("standard forms and sensitivities")
     table_info = circuit.symbols()
     table = {name: info["symbol"] for name, info in table_info.items()}
-    symbols = [sym for name, sym in table.items() if name != "s"]
+    put = fixture_values(circuit)  # partly symbolic: the fixtures not kept, into the loaded view only
+    gone = set(fixed_values(circuit)) | {x.name for x in put}
+    symbols = [sym for name, sym in table.items() if name != "s" and name not in gone]
     at_hz = None if at is None else _frequency(at)
-    loaded = _stage(h, zin, zout, symbols, sensitivity, at_hz)
+    loaded = _stage(*(f.subs(put) if put else f for f in (h, zin, zout)), symbols, sensitivity, at_hz)
     ideal = _stage(h.ideal(), zin.ideal(), zout.ideal(), symbols, sensitivity, at_hz)
     values = circuit.values()
     numeric = {"loaded": settled_numbers(loaded, values), "ideal": settled_numbers(ideal, values)}
@@ -394,7 +397,7 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
             numeric[key]["sensitivity"] = numeric_sensitivities(st, values)
     rules: tuple = ()
     note = None
-    if sensitivity:
+    if sensitivity and circuit.keep is None:  # the sum rules need every symbol
         params = {n: info["unit"] for n, info in table_info.items() if info["role"] == "parameter"}
         unknown = tuple(n for n, unit in params.items() if unit is None and table[n] in h.free_symbols())
         if unknown:

@@ -18,6 +18,7 @@ from __future__ import annotations
 from dataclasses import dataclass
 from typing import Callable
 
+from symfilt.analysis.approx import approximations
 from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.analysis.probe import Probe, probes as probe_all, substitute_probe as put_probe_values
 from symfilt.analysis.stage import Analysis, analyse, substitute as put_values
@@ -25,6 +26,7 @@ from symfilt.design.opamp_error import OPAMP_ERROR_MODELS, OpampError, needs_opa
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.errors import SingularCircuitError, SizeLimitError, UsageError
 from symfilt.model.circuit import Circuit
+from symfilt.model.keep import fixture_values, keep_warnings
 from symfilt.model.opamp import OPAMP_MODELS
 from symfilt.model.safe import require, require_budget
 from symfilt.model.structure import structure_warnings
@@ -50,6 +52,8 @@ class Report:
         Structural warnings about the circuit (legal but suspicious), in order.
     probes : tuple of Probe
         The circuit's ``[probes]`` and the nodes asked for (:mod:`symfilt.analysis.probe`).
+    approx : tuple of (str, Approximation)
+        The approximate H(s) of each view when asked for (:mod:`symfilt.analysis.approx`).
 
     Examples
     --------
@@ -64,11 +68,13 @@ class Report:
     opamp_error: OpampError | None
     warnings: tuple
     probes: tuple[Probe, ...] = ()
+    approx: tuple = ()
 
 
 def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: str | None = None,
            substitute: bool = False, sensitivity: bool = True, max_terms: int | None = None,
-           progress: Callable[[str], None] | None = None, at=None, probes=()) -> Report:
+           progress: Callable[[str], None] | None = None, at=None, probes=(), keep=None,
+           approx: float | None = None) -> Report:
     """Derive and analyse a circuit with everything ``symfilt derive`` shows.
 
     Parameters
@@ -93,6 +99,12 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     probes : iterable of str
         More nodes to report V(node)/V(source) for, besides the circuit's ``[probes]``
         (the load stays on the output port).
+    keep : str or iterable of str, optional
+        Derive partly symbolically: only these symbols (and s) stay symbols
+        (:meth:`Circuit.keeping <symfilt.model.circuit.Circuit.keeping>`); None: as the circuit says.
+    approx : float, optional
+        Also the approximate H(s) of each view within this measured error of |H(jw)|
+        (0.05 for 5%; :mod:`symfilt.analysis.approx`).
 
     Returns
     -------
@@ -112,19 +124,27 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     if load_limit is not None and not 0 < load_limit < 1:
         raise UsageError("load_limit", f"{load_limit!r} is outside 0..1", "give a fraction such as 0.02")
     shown = circuit.with_opamp_model(opamp_model) if opamp_model else circuit
+    shown = shown.keeping(keep) if keep is not None else shown  # the op-amp error (an expansion in 1/A) is left out
+    fixed = sorted(x.name for x in fixture_values(shown))
+    if load_limit is not None and fixed:  # the load limits vary R_s and R_L: they must stay symbols
+        raise UsageError("--load-limit", f"the load limits need {', '.join(fixed)} as symbols",
+                         "keep them too: --keep " + ",".join(list(shown.keep) + fixed))
     shown = shown.with_probes(probes) if probes else shown  # an unknown node is refused before any algebra
     error = None
-    if opamp_model in OPAMP_ERROR_MODELS and any(p.kind == "opamp" for p in circuit.parts):
+    if shown.keep is not None:
+        pass  # partly symbolic: no op-amp error section (its expansion in 1/A needs every symbol)
+    elif opamp_model in OPAMP_ERROR_MODELS and any(p.kind == "opamp" for p in circuit.parts):
         error = opamp_error(circuit, opamp_model, max_terms=max_terms or DEFAULT_MAX_TERMS)
     elif opamp_model is None and needs_opamp_error(circuit):
         try:
             error = opamp_error(circuit, None, max_terms=max_terms or DEFAULT_MAX_TERMS)
         except (UsageError, SingularCircuitError, SizeLimitError):
             error = None  # no ideal-op-amp form to compare with (no negative feedback), or too large
-    warnings = tuple(structure_warnings(shown))
+    warnings = tuple(structure_warnings(shown)) + keep_warnings(shown)
     a = analyse(shown, sensitivity=sensitivity, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress, at=at)
     limits = tuple(load_limits(a, load_limit)) if load_limit is not None else None
     found = probe_all(shown, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress)
     if substitute:
         found = tuple(put_probe_values(p, shown) for p in found)
-    return Report(shown, put_values(a) if substitute else a, limits, error, warnings, found)
+    approximate = approximations(a, approx) if approx is not None else ()
+    return Report(shown, put_values(a) if substitute else a, limits, error, warnings, found, approximate)

@@ -20,10 +20,13 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
+import math
+
 import flint
 import sympy
 
 from symfilt.model.circuit import Circuit, S, part_symbol
+from symfilt.model.keep import fixed_values
 from symfilt.model.opamp import PARAMETER
 from symfilt.model.stamps import MODES, PI, stamp_table
 
@@ -122,35 +125,42 @@ def build_system(circuit: Circuit, mode: str = "transfer", opamp: str | None = N
     ('V(in)', 'V(out)', 'V(source)', 'I(source)')
     """
     table = stamp_table(circuit, mode, opamp)
-    ctx, factor, reciprocal, symbols = _ring(circuit, table.admittances)
-    zero = ctx.from_dict({})
+    fixed = fixed_values(circuit)  # empty unless the circuit keeps only some symbols
+    ctx, factor, reciprocal, symbols = _ring(circuit, table.admittances, fixed)
+    ring = factor["s"].context()  # rational coefficients while values are put in, else ctx itself
+    zero = ring.from_dict({})
     index = {u: i for i, u in enumerate(table.unknowns)}
     rows: list[dict[int, object]] = [dict() for _ in table.unknowns]
     for st in table.stamps:
         row, c = rows[index[st.row]], index[st.column]
-        new = row.get(c, zero) + _poly(st.entry, factor, ctx)
+        new = row.get(c, zero) + _poly(st.entry, factor, ring)
         if new == 0:
             row.pop(c, None)
         else:
             row[c] = new
-    rhs = {index[u]: _poly(entry, factor, ctx) for u, entry in table.rhs}
+    rhs = {index[u]: _poly(entry, factor, ring) for u, entry in table.rhs}
+    if ring is not ctx:
+        rows, rhs = _integral_rows(rows, rhs, ctx)
     return MnaSystem(ctx=ctx, rows=tuple(rows), rhs=rhs, unknowns=tuple(u.label for u in table.unknowns),
                      target=index[table.target], reciprocal=reciprocal, symbols=symbols,
                      parts=len(circuit.parts), keys=tuple(table.unknowns))
 
 
-def _ring(circuit: Circuit, twos):
+def _ring(circuit: Circuit, twos, fixed=None):
     """The polynomial ring: (context, factor name -> polynomial, reciprocal generators, symbols).
 
     Generators: ``s``, the two-terminal parts, the controlled sources' gains, the
     op-amps' ``A_`` and ``GBW_`` (and pi), then the reciprocal generators ``G:R``
-    (1/R) and ``Y:L`` (1/(s L)).
+    (1/R) and ``Y:L`` (1/(s L)). A name in ``fixed`` (name -> exact value, a partly
+    symbolic derivation) is no generator: its factor is the number, the factors are
+    polynomials with rational coefficients, and a valued inductor's ``Y:L`` stands for 1/s.
     """
+    fixed = fixed or {}
     gen_names: list[str] = []
     symbols: dict[str, object] = {}
 
     def gen(name: str, sym) -> None:
-        if name not in symbols:
+        if name not in symbols and name not in fixed:
             gen_names.append(name)
             symbols[name] = sym
 
@@ -169,18 +179,49 @@ def _ring(circuit: Circuit, twos):
                 gen(PI, sympy.pi)
     reciprocal: dict[str, dict[str, int]] = {}
     for name, kind, _a, _b in twos:
-        if kind == "resistor":
+        if kind == "resistor" and name not in fixed:
             reciprocal[f"G:{name}"] = {name: 1}
         elif kind == "inductor":
-            reciprocal[f"Y:{name}"] = {"s": 1, name: 1}
+            reciprocal[f"Y:{name}"] = {"s": 1} if name in fixed else {"s": 1, name: 1}
     all_gens = gen_names + list(reciprocal)
     ctx = flint.fmpz_mpoly_ctx.get(tuple(all_gens), "degrevlex")
-    factor = dict(zip(all_gens, ctx.gens()))
-    admittance = {"resistor": lambda nm: factor[f"G:{nm}"], "capacitor": lambda nm: factor["s"] * factor[nm],
-                  "inductor": lambda nm: factor[f"Y:{nm}"]}
+    ring = flint.fmpq_mpoly_ctx.get(tuple(all_gens), "degrevlex") if fixed else ctx
+    factor = dict(zip(all_gens, ring.gens()))
+    one = ring.from_dict({(0,) * ring.nvars(): 1})
+    factor.update({nm: one * flint.fmpq(int(v.p), int(v.q)) for nm, v in fixed.items()})
+
+    def inverse(nm):
+        return one / factor[nm]
+
+    admittance = {"resistor": lambda nm: inverse(nm) if nm in fixed else factor[f"G:{nm}"],
+                  "capacitor": lambda nm: factor["s"] * factor[nm],
+                  "inductor": lambda nm: factor[f"Y:{nm}"] * (inverse(nm) if nm in fixed else 1)}
     for name, kind, _a, _b in twos:
         factor[f"Y:{name}"] = admittance[kind](name)
     return ctx, factor, reciprocal, symbols
+
+
+def _integral_rows(rows: list, rhs: dict, ctx):
+    """Each row (with its right-hand side) times the lcm of its coefficients' denominators, on ``ctx``.
+
+    Scaling an equation does not change the solution, so the system stays integral
+    (``fmpz_mpoly``) with the values in.
+    """
+    out_rows, out_rhs = [], {}
+    for i, row in enumerate(rows):
+        polys = list(row.values()) + ([rhs[i]] if i in rhs else [])
+        lcm = 1
+        for p in polys:
+            for c in p.coeffs():
+                lcm = math.lcm(lcm, int(c.q))
+
+        def whole(p):
+            return ctx.from_dict({e: int((c * lcm).p) for e, c in p.to_dict().items()})
+
+        out_rows.append({j: whole(p) for j, p in row.items()})
+        if i in rhs:
+            out_rhs[i] = whole(rhs[i])
+    return out_rows, out_rhs
 
 
 def _poly(entry: tuple, factor: dict, ctx):

@@ -18,6 +18,7 @@ from symfilt.engine.ties import substitute_ties
 from symfilt.model.stamps import DRIVES, SOURCE_BRANCH, Unknown
 from symfilt.errors import UsageError
 from symfilt.model.circuit import Circuit
+from symfilt.model.keep import kept_ties
 
 __all__ = ["solve_unknown"]
 
@@ -89,7 +90,7 @@ def solve_unknown(circuit: Circuit, unknown: str | None = None, *, drive: str = 
         system = replace(system, target=system.keys.index(key))
     where = where if where is not None else circuit.title or "circuit"
     ratio = solve(system, max_terms=max_terms, progress=progress, where=where, max_memory=max_memory)
-    ties = circuit.ties()
+    ties = kept_ties(circuit)  # circuit.ties(), with the values that went in first (model.keep)
     return substitute_ties(ratio, ties, where) if ties else ratio
 
 

@@ -15,6 +15,7 @@ from typing import Any
 
 from symfilt.analysis.loading import combined_shift
 from symfilt.design.opamp_error import AS_GIVEN
+from symfilt.export.approx_report import approx_dict, approx_text, keep_dict, keep_line
 from symfilt.export.findings import describe
 from symfilt.export.loop_report import loop_dict, loop_text
 from symfilt.export.probe_report import probe_dict, probe_latex, probe_text
@@ -49,8 +50,8 @@ def load_limit_dicts(limits) -> list[dict[str, Any]]:
 
 def _select_json(data: dict, quantity: str) -> dict:
     key = QUANTITY_KEYS[quantity]
-    return {"title": data["title"], "quantity": quantity,
-            "loaded": data["loaded"][key], "ideal": data["ideal"][key], "symbols": data["symbols"]}
+    return {"title": data["title"], "quantity": quantity, "loaded": data["loaded"][key], "ideal": data["ideal"][key],
+            "symbols": data["symbols"], **({"approx": data["approx"]} if "approx" in data and key == "transfer" else {})}
 
 
 def derive_dict(report, quantity: str | None = None) -> dict:
@@ -85,6 +86,10 @@ def derive_dict(report, quantity: str | None = None) -> dict:
         extra["loops"] = loop_dict(report.analysis.loops)
     if report.probes:
         extra["probes"] = probe_dict(report)
+    if report.approx:
+        extra["approx"] = approx_dict(report.approx)
+    if report.circuit.keep is not None:
+        extra["keep"] = keep_dict(report.circuit)
     data = jx.analysis_dict(report.analysis, extra)
     return _select_json(data, quantity) if quantity else data
 
@@ -134,13 +139,15 @@ def derive_text(report, quantity: str | None = None) -> str:
     """
     from symfilt.export import design_report, text
 
-    out = text.render(report.analysis, quantity, report.load_limits)
+    out = keep_line(report.circuit) + text.render(report.analysis, quantity, report.load_limits)
     if report.analysis.loops and not quantity:
         out += "\n" + loop_text(report.analysis.loops)
     if report.opamp_error is not None and not (quantity and report.opamp_error.model == AS_GIVEN):
         out += "\n" + design_report.opamp_error_text(report.opamp_error)
     if report.probes and not quantity:
         out += "\n" + probe_text(report)
+    if report.approx and quantity in (None, "transfer"):
+        out += "\n" + approx_text(report.approx)
     return out
 
 

@@ -17,6 +17,7 @@ from __future__ import annotations
 from pathlib import Path
 
 from symfilt.analysis.stage import Analysis
+from symfilt.export.approx_report import with_approx
 from symfilt.export.formats import note_kind
 from symfilt.export.latex import stage_equations
 from symfilt.export.noise_note import noise_markdown
@@ -190,7 +191,7 @@ def note_latex(a: Analysis) -> str:
 
 
 def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=None, points=None,
-               progress=None, noise=None, sweep=None, fragment: bool = False) -> list[Path]:
+               progress=None, noise=None, sweep=None, fragment: bool = False, approx: float | None = None) -> list[Path]:
     """Analyse a circuit and write its design note; the format follows the suffix (.html, .md, .tex).
 
     A Markdown note gets its Bode plot as ``<name>-bode.svg`` beside it, a LaTeX note (a
@@ -215,6 +216,8 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
         A symbol and its values (``[note] sweep``): the note adds the family of loaded curves.
     fragment : bool
         LaTeX only: today's equations-only ``align`` fragment (:func:`note_latex`), no figure.
+    approx : float, optional
+        Adds an "Approximation" section: H(s) within this measured error (:mod:`symfilt.analysis.approx`).
 
     Returns
     -------
@@ -246,8 +249,11 @@ def write_note(circuit, path, *, protect=(), source: str = "", fmin=None, fmax=N
         from symfilt.analysis.family import family_data
 
         family = family_data(a, sweep, fmin, fmax, points or 400, where=f"{source or p.name} [note] sweep")
+    from symfilt.analysis.approx import approximations
+
+    found = approximations(a, approx) if approx is not None else ()
     return write(a, p, protect=protect, source=source, fmin=fmin, fmax=fmax, points=points, error=_opamp_error(a),
-                 noise=noise, family=family)
+                 noise=noise, family=family, approx=found)
 
 
 def _opamp_error(a: Analysis):
@@ -264,11 +270,11 @@ def _opamp_error(a: Analysis):
 
 
 def _write_html(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None,
-                family=None) -> list[Path]:
+                family=None, approx=()) -> list[Path]:
     from symfilt.export.note_html import note_html
 
-    write_text_atomic(p, note_html(a, source=source, fmin=fmin, fmax=fmax, points=points, opamp_error=error,
-                                   noise=noise, family=family), protect=protect)
+    write_text_atomic(p, with_approx(note_html(a, source=source, fmin=fmin, fmax=fmax, points=points, opamp_error=error,
+                                               noise=noise, family=family), approx, "html"), protect=protect)
     return [p]
 
 
@@ -315,19 +321,21 @@ def _figures(a: Analysis, p: Path, fmt: str, protect, fmin, fmax, points, family
 
 
 def _write_latex(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None,
-                 family=None) -> list[Path]:
+                 family=None, approx=()) -> list[Path]:
     from symfilt.export.note_tex import note_latex_document
 
     written, plot_name, family_name, words = _figures(a, p, "pdf", protect, fmin, fmax, points, family)
-    write_text_atomic(p, note_latex_document(a, plot_file=plot_name, family_file=family_name, plot_words=words,
-                                             source=source, opamp_error=error), protect=protect)
+    write_text_atomic(p, with_approx(note_latex_document(a, plot_file=plot_name, family_file=family_name,
+                                                         plot_words=words, source=source, opamp_error=error),
+                                     approx, "latex"), protect=protect)
     return written + [p]
 
 
 def _write_markdown(a: Analysis, p: Path, *, protect, source, fmin, fmax, points, error=None, noise=None,
-                    family=None) -> list[Path]:
+                    family=None, approx=()) -> list[Path]:
     written, plot_name, family_name, words = _figures(a, p, "svg", protect, fmin, fmax, points, family)
-    md = note_markdown(a, plot_file=plot_name, source=source, opamp_error=error, noise=noise)
+    md = with_approx(note_markdown(a, plot_file=plot_name, source=source, opamp_error=error, noise=noise), approx,
+                     "markdown")
     extra = ([words] if plot_name and words else []) + \
         ([f"![The loaded response at each swept value, with the ideal one]({family_name})"] if family_name else [])
     if extra:

@@ -57,6 +57,9 @@ class Circuit:
     probes : tuple of (str, str)
         (label, node) pairs: more nodes whose voltage is reported against the source, with
         the load staying on ``output`` (:mod:`symfilt.analysis.probe`).
+    keep : tuple of str or None
+        None: every symbol stays symbolic (the default). Otherwise only these symbols (and
+        ``s``) do: the other values go in before the elimination (:mod:`symfilt.model.keep`).
 
     Examples
     --------
@@ -74,6 +77,7 @@ class Circuit:
     title: str = ""
     parameters: tuple[Parameter, ...] = ()
     probes: tuple[tuple[str, str], ...] = ()
+    keep: tuple[str, ...] | None = None
 
     def __post_init__(self) -> None:
         if isinstance(self.parts, (str, bytes)) or not isinstance(self.parts, (tuple, list)):
@@ -283,6 +287,28 @@ class Circuit:
         c = replace(self, probes=self.probes + tuple(extra))
         check_probes(c)
         return c
+
+    def keeping(self, names) -> "Circuit":
+        """A copy derived partly symbolically: only ``names`` (and ``s``) stay symbols.
+
+        Parameters
+        ----------
+        names : str, iterable of str or None
+            ``"R_L,R_s"`` or a list of symbol names; None goes back to fully symbolic.
+            A name that is not a symbol of the circuit is a CircuitError with a suggestion.
+
+        Examples
+        --------
+        >>> c = Circuit.build([Part.resistor("R1", "in", "out", "1k"), Part.capacitor("C1", "out", "0", "1u")],
+        ...                   load="10k")
+        >>> c.keeping("R_L").keep
+        ('R_L',)
+        """
+        if names is None:
+            return replace(self, keep=None)
+        from symfilt.model.keep import check_keep, parse_keep
+
+        return replace(self, keep=check_keep(self, parse_keep(names)))
 
     def with_opamp_model(self, model: str, gain=None, gbw=None) -> "Circuit":
         """Every op-amp switched to ``model``; parts keep their own gain and gbw values.

@@ -21,6 +21,7 @@ from pathlib import Path
 from symfilt.model.circuit import PART_PINS, Circuit, Fixture, Parameter, Part, clip_name
 from symfilt.errors import ArgumentTypeError, CircuitFileError, SizeLimitError, SymfiltError
 from symfilt.model.noise import noise_from_dict
+from symfilt.model.keep import check_keep, parse_keep
 from symfilt.model.sweep import note_sweep
 from symfilt.model.structure import MAX_PARTS
 from symfilt.model.names import suggest
@@ -31,7 +32,7 @@ MAX_FILE_BYTES = 256 * 1024
 #: Longest title, in characters.
 MAX_TITLE = 200
 
-_TOP_KEYS = {"title", "ports", "source", "load", "parameters", "parts", "probes", "noise", "note"}  # [noise]: symfilt.model.noise, [note]: .sweep
+_TOP_KEYS = {"title", "keep", "ports", "source", "load", "parameters", "parts", "probes", "noise", "note"}  # [noise]: symfilt.model.noise, [note]: .sweep
 _PART_KEYS = {
     "resistor": {"kind", "nodes", "value"},
     "capacitor": {"kind", "nodes", "value"},
@@ -228,7 +229,7 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
     if unknown:
         key = sorted(unknown)[0]
         raise CircuitFileError(name, f"unknown section or key {clip_name(key)!r}",
-                               suggest(key, _TOP_KEYS) + "use only title, [ports], [source], [load], [parameters], "
+                               suggest(key, _TOP_KEYS) + "use only title, keep, [ports], [source], [load], [parameters], "
                                "[parts], [probes], [noise], [note]")
     title = data.get("title", "")
     if not isinstance(title, str):
@@ -275,6 +276,8 @@ def circuit_from_dict(data: dict, name: str = "<data>") -> Circuit:
         raise type(exc)(f"{name} {_file_place(exc.where)}", exc.what, exc.fix) from None
     noise_from_dict(data, name, circuit)  # a bad [noise] table or en/in is refused by every command
     note_sweep(data, name)  # likewise a bad [note] table
+    if "keep" in data:  # read by derive and note (symfilt.model.keep.load_keep); a bad name is refused here
+        check_keep(circuit, parse_keep(data["keep"], f"{name} keep"), f"{name} keep")
     return circuit
 
 
