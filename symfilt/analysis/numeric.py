@@ -18,6 +18,8 @@ import math
 from typing import Callable, Mapping, Sequence
 
 import sympy
+
+from symfilt.analysis.roots import exact_roots
 from symfilt.model.safe import as_sympy
 
 #: Relative imaginary part below which a complex value counts as real.
@@ -147,10 +149,10 @@ def cutoff_polynomial(num: Sequence, den: Sequence, gain) -> list:
 
 
 def positive_roots(p: Sequence[float]) -> list[float]:
-    """Positive real roots of a polynomial (lowest coefficient first), sorted.
+    """Positive real roots of a polynomial (lowest coefficient first), sorted, each as often as its multiplicity.
 
-    The variable is scaled so that the roots are near 1 before mpmath's polyroots
-    runs, since circuit coefficients span many decades.
+    The roots come from :func:`exact_roots` on the coefficients taken exactly; a root whose
+    imaginary part is below :data:`ROOT_IMAG_TOL` of its size counts as real.
 
     Parameters
     ----------
@@ -160,35 +162,23 @@ def positive_roots(p: Sequence[float]) -> list[float]:
     Returns
     -------
     list of float
-        Empty when there is none (or the root finder does not converge).
+        Empty when there is none (or a coefficient is not finite).
 
     Examples
     --------
     >>> [round(r, 9) for r in positive_roots([-2.0, 1.0, 1.0])]  # (u - 1)(u + 2)
     [1.0]
     """
-    import mpmath
-
     p = trim(p)
     while p and p[0] == 0:
         p = p[1:]
-    n = len(p) - 1
-    if n < 1:
+    if len(p) < 2:
         return []
-    scale = (abs(p[0]) / abs(p[-1])) ** (1.0 / n)
-    q = [c * scale**k for k, c in enumerate(p)]
-    top = max(abs(c) for c in q)
-    q = [c / top for c in q]
     try:
-        roots = mpmath.polyroots(q[::-1], maxsteps=200, extraprec=200)
-    except mpmath.libmp.NoConvergence:
+        roots = exact_roots(p)
+    except ValueError:
         return []
-    out = []
-    for r in roots if isinstance(roots, list) else [roots]:
-        r = complex(r)
-        if abs(r.imag) <= ROOT_IMAG_TOL * max(1.0, abs(r.real)) and r.real > 0:
-            out.append(r.real * scale)
-    return sorted(out)
+    return sorted(r.real for r in roots if abs(r.imag) <= ROOT_IMAG_TOL * abs(r) and r.real > 0)
 
 
 def cutoff_from_coefficients(num: Sequence[float], den: Sequence[float]) -> float | None:

@@ -25,6 +25,7 @@ import sympy
 
 from symfilt.model.circuit import S
 from symfilt.analysis.network import NetworkFunction
+from symfilt.analysis.roots import exact_roots
 from symfilt.analysis.numeric import (ROOT_IMAG_TOL, cutoff_polynomial, magnitude_extrema, magnitude_squared,
                                      passband_gain, positive_roots)
 
@@ -139,8 +140,9 @@ def pole_values(poly: sympy.Poly) -> list[complex]:
     """The roots of an exact polynomial in s, found on a scaled variable.
 
     Circuit coefficients span many decades (picofarads against megohms), which can stop
-    sympy's root finder; the variable is scaled by the geometric mean root size
-    (|a0/an|^(1/n)) first, with 30 digits and a numpy fallback.
+    sympy's root finder. Rational coefficients go to :func:`~symfilt.analysis.roots.exact_roots`
+    (certified, no scaling needed); others (a coefficient with pi or a root in it) are scaled by
+    the geometric mean root size (|a0/an|^(1/n)) first, with 40 digits and a numpy fallback.
 
     Parameters
     ----------
@@ -156,9 +158,11 @@ def pole_values(poly: sympy.Poly) -> list[complex]:
     >>> sorted(round(r.real, 9) for r in pole_values(sympy.Poly(S**2 + 3 * S + 2, S)))
     [-2.0, -1.0]
     """
+    if all(c.is_Rational for c in poly.all_coeffs()):
+        return exact_roots(poly.all_coeffs()[::-1])
     import mpmath
 
-    coeffs = [c if c.is_Rational else sympy.N(c, 45) for c in poly.all_coeffs()]
+    coeffs = [sympy.N(c, 45) if not c.is_Rational else c for c in poly.all_coeffs()]
     n = len(coeffs) - 1
     while coeffs[-1] == 0:  # roots at s = 0
         coeffs.pop()
