@@ -121,7 +121,8 @@ def approx_dict(found) -> dict:
 
 
 def _percent(x: float) -> str:
-    return f"{100 * x:.3g}%"
+    """A measured error in per cent; below 1e-9 % (rounding of the float evaluation) it is 0 %."""
+    return "0%" if abs(x) < 1e-11 else f"{100 * x:.3g}%"
 
 
 def approx_text(found) -> str:
