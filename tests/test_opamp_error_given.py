@@ -109,3 +109,23 @@ def test_note_has_a_real_opamps_section(tmp_path):
     assert "error -10.1 ppm" in md and "exact one, real against ideal" in md
     plain = write_note(catalogue.build("sallen-key-lowpass"), tmp_path / "plain.md")[-1].read_text(encoding="utf-8")
     assert "Real op-amps" not in plain
+
+
+def test_second_order_cutoff_error_is_a_number_only():
+    # A second-order real cutoff over the ideal one has a root inside a root (w_c = w0
+    # sqrt(x + sqrt(x^2 + 1)), REFERENCES.md "Second-order low-pass -3 dB frequency"): its exact
+    # relative error is not shown, the number is. Unity follower with gain A: H(0) = A/(1 + A)
+    # (REFERENCES.md, "Real op-amps and the high-frequency floor").
+    e = opamp_error(catalogue.build("sallen-key-lowpass"), "gain", gain="100k")
+    assert e.cutoff_error is None
+    assert "cutoff-error-too-large" in [n.kind for n in e.notes]
+    assert e.numeric["cutoff_hz"]["error"] is not None
+    assert abs(e.numeric["dc_gain"]["error"] - (-1 / (1 + 1e5))) < 1e-12
+    # a first-order stage keeps its exact error. Inverting amplifier with finite A (Sedra & Smith,
+    # REFERENCES.md "First order"), Z2 = R2 || C1 in place of R2 and R1 + R_s in place of R1:
+    # the denominator 1 + s C1 R2 + (1 + R2/(R1 + R_s) + s C1 R2)/A has its root at
+    # w_c = (1 + (1 + R2/(R1 + R_s))/A)/(C1 R2 (1 + 1/A)), so w_c/w_ideal - 1 = R2/((A + 1)(R1 + R_s)).
+    f = opamp_error(catalogue.build("inverting-lowpass"), "gain")
+    A, R1, R2, R_s = sympy.symbols("A_U1 R1 R2 R_s", positive=True)
+    assert f.cutoff_error is not None
+    assert sympy.cancel(f.cutoff_error - R2 / ((A + 1) * (R1 + R_s))) == 0

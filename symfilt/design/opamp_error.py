@@ -244,9 +244,10 @@ def opamp_error(circuit: Circuit, model: str | None = "gain", *, gain=None, gbw=
     f_real, f_ideal = standard_form(h_real), standard_form(h_ideal)
     c_real, c_ideal = cutoff_of(f_real).value, cutoff_of(f_ideal).value
     cut_error = c_real / c_ideal - 1 if c_real is not None and c_ideal is not None else None
-    if cut_error is not None and f_real.kind != "general" and sympy.count_ops(cut_error) <= _BIG:
+    nested = cut_error is not None and _nested_radical(cut_error)
+    if cut_error is not None and f_real.kind != "general" and not nested and sympy.count_ops(cut_error) <= _BIG:
         cut_error = tidy(cut_error)
-    if cut_error is not None and (f_real.kind == "general" or sympy.count_ops(cut_error) > _SHOWN):
+    if cut_error is not None and (f_real.kind == "general" or nested or sympy.count_ops(cut_error) > _SHOWN):
         cut_error = None
         notes.append(finding("cutoff-error-too-large", exact_only=bool(extras)))
     if c_real is None:
@@ -271,6 +272,16 @@ def opamp_error(circuit: Circuit, model: str | None = "gain", *, gain=None, gbw=
                        eps, values)
     return OpampError(model, dc_ideal, dc_real, dc_error, dc_first, c_ideal, c_real, cut_error, cut_first, numeric,
                       tuple(notes))
+
+
+def _nested_radical(e) -> bool:
+    """True when a root of ``e`` holds another root (a real second-order cutoff over an ideal one).
+
+    Such an error is given as a number only: cancelling it expands the polynomials under the
+    roots (adc-driver: 2.3 s to a 58 000-character result, over the size shown anyway).
+    """
+    roots = [p for p in e.atoms(sympy.Pow) if p.exp.is_Rational and not p.exp.is_Integer]
+    return any(r is not q and r.base.has(q) for r in roots for q in roots)
 
 
 def _eps_symbols(opamps) -> dict:

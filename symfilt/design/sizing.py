@@ -178,7 +178,6 @@ def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, Finding | Non
     if poly.degree() > 8:
         return [], finding("equation-degree", degree=poly.degree())
     roots = []
-    y = sympy.Dummy("y", positive=True)
     for fac, _mult in sympy.factor_list(num, x)[1]:
         p = sympy.Poly(fac, x)
         if p.degree() == 0:
@@ -187,9 +186,42 @@ def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, Finding | Non
         k = math.gcd(*[m[0] for m in p.monoms()])
         if p.degree() // k > max_degree:
             return [], finding("equation-factor-degree", degree=p.degree())
-        fy = sympy.Add(*[c * y ** (m[0] // k) for m, c in zip(p.monoms(), p.coeffs())])
-        roots += [r if k == 1 else sympy.root(r, k) for r in sympy.solve(fy, y)]
+        roots += [r if k == 1 else sympy.root(r, k) for r in _low_degree_roots(p, x, k)]
     return roots, None
+
+
+def _low_degree_roots(p: sympy.Poly, x, k: int) -> list:
+    """The roots in y = x^k of ``p`` (a polynomial in x^k of degree 1 or 2 in y), minus root first.
+
+    -c/b, or the quadratic formula (-b -+ sqrt(b^2 - 4ac))/(2a) on the exact coefficients with
+    the square factors of the discriminant taken out of the root and the factors common to a, b
+    and that root cancelled. Sign and realness are left to the caller, which keeps only the roots
+    positive at the values. No ``sympy.solve``: its simplification of each root took 1-3 s.
+    """
+    cs = [p.coeff_monomial(x ** (k * i)) for i in range(p.degree() // k + 1)]
+    if len(cs) == 2:
+        return [-cs[0] / cs[1]]
+    c, b, a = cs
+    out, radicand = _square_part(sympy.expand(b**2 - 4 * a * c))
+    g = sympy.gcd(sympy.gcd(b, out), a)
+    b, out, a = (sympy.cancel(v / g) for v in (b, out, a))
+    h = sympy.gcd(b, out)
+    b, out = sympy.factor(sympy.cancel(b / h)), sympy.cancel(out / h)
+    d = out * sympy.sqrt(radicand)
+    den = sympy.factor(2 * a)
+    return [h * (-b - d) / den, h * (-b + d) / den]
+
+
+def _square_part(d) -> tuple:
+    """(o, r) with d = o^2·r: the squares of d's positive factors (and of its constant) taken out."""
+    coeff, factors = sympy.factor_list(d)
+    out, rest = sympy.Integer(1), sympy.Integer(1)
+    for f, m in factors:
+        if f.is_positive:
+            out, rest = out * f ** (m // 2), rest * f ** (m % 2)
+        else:
+            rest *= f**m
+    return out * sympy.sqrt(abs(coeff)), sympy.expand(sympy.sign(coeff) * rest)
 
 
 def _rational(v: float) -> sympy.Rational:
