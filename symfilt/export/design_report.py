@@ -78,18 +78,21 @@ def size_dict(r) -> dict:
     }
 
 
-#: Fixture symbols a sized part's closed form is split over (partial fractions), and the
+#: Fixture symbols a sized part's closed form is split over, and the
 #: largest expression (characters) tried.
 _FIXTURES = ("R_s", "R_L", "C_L")
 _SPLIT_LIMIT = 400
 
 
 def solution_form(expr):
-    """The shortest of a closed form and its partial fractions in each fixture symbol.
+    """The shortest of a closed form and its split over each fixture symbol, checked equal.
 
     A part sized for a target usually reads best as the ideal part plus or minus what a fixture
     takes: ``R_L/(4000·pi·C1·R_L - 1) - R_s`` rather than one fraction over a negative
-    denominator. Each candidate is checked equal to ``expr`` (``sympy.cancel`` of the difference).
+    denominator. The split over x is the quotient of the numerator by the denominator as
+    polynomials in x, each power's coefficient cancelled, plus the remainder over the
+    denominator; a form with a root in it is left as it is. Each candidate is checked equal to
+    ``expr`` (``sympy.cancel`` of the difference).
 
     Parameters
     ----------
@@ -108,14 +111,18 @@ def solution_form(expr):
     >>> solution_form(-(4000*sympy.pi*C1*R_L*R_s - R_L - R_s)/(4000*sympy.pi*C1*R_L - 1))
     R_L/(4000*pi*C1*R_L - 1) - R_s
     """
-    if len(str(expr)) > _SPLIT_LIMIT:
+    if len(str(expr)) > _SPLIT_LIMIT or any(not p.exp.is_Integer for p in expr.atoms(sympy.Pow)):
         return expr
     best, size = expr, len(one_line(expr))
+    num, den = sympy.fraction(sympy.cancel(expr))
     for x in sorted((x for x in expr.free_symbols if x.name in _FIXTURES), key=lambda x: x.name):
         try:
-            c = sympy.apart(expr, x)
-        except (sympy.PolynomialError, NotImplementedError):
+            quo, rem = sympy.div(sympy.Poly(num, x), sympy.Poly(den, x))
+        except sympy.PolynomialError:
             continue
+        if quo.is_zero:
+            continue
+        c = sympy.Add(*[sympy.cancel(k) * x**e for (e,), k in quo.terms()]) + sympy.cancel(rem.as_expr() / den)
         n = len(one_line(c))
         if n < size and sympy.cancel(c - expr) == 0:
             best, size = c, n
