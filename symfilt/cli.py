@@ -210,12 +210,14 @@ def derive(circuit, fmt, quantity, substitute, load_limit, opamp_model, max_term
     render = derive_renderer(fmt)
     c = load(circuit)
     tol = _percent(load_limit, "--load-limit") if load_limit is not None else None
+    progress = _progress_from_first_stage()
     r = report(c, load_limit=tol, opamp_model=opamp_model, substitute=substitute,
                sensitivity=quantity in (None, "sensitivity"), max_terms=max_terms,
-               progress=_progress_from_first_stage(), at=at, probes=probe_nodes,
+               progress=progress, at=at, probes=probe_nodes,
                keep=keep_or_file(circuit, keep), approx=parse_approx(approx))
     for w in r.warnings:
         _say(f"warning: {w}")
+    progress(f"writing the {fmt} report")
     _emit(render(r, quantity))
 
 

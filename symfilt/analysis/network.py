@@ -24,6 +24,7 @@ from symfilt.errors import SingularCircuitError, UsageError
 from symfilt.engine.rational import Ratio, cancel_pair, poly_to_sympy, tidy_quotient
 from symfilt.engine.polybridge import to_fmpq
 from symfilt.analysis.interop import ScipyViews
+from symfilt.analysis.coefficients import LazyCoefficients
 from symfilt.model.safe import as_sympy, require, require_budget
 
 #: Quantities derive() knows, with the MNA mode that gives each.
@@ -189,9 +190,24 @@ class NetworkFunction(ScipyViews):
 
     @cached_property
     def _coefficients(self):
+        ncs, dcs = self.lazy_coefficients()
+        return tuple(ncs), tuple(dcs)
+
+    def lazy_coefficients(self) -> tuple["LazyCoefficients", "LazyCoefficients"]:
+        """As :meth:`coefficients`, each coefficient converted to sympy only when it is read.
+
+        For a large result where only the end coefficients are needed (the DC and HF gains).
+
+        Examples
+        --------
+        >>> b, a = NetworkFunction(S, 1 + 2 * S).lazy_coefficients()
+        >>> len(a), a[0], a[-1]
+        (2, 1, 2)
+        """
+        if "_coefficients" in self.__dict__:
+            return tuple(LazyCoefficients(cs, None) for cs in self.__dict__["_coefficients"])
         ncs, dcs = self.ratio.coefficients(S)
-        conv = lambda cs: tuple(poly_to_sympy(c, self.ratio.symbols) for c in cs)
-        return conv(ncs), conv(dcs)
+        return LazyCoefficients(ncs, self.ratio.symbols), LazyCoefficients(dcs, self.ratio.symbols)
 
     def normalized(self) -> tuple[sympy.Expr, sympy.Expr]:
         """Numerator and denominator with the denominator's lowest-order coefficient made 1.

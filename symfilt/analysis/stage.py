@@ -187,7 +187,7 @@ def _stage(transfer: NetworkFunction, zin: NetworkFunction, zout: NetworkFunctio
     sens = {}
     if want_sens:
         syms = [x for x in symbols if x in transfer.free_symbols()]
-        b, a = transfer.coefficients()
+        b, a = transfer.lazy_coefficients()  # only the end coefficients are read: a large one stays unconverted
 
         def table(factors):
             return product_sensitivities(factors, syms)
@@ -391,8 +391,12 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     loaded = _stage(*(f.subs(put) if put else f for f in (h, zin, zout)), symbols, sensitivity, at_hz)
     ideal = _stage(h.ideal(), zin.ideal(), zout.ideal(), symbols, sensitivity, at_hz)
     values = circuit.values()
+    if progress:
+        progress("numbers at the values")
     numeric = {"loaded": settled_numbers(loaded, values), "ideal": settled_numbers(ideal, values)}
     if sensitivity:
+        if progress:
+            progress("sensitivities at the values")
         for key, st in (("loaded", loaded), ("ideal", ideal)):
             numeric[key]["sensitivity"] = numeric_sensitivities(st, values)
     rules: tuple = ()
@@ -403,6 +407,8 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
         if unknown:
             note = finding("sum-rules-parameter-unit", names=unknown)
         else:
+            if progress:
+                progress("sum-rule checks")
             rules = sum_rules(loaded.sensitivity, scaling_classes(circuit))
             if not rules:
                 note = finding("sum-rules-no-w0")

@@ -134,6 +134,8 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     if shown.keep is not None:
         pass  # partly symbolic: no op-amp error section (its expansion in 1/A needs every symbol)
     elif opamp_model in OPAMP_ERROR_MODELS and any(p.kind == "opamp" for p in circuit.parts):
+        if progress:
+            progress("op-amp error")
         error = opamp_error(circuit, opamp_model, max_terms=max_terms or DEFAULT_MAX_TERMS)
     elif opamp_model is None and needs_opamp_error(circuit):
         try:
@@ -146,5 +148,7 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
     found = probe_all(shown, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress)
     if substitute:
         found = tuple(put_probe_values(p, shown) for p in found)
+    if approx is not None and progress:
+        progress("approximation")
     approximate = approximations(a, approx) if approx is not None else ()
     return Report(shown, put_values(a) if substitute else a, limits, error, warnings, found, approximate)
