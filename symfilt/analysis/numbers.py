@@ -18,7 +18,7 @@ if TYPE_CHECKING:
     from symfilt.analysis.stage import StageResult
 
 
-def numeric_values(stage: StageResult, values: Mapping) -> dict:
+def numeric_values(stage: StageResult, values: Mapping, *, targets_only: bool = False) -> dict:
     """Numbers for a stage at the circuit's values: cutoff_hz, f0_hz, q, dc_gain, dc_gain_db.
 
     A quantity whose symbols do not all have values is left out; one that is
@@ -30,6 +30,10 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
         One view (loaded or ideal) of an analysis.
     values : mapping
         Symbol -> exact number, as :meth:`Circuit.values` gives.
+    targets_only : bool
+        Only what a size target measures (cutoff, f0, Q, DC gain): no band edges, output
+        impedance, HF floor or stability, and the response at the values only for a
+        response without a standard form. For a solver that calls this hundreds of times.
 
     Returns
     -------
@@ -53,9 +57,12 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
     def num(e):
         return finite_float(as_sympy(e).xreplace(dict(values)))
 
-    response = response_numbers(stage.transfer, values) if stage.transfer.order() >= 1 else {}
+    full = not targets_only or stage.form.kind == "general"
+    if targets_only and not full:  # 30-digit floats: a root of an exact rational factors its integers
+        values = {k: sympy.Float(v, 30) for k, v in values.items()}
+    response = response_numbers(stage.transfer, values) if full and stage.transfer.order() >= 1 else {}
     out.update(_cutoff_number(stage, values, response))
-    if stage.cutoff.edges is not None and all(known(e) for e in stage.cutoff.edges):
+    if not targets_only and stage.cutoff.edges is not None and all(known(e) for e in stage.cutoff.edges):
         lo, hi = (num(e) for e in stage.cutoff.edges)
         out["low_edge_hz"] = None if lo is None else lo / (2 * math.pi)
         out["high_edge_hz"] = None if hi is None else hi / (2 * math.pi)
@@ -73,6 +80,8 @@ def numeric_values(stage: StageResult, values: Mapping) -> dict:
         out.setdefault(key, v)
     if out.get("low_edge_hz") is not None and out.get("high_edge_hz") is not None:
         out.setdefault("bandwidth_hz", out["high_edge_hz"] - out["low_edge_hz"])
+    if targets_only:
+        return out
     if stage.zout is not None:  # None for a probe (an inner node has no load port)
         out.update(output_impedance_values(stage.zout, values, out.get("cutoff_hz")))
     out.update(high_frequency(stage, values))

@@ -209,7 +209,7 @@ def read_groups(circuit, vary: Sequence) -> tuple[tuple, list]:
 def _measure(stage, values: dict) -> dict:
     """Every target quantity of a stage at the values (None where it does not exist)."""
     try:
-        got = numeric_values(stage, values)
+        got = numeric_values(stage, values, targets_only=True)
     except (NoConvergence, ZeroDivisionError, ValueError):
         return {}
     return {q: got.get(key) for q, key in TARGETS.items()}
