@@ -9,9 +9,8 @@ from __future__ import annotations
 
 from collections.abc import Sequence
 
-import sympy
-
 from symfilt.engine.rational import poly_to_sympy
+from symfilt.model.safe import as_sympy
 
 
 class LazyCoefficients(Sequence):
@@ -42,7 +41,7 @@ class LazyCoefficients(Sequence):
         k = range(len(self))[k]
         if k not in self._done:
             c = self._polys[k]
-            self._done[k] = sympy.sympify(c) if self._symbols is None else poly_to_sympy(c, self._symbols)
+            self._done[k] = as_sympy(c, "coefficient") if self._symbols is None else poly_to_sympy(c, self._symbols)
         return self._done[k]
 
 
