@@ -79,43 +79,51 @@ def symbol_names(expr) -> dict:
 
 
 class Parallel(sympy.Function):
-    """Display-only parallel combination a || b = a b / (a + b).
+    """Display-only parallel combination a || b || ... = 1/(1/a + 1/b + ...).
 
     Parameters
     ----------
     *args : sympy.Expr
-        The two branches a and b.
+        The branches (two or more).
 
     Examples
     --------
     >>> R1, R2 = sympy.symbols("R1 R2")
     >>> print(Parallel(R1, R2), sympy.latex(Parallel(R1, R2)))
-    (R1 || R2) \\left(R_{1} \\parallel R_{2}\\right)
+    R1 || R2 R_{1} \\parallel R_{2}
+    >>> print(sympy.Symbol("C1") * Parallel(R1, R2))
+    C1*(R1 || R2)
     """
 
-    nargs = 2
+    #: Binds like a sum: a product or a power around it adds the parentheses, a bare one has none.
+    precedence = 40  # sympy's PRECEDENCE["Add"]
 
     def _latex(self, printer):
-        a, b = (printer._print(x) for x in self.args)
-        wrap = lambda x, t: f"\\left({t}\\right)" if isinstance(x, sympy.Add) else t
-        return f"\\left({wrap(self.args[0], a)} \\parallel {wrap(self.args[1], b)}\\right)"
+        wrap = lambda x: f"\\left({printer._print(x)}\\right)" if _low(x) else printer._print(x)
+        return " \\parallel ".join(wrap(x) for x in self.args)
 
     def _sympystr(self, printer):
-        a, b = (printer._print(x) for x in self.args)
-        wrap = lambda x, t: f"({t})" if isinstance(x, sympy.Add) else t
-        return f"({wrap(self.args[0], a)} || {wrap(self.args[1], b)})"
+        wrap = lambda x: f"({printer._print(x)})" if _low(x) else printer._print(x)
+        return " || ".join(wrap(x) for x in self.args)
 
     def _pretty(self, printer):
         from sympy.printing.pretty.stringpict import prettyForm
 
-        a, b = (printer._print(x) for x in self.args)
-        if isinstance(self.args[0], sympy.Add):
-            a = prettyForm(*a.parens())
-        if isinstance(self.args[1], sympy.Add):
-            b = prettyForm(*b.parens())
-        out = prettyForm(*a.right(" ‖ "))
-        out = prettyForm(*out.right(b))
-        return prettyForm(*out.parens())
+        out = None
+        for x in self.args:
+            form = printer._print(x)
+            if _low(x):
+                form = prettyForm(*form.parens())
+            out = form if out is None else prettyForm(*out.right(" ‖ ", form))
+        out.binding = prettyForm.ADD
+        return out
+
+
+def _low(x) -> bool:
+    """True for a branch that needs parentheses inside ``||`` (a sum)."""
+    from sympy.printing.precedence import PRECEDENCE, precedence
+
+    return precedence(x) <= PRECEDENCE["Add"]
 
 
 def _resistive(e) -> bool:
@@ -220,7 +228,9 @@ def transfer_parts(h, *, parallel: bool = True):
     """
     s = sympy.Symbol("s")
     k, ncs, dcs = h.gain_form()
-    fix = parallel_display if parallel else (lambda e: e)
+    from symfilt.export.readable import readable  # readable builds on this module
+
+    fix = readable if parallel else (lambda e: e)
 
     def poly(cs):
         terms = []
@@ -237,30 +247,6 @@ def transfer_parts(h, *, parallel: bool = True):
         return sympy.Add(*terms[::-1], evaluate=False) if len(terms) > 1 else terms[0]
 
     return fix(k), poly(ncs), poly(dcs)
-
-
-def impedance_display(z):
-    """An impedance for display: factored when small (``(C1 R1 s + 1)/(C1 s)``), else normalized.
-
-    Parameters
-    ----------
-    z : NetworkFunction
-        The impedance (an infinite one gives ``oo``).
-
-    Examples
-    --------
-    >>> from symfilt.analysis.network import NetworkFunction
-    >>> R1, C1 = sympy.symbols("R1 C1", positive=True)
-    >>> s = sympy.Symbol("s")
-    >>> impedance_display(NetworkFunction.from_expr(R1 + 1 / (s * C1), "zin"))
-    (C1*R1*s + 1)/(C1*s)
-    """
-    if z.infinite:
-        return sympy.oo
-    e = z.as_expr()
-    if smaller_than(e, 600):
-        return factor_ratio(z.num, z.den)
-    return z.normalized_expr()
 
 
 #: Sensitivity tables in the order reports show them.

@@ -6,7 +6,9 @@ from __future__ import annotations
 import sympy
 
 from symfilt.analysis.stage import Analysis, StageResult
-from symfilt.export.common import impedance_display, parallel_display, symbol_names, transfer_parts
+from symfilt.export.common import symbol_names, transfer_parts
+from symfilt.export.impedance_form import impedance_display
+from symfilt.export.readable import readable
 
 
 def transfer_tex(h) -> str:
@@ -57,7 +59,7 @@ def tex(expr, *, keep_parallel: bool = True) -> str:
     """
     if expr is None:
         return "\\text{---}"
-    e = parallel_display(expr) if keep_parallel else expr
+    e = readable(expr) if keep_parallel else expr
     return sympy.latex(e, symbol_names=symbol_names(expr), ln_notation=False)
 
 

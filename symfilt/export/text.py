@@ -10,8 +10,10 @@ from symfilt.model.circuit import S
 from symfilt.analysis.stage import UNSTABLE_DROPS, Analysis, StageResult
 from symfilt.model.values import format_value
 from symfilt.engine.polybridge import smaller_than
-from symfilt.export.common import impedance_display, parallel_display, sensitivity_quantities, transfer_parts
+from symfilt.export.common import parallel_display, sensitivity_quantities, transfer_parts
 from symfilt.export.findings import describe
+from symfilt.export.impedance_form import impedance_display
+from symfilt.export.readable import readable
 from symfilt.export.response_text import kind_rows, pole_zero_lines
 
 LONG = 400  # one-line expressions longer than this are not printed in the text report
@@ -52,7 +54,7 @@ def one_line(expr) -> str:
     if not smaller_than(expr, 4 * LONG):
         return "(large expression; see --format json or latex)"
     # the printer spells infinity ∞; names are never rewritten (a part Rfoo stays Rfoo)
-    text = _TextPrinter().doprint(parallel_display(expr))
+    text = _TextPrinter().doprint(readable(expr))
     text = text.replace("**", "^").replace("*", "·")
     if len(text) > LONG:
         return f"({len(text)}-character expression; see --format json or latex)"
