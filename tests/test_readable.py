@@ -18,6 +18,7 @@ from hypothesis import strategies as st
 from symfilt import catalogue
 from symfilt.analysis.stage import analyse, substitute
 from symfilt.export.common import Parallel
+from symfilt.export.correction import corrections, quantity
 from symfilt.export.eng_numbers import eng_text
 from symfilt.export.impedance_form import impedance_display, impedance_form
 from symfilt.export.readable import Ordered, Root, exact, grouped, readable
@@ -180,3 +181,59 @@ def test_json_keeps_the_exact_expressions(run_cli):
     data = json.loads(out)
     text = json.dumps(data)
     assert "||" not in text and "Root" not in text and "Ordered" not in text
+
+
+@pytest.mark.parametrize("name", catalogue.names())
+def test_every_correction_factor_times_the_ideal_quantity_is_the_loaded_one(name):
+    a = analyse(catalogue.build(name), sensitivity=False)
+    for label, factor in corrections(a.loaded, a.ideal, one_line).items():
+        lo, hi = quantity(a.loaded, label), quantity(a.ideal, label)
+        assert_same(readable(factor) * hi, lo)
+
+
+def test_the_loaded_rc_cutoff_reads_as_the_ideal_one_times_the_thevenin_factor(run_cli):
+    # w_c = 1/(C ((R_s + R) || R_L)) loaded and 1/(R C) ideal (REFERENCES.md, first order):
+    # their ratio is R/((R_s + R) || R_L).
+    out = _derive(run_cli, "@rc-lowpass")
+    assert "  cutoff ωc  = 1/(C1·((R1 + R_s) || R_L))\n             = cutoff ωc (ideal) · R1/((R1 + R_s) || R_L)\n" in out
+    # an ideal op-amp stage's w0 does not see the load: no factor (the MFB w0 has no R1, REFERENCES.md)
+    assert "w0 (ideal)" not in _derive(run_cli, "@mfb-lowpass")
+    code, out, _err = run_cli("derive", "@rc-lowpass", "--format", "latex")
+    assert "= \\omega_{c,\\mathrm{ideal}} \\cdot \\frac{R_{1}}{\\left(R_{1} + R_{s}\\right) \\parallel R_{L}}" in out
+
+
+@pytest.mark.parametrize("name, wanted", [
+    # TI SLOA024 and "Op Amps for Everyone" (REFERENCES.md, second order), in LaTeX
+    ("sallen-key-lowpass", ["\\frac{1}{\\sqrt{C_{1} C_{2} R_{1} R_{2}}}",
+                            "\\frac{\\sqrt{\\frac{C_{1} R_{1} R_{2}}{C_{2}}}}{R_{1} + R_{2}}"]),
+    ("mfb-lowpass", ["\\frac{1}{\\sqrt{C_{1} C_{2} R_{2} R_{3}}}",
+                     "{R_{2} + R_{3} + \\frac{R_{2} R_{3}}{R_{1}}}"]),
+])
+def test_the_notes_show_w0_under_one_radical_and_q_as_a_grouped_sum(run_cli, tmp_path, name, wanted):
+    for suffix in (".md", ".tex"):
+        path = tmp_path / f"{name}{suffix}"
+        code, _out, _err = run_cli("note", f"@{name}", "-o", str(path))
+        assert code == 0
+        text = path.read_text()
+        for piece in wanted:
+            assert piece in text, (suffix, piece)
+
+
+@pytest.mark.parametrize("name", ["sallen-key-lowpass", "sallen-key-highpass", "mfb-lowpass", "sallen-key-lowpass-gain"])
+def test_the_cutoff_sensitivity_through_w0_and_q_matches_the_computed_one(run_cli, name):
+    # Chain rule (common practice): wc = w0 g(Q) with g = sqrt(x + sqrt(x^2 + 1)),
+    # x = 1 - 1/(2 Q^2) (1/g for a high-pass), so S^wc = S^w0 +/- S^Q / (2 Q^2 sqrt(x^2 + 1)).
+    # Checked against the cutoff sensitivities symfilt computes on its own route (at the values).
+    a = analyse(catalogue.build(name))
+    sign = 1 if a.loaded.form.kind == "lowpass" else -1
+    for view in ("loaded", "ideal"):
+        num = a.numeric[view]
+        q = num["q"]
+        x = 1 - 1 / (2 * q * q)
+        kappa = 1 / (2 * q * q * (x * x + 1) ** 0.5)
+        sens = num["sensitivity"]
+        for part, s_wc in sens["cutoff"].items():
+            assert s_wc == pytest.approx(sens["w0"][part] + sign * kappa * sens["q"][part], abs=1e-9)
+    code, out, _err = run_cli("derive", f"@{name}", "--format", "latex", "--quantity", "sensitivity")
+    assert code == 0 and "S_{p}^{\\omega_{c}} &= S_{p}^{\\omega_{0}} " + ("+" if sign > 0 else "-") + " \\kappa" in out
+    assert "S_{R_{1}}^{\\omega_{c}}" not in out

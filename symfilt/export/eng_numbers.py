@@ -176,15 +176,20 @@ def engineering(expr):
         return expr
     if isinstance(expr, sympy.Expr) and expr.is_number and not expr.has(sympy.I):
         return _shown(expr)
-    if isinstance(expr, sympy.Expr) and expr.free_symbols == {S} and type(expr).__module__.startswith("sympy"):
+    if isinstance(expr, sympy.Expr) and expr.free_symbols == {S} and type(expr).__module__.startswith("sympy") \
+            and not _exact_enough(expr, True):
         shown = _numeric_ratio(expr)
         if shown is not None:
             return shown
     if isinstance(expr, sympy.Pow):
-        return sympy.Pow(engineering(expr.base), expr.exp, evaluate=False)
+        base = engineering(expr.base)
+        return expr if base == expr.base else sympy.Pow(base, expr.exp, evaluate=False)
     if isinstance(expr, sympy.Mul):
         nums = [a for a in expr.args if a.is_number]
         rest = [engineering(a) for a in expr.args if not a.is_number]
+        if (not nums or _exact_enough(sympy.Mul(*nums), not rest)) and \
+                all(r == a for r, a in zip(rest, [a for a in expr.args if not a.is_number])):
+            return expr  # nothing shown differently
         lead = _shown(sympy.Mul(*nums), strict=not rest) if nums else sympy.Integer(1)
         if isinstance(lead, Eng) or any(isinstance(a, sympy.Add) for a in rest):
             heads = lead.args if isinstance(lead, sympy.Mul) else (lead,)

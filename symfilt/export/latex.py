@@ -7,6 +7,7 @@ import sympy
 
 from symfilt.analysis.stage import Analysis, StageResult
 from symfilt.export.common import symbol_names, transfer_parts
+from symfilt.export.correction import corrections
 from symfilt.export.impedance_form import impedance_display
 from symfilt.export.readable import readable
 
@@ -69,13 +70,17 @@ LABELS = {"transfer": "H(s)", "gain": "K", "w0": "\\omega_{0}", "q": "Q", "tau":
            "zout": "Z_{\\mathrm{out}}", "bandwidth": "B"}
 
 
-def stage_equations(st: StageResult) -> list[tuple[str, str]]:
+def stage_equations(st: StageResult, ideal: StageResult | None = None) -> list[tuple[str, str]]:
     """(LaTeX left-hand side, right-hand side) pairs for one view, in report order.
 
     Parameters
     ----------
     st : StageResult
         The view, ``analysis.loaded`` or ``analysis.ideal``.
+    ideal : StageResult, optional
+        For the loaded view, the ideal one: a quantity that reads shorter as the ideal one
+        times a factor is written ``... = \\omega_{0,\\mathrm{ideal}} \\cdot factor``
+        (:mod:`symfilt.export.correction`).
 
     Examples
     --------
@@ -85,6 +90,7 @@ def stage_equations(st: StageResult) -> list[tuple[str, str]]:
     '\\\\frac{1}{C_{1} R_{1}}'
     """
     f = st.form
+    factors = corrections(st, ideal, lambda e: str(readable(e))) if ideal is not None else {}
     eqs = [(LABELS["transfer"], transfer_tex(st.transfer))]
     cut = st.cutoff.value
     if f.order == 2 and f.kind in ("lowpass", "highpass") and cut is not None:
@@ -97,8 +103,21 @@ def stage_equations(st: StageResult) -> list[tuple[str, str]]:
                    ("hf_gain", st.transfer.hf_gain()),
                    *((key, impedance_display(z)) for key, z in (("zin", st.zin), ("zout", st.zout)) if z is not None)):
         if e is not None:
-            eqs.append((LABELS[key], tex(e)))
+            eqs.append((LABELS[key], tex(e) + _ideal_times(key, factors)))
     return eqs
+
+
+#: Text-report label of each quantity a correction factor is looked for.
+_TEXT_LABEL = {"gain": "K", "w0": "w0", "q": "Q", "tau": "tau", "cutoff": "cutoff ωc", "dc_gain": "DC gain"}
+
+
+def _ideal_times(key: str, factors: dict) -> str:
+    factor = factors.get(_TEXT_LABEL.get(key))
+    if factor is None:
+        return ""
+    lhs = LABELS[key]
+    ideal = (lhs[:-1] + ",\\mathrm{ideal}}") if lhs.endswith("}") else lhs + "_{\\mathrm{ideal}}"
+    return f" = {ideal} \\cdot {tex(factor)}"
 
 
 def quantity_latex(st: StageResult, quantity: str) -> str | None:
@@ -147,10 +166,31 @@ def sensitivity_rows(st: StageResult) -> list[tuple[str, str]]:
 
     names = {"cutoff": "\\omega_{c}", "w0": "\\omega_{0}", "q": "Q", "dc_gain": "H(0)", "gain": "K",
              "magnitude": "\\left|H(j\\omega)\\right|"}
-    for q in sensitivity_quantities(st.sensitivity):
+    quantities = sensitivity_quantities(st.sensitivity)
+    through = _cutoff_through_w0_q(st) if {"w0", "q"} <= set(quantities) else None
+    for q in quantities:
+        if q == "cutoff" and through:
+            rows.append(("S_{p}^{\\omega_{c}}", through))
+            continue
         for name, e in st.sensitivity[q].items():
             rows.append((f"S_{{{latex_name(name)}}}^{{{names[q]}}}", tex(e, keep_parallel=False)))
     return rows
+
+
+def _cutoff_through_w0_q(st: StageResult) -> str | None:
+    """The cutoff sensitivity of a second-order low- or high-pass through those of w0 and Q.
+
+    With wc = w0 g(Q), g = sqrt(x + sqrt(x^2 + 1)), x = 1 - 1/(2 Q^2) (1/g for a high-pass),
+    the chain rule gives S^wc = S^w0 + (d ln g/d ln Q) S^Q, and d ln g/d ln Q reduces to
+    1/(2 Q^2 sqrt(x^2 + 1)). Written once for every part instead of each sensitivity expanded.
+    """
+    f = st.form
+    if f.order != 2 or f.kind not in ("lowpass", "highpass") or st.cutoff.value is None:
+        return None
+    sign = "+" if f.kind == "lowpass" else "-"
+    return (f"S_{{p}}^{{\\omega_{{0}}}} {sign} \\kappa \\, S_{{p}}^{{Q}}, \\quad \\kappa = "
+            "\\frac{1}{2 Q^{2} \\sqrt{x^{2} + 1}}, \\quad x = 1 - \\frac{1}{2 Q^{2}}, "
+            "\\quad \\text{for each part } p")
 
 
 def render(a: Analysis, quantity: str | None = None) -> str:
@@ -180,7 +220,7 @@ def render(a: Analysis, quantity: str | None = None) -> str:
         elif quantity == "sensitivity":
             rows = sensitivity_rows(st)
         else:
-            rows = stage_equations(st)
+            rows = stage_equations(st, a.ideal if key == "loaded" else None)
         parts.append("\\begin{align*}")
         label = "loaded (as connected)" if key == "loaded" else "ideal (the stage alone)"
         parts.append(f"  \\intertext{{{label}}}")

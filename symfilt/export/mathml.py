@@ -63,7 +63,7 @@ def render(a: Analysis, quantity: str | None = None) -> str:
         elif quantity:
             rows = [(latex.LABELS.get(quantity.replace("-", "_"), quantity), latex.quantity_latex(st, quantity))]
         else:
-            rows = latex.stage_equations(st)
+            rows = latex.stage_equations(st, a.ideal if key == "loaded" else None)
         for lhs, rhs in rows:
             if rhs is None:
                 continue

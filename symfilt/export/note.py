@@ -386,13 +386,15 @@ EQUATION_WORDS = {"H(s)": "transfer function", "\\omega_{c}": "cutoff (rad/s)", 
                   "Z_{\\mathrm{in}}": "input impedance", "Z_{\\mathrm{out}}": "output impedance"}
 
 
-def equations(st: StageResult) -> list[tuple[str, str]]:
+def equations(st: StageResult, ideal: StageResult | None = None) -> list[tuple[str, str]]:
     """(words, LaTeX equation) for each closed form of one view, in report order.
 
     Parameters
     ----------
     st : StageResult
         The view, ``analysis.loaded`` or ``analysis.ideal``.
+    ideal : StageResult, optional
+        For the loaded view, the ideal one (a quantity may read as the ideal one times a factor).
 
     Examples
     --------
@@ -401,7 +403,7 @@ def equations(st: StageResult) -> list[tuple[str, str]]:
     >>> equations(analyse(catalogue.build("rc-lowpass"), sensitivity=False).ideal)[0]
     ('transfer function', 'H(s) = \\\\frac{1}{C_{1} R_{1} s + 1}')
     """
-    return [(EQUATION_WORDS.get(lhs, ""), f"{lhs} = {rhs}") for lhs, rhs in stage_equations(st) if rhs is not None]
+    return [(EQUATION_WORDS.get(lhs, ""), f"{lhs} = {rhs}") for lhs, rhs in stage_equations(st, ideal) if rhs is not None]
 
 
 def has_fixtures(a: Analysis) -> bool:

@@ -162,7 +162,7 @@ def _html_equations(a: Analysis) -> list[str]:
             out.append("<p>No first- or second-order standard form: the cutoff is found numerically "
                        "from the exact H(s).</p>")
         out.append('<div class="eqs">')
-        for words, eq in equations(st):
+        for words, eq in equations(st, a.ideal if st is a.loaded else None):
             out.append(f'<div class="label">{escape(words)}</div><div class="formula">{_mathml(eq, "inline")}</div>')
         out.append("</div>")
     return out

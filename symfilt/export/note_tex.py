@@ -105,11 +105,11 @@ def _equations(a: Analysis) -> list[str]:
         std = standard_form_tex(st)
         if std:
             out += ["Standard form:", r"\begin{equation*}", std, r"\end{equation*}"]
-        rows = [f"{lhs} &= {rhs}" for lhs, rhs in stage_equations(st) if rhs is not None]
+        rows = [f"{lhs} &= {rhs}" for lhs, rhs in stage_equations(st, a.ideal if st is a.loaded else None) if rhs is not None]
         if rows:
             out += [r"\begin{align*}", " \\\\\n".join(rows), r"\end{align*}"]
-        elif equations(st):
-            for words, eq in equations(st):
+        elif equations(st, a.ideal if st is a.loaded else None):
+            for words, eq in equations(st, a.ideal if st is a.loaded else None):
                 out += [tex_text(words[:1].upper() + words[1:]) + ":", r"\begin{equation*}", eq, r"\end{equation*}"]
     return out
 

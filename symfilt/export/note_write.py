@@ -113,7 +113,7 @@ def note_markdown(a: Analysis, *, plot_file: str | None = None, source: str = ""
         std = standard_form_tex(st)
         if std:
             out += ["Standard form:", "", "$$", std, "$$", ""]
-        for words, eq in equations(st):
+        for words, eq in equations(st, a.ideal if st is a.loaded else None):
             out += [f"{words[:1].upper() + words[1:]}:", "", "$$", eq, "$$", ""]
     out += ["## Frequency response", ""]
     if plot_file:
@@ -171,7 +171,7 @@ def note_latex(a: Analysis) -> str:
     body = []
     for view, vtitle in views(a):
         st = getattr(a, view)
-        rows = [f"  {lhs} &= {rhs}" for lhs, rhs in stage_equations(st) if rhs is not None]
+        rows = [f"  {lhs} &= {rhs}" for lhs, rhs in stage_equations(st, a.ideal if st is a.loaded else None) if rhs is not None]
         nums = []
         for r in number_rows(a):
             v = r[view]["value"]

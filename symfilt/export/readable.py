@@ -18,6 +18,8 @@ Impedances as series and parallel combinations of the parts are in
 
 from __future__ import annotations
 
+import functools
+
 import sympy
 from sympy.printing.precedence import PRECEDENCE, precedence
 
@@ -159,6 +161,7 @@ def _shown(expr) -> bool:
     return expr.has(Root) or expr.has(Parallel)
 
 
+@functools.lru_cache(maxsize=1024)
 def readable(expr):
     """:func:`grouped_form` of ``expr`` with long numbers in engineering notation
     (:func:`symfilt.export.eng_numbers.engineering`).
@@ -269,10 +272,63 @@ def _rational_form(r, scale=1):
 def _factors(r):
     """``r = lead * prod(nf) / prod(df)``: the number and the irreducible factors (flint), kept
     apart so that no number is multiplied into a sum."""
-    ratio = Ratio.from_sympy(*sympy.fraction(sympy.together(r)))
-    (cn, pn), (cd, pd) = ratio.num.factor(), ratio.den.factor()
-    side = lambda fs: [poly_to_sympy(f, ratio.symbols) ** e for f, e in fs]
-    return sympy.Rational(int(cn), int(cd)), side(pn), side(pd)
+    ctx = PolyContext([r])
+    pair = flint_fraction(ctx, r)
+    if pair is None:
+        ratio = Ratio.from_sympy(*sympy.fraction(sympy.together(r)))
+        num, den = ratio.num, ratio.den
+        convert = lambda f: poly_to_sympy(f, ratio.symbols)
+    else:
+        g = pair[0].gcd(pair[1])
+        num, den, convert = pair[0] / g, pair[1] / g, ctx.to_sympy
+    (cn, pn), (cd, pd) = num.factor(), den.factor()
+    side = lambda fs: [convert(f) ** e for f, e in fs]
+    return _rational(cn) / _rational(cd), side(pn), side(pd)
+
+
+def _rational(c):
+    """A flint integer or rational as a sympy Rational."""
+    return sympy.Rational(int(c.p), int(c.q)) if hasattr(c, "q") else sympy.Integer(int(c))
+
+
+def flint_fraction(ctx, expr, power: int = 1):
+    """``expr**power`` as (numerator, denominator) flint polynomials of ``ctx``, read off its
+    product of powers (no sympy ``together``); None when a factor is not a polynomial to a
+    whole power (a root, a fraction inside a sum).
+
+    Parameters
+    ----------
+    ctx : symfilt.engine.polybridge.PolyContext
+        A context holding every symbol of ``expr``.
+    expr : sympy.Expr
+    power : int
+        Raise to this power first (2 squares the half powers of a root away).
+
+    Examples
+    --------
+    >>> x, y = sympy.symbols("x y", positive=True)
+    >>> ctx = PolyContext([x, y])
+    >>> [ctx.to_sympy(p) for p in flint_fraction(ctx, sympy.sqrt(x) / (x + y), 2)]
+    [x, x**2 + 2*x*y + y**2]
+    """
+    num = den = ctx.to_flint(sympy.Integer(1))
+    for f in sympy.Mul.make_args(expr):
+        base, e = f.as_base_exp()
+        k = e * power
+        if not k.is_Integer or any(not q.exp.is_Integer or q.exp < 0 for q in base.atoms(sympy.Pow)):
+            return None
+        if base.is_Rational:
+            p = ctx.to_flint(base)
+        elif isinstance(base, sympy.Symbol):
+            p = ctx.gen(base)
+        else:
+            try:
+                p = ctx.to_flint(base)
+            except (sympy.PolynomialError, ValueError, TypeError):
+                return None
+        p = p ** abs(int(k))
+        num, den = (num * p, den) if k > 0 else (num, den * p)
+    return num, den
 
 
 def _signed(factors) -> list:

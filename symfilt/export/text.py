@@ -11,6 +11,7 @@ from symfilt.analysis.stage import UNSTABLE_DROPS, Analysis, StageResult
 from symfilt.model.values import format_value
 from symfilt.engine.polybridge import smaller_than
 from symfilt.export.common import parallel_display, sensitivity_quantities, transfer_parts
+from symfilt.export.correction import corrections
 from symfilt.export.findings import describe
 from symfilt.export.impedance_form import impedance_display
 from symfilt.export.readable import readable
@@ -364,13 +365,16 @@ def _sens_table(a: Analysis, st: StageResult, key: str) -> list[str]:
     return out
 
 
-def stage_formulas(st: StageResult) -> list[str]:
+def stage_formulas(st: StageResult, ideal: StageResult | None = None) -> list[str]:
     """The formula lines of one view: kind and order, K, w0, Q, cutoff, gains, Zin, Zout.
 
     Parameters
     ----------
     st : StageResult
         The view, ``analysis.loaded`` or ``analysis.ideal``.
+    ideal : StageResult, optional
+        For the loaded view, the ideal one: a quantity that reads shorter as the ideal one
+        times a factor gets a second line ``= w0 (ideal) · factor``.
 
     Examples
     --------
@@ -394,7 +398,11 @@ def stage_formulas(st: StageResult) -> list[str]:
     items = [("K", f.gain), ("w0", f.w0), ("wz", zero), ("Q", f.q), ("tau", f.tau), ("cutoff ωc", cut),
              ("DC gain", st.transfer.dc_gain()), ("HF gain", st.transfer.hf_gain()),
              ("Zin", st.zin), ("Zout", st.zout)]
+    factors = corrections(st, ideal, one_line) if ideal is not None else {}
     for label, e in items:
+        if label in factors and e is not None:
+            rows += [f"  {label:<10} = {one_line(e)}", f"  {'':<10} = {label} (ideal) · {one_line(factors[label])}"]
+            continue
         if label in ("Zin", "Zout"):
             if e is None:  # a probe's view has no impedances
                 continue
@@ -457,7 +465,7 @@ def render(a: Analysis, quantity: str | None = None, load_limits=None) -> str:
     for key, st in (("loaded", a.loaded), ("ideal", a.ideal)):
         out += ["", f"Transfer function H(s) = V({c.output})/V(source), {key}"]
         out.append(_indent(transfer_drawing(st.transfer)))
-        out += [""] + stage_formulas(st)
+        out += [""] + stage_formulas(st, a.ideal if key == "loaded" else None)
     rows = numbers_rows(a)
     if rows:
         out += ["", "Numbers at the given values"]
