@@ -237,3 +237,25 @@ def test_the_cutoff_sensitivity_through_w0_and_q_matches_the_computed_one(run_cl
     code, out, _err = run_cli("derive", f"@{name}", "--format", "latex", "--quantity", "sensitivity")
     assert code == 0 and "S_{p}^{\\omega_{c}} &= S_{p}^{\\omega_{0}} " + ("+" if sign > 0 else "-") + " \\kappa" in out
     assert "S_{R_{1}}^{\\omega_{c}}" not in out
+
+
+def test_a_large_json_result_reads_back_with_sympify_at_default_settings():
+    # The JSON contract: every expression string is read by sympy.sympify as it is. A result
+    # past LARGE_TERMS is written from the flint polynomials with its sums in nested groups,
+    # so Python's parser does not meet one nesting level per term (ladder-8: 4 182 terms).
+    import sys
+
+    sys.path.insert(0, str(__import__("pathlib").Path(__file__).resolve().parents[1] / "benchmarks"))
+    from cases import rc_ladder
+
+    from symfilt.design.report import report
+    from symfilt.export.derive_report import derive_json
+
+    r = report(rc_ladder(8), sensitivity=False)
+    assert r.analysis.loaded.transfer.ratio.terms > 2000
+    text = json.loads(derive_json(r))["loaded"]["transfer"]
+    back = sympy.sympify(text)
+    exact_h = r.analysis.loaded.transfer.as_expr()
+    at = {x: sympy.Rational(k + 2, 7) for k, x in enumerate(sorted(exact_h.free_symbols, key=str))}
+    at_names = {sympy.Symbol(x.name): v for x, v in at.items()}
+    assert back.xreplace(at_names) == exact_h.xreplace(at)

@@ -95,8 +95,32 @@ def _large(h) -> bool:
     return h.ratio is not None and not h.infinite and h.ratio.terms > LARGE_TERMS
 
 
+#: Terms per innermost group of a large sum in JSON (see :func:`_grouped_sum`).
+GROUP_TERMS = 50
+
+
 def _poly_text(p) -> str:
-    return "(" + p.str().replace("^", "**") + ")"
+    text = p.str().replace("^", "**")
+    terms = text.replace(" - ", " + -").split(" + ")
+    return "(" + _grouped_sum(terms) + ")"
+
+
+def _grouped_sum(terms: list[str]) -> str:
+    """``t1 + t2 + ...`` with the terms in nested groups of at most :data:`GROUP_TERMS`, halved
+    level by level, so that a sum of 100 000 terms parses (``sympy.sympify``, Python's own
+    parser) at a nesting depth of a few dozen instead of one level per term.
+
+    Examples
+    --------
+    >>> _grouped_sum(["a", "b"])
+    'a + b'
+    >>> _grouped_sum([f"x{i}" for i in range(120)]).count("(")  # halves, then quarters of 30
+    6
+    """
+    if len(terms) <= GROUP_TERMS:
+        return " + ".join(terms).replace("+ -", "- ")
+    half = len(terms) // 2
+    return f"({_grouped_sum(terms[:half])}) + ({_grouped_sum(terms[half:])})"
 
 
 def _ratio_text(h) -> str:
