@@ -68,6 +68,9 @@ class PolyContext:
         >>> PolyContext([x]).to_flint(x**2 / 3 + 1)
         1/3*x0^2 + 1
         """
+        direct = self._direct(expr)
+        if direct is not None:
+            return direct
         e = sympy.expand(as_sympy(expr).xreplace({sympy.pi: self._pi}))
         n = self.ctx.nvars()
         if not self.gens:
@@ -76,6 +79,31 @@ class PolyContext:
         poly = sympy.Poly(e, *self.gens)
         return self.ctx.from_dict({k: flint.fmpq(int(sympy.Rational(v).p), int(sympy.Rational(v).q))
                                    for k, v in poly.as_dict().items()})
+
+    def _direct(self, expr):
+        """An already expanded polynomial (a sum of rational multiples of products of powers of
+        the generators) read term by term, without ``sympy.expand`` and ``sympy.Poly``; None
+        for anything else."""
+        if not isinstance(expr, (sympy.Add, sympy.Mul, sympy.Symbol, sympy.Pow, sympy.Rational)):
+            return None
+        n = self.ctx.nvars()
+        terms: dict = {}
+        for term in sympy.Add.make_args(expr):
+            coeff, rest = term.as_coeff_Mul()
+            if not coeff.is_Rational:
+                return None
+            exps = [0] * n
+            for f in sympy.Mul.make_args(rest):
+                if f == 1:
+                    continue
+                base, e = f.as_base_exp()
+                i = self._index.get(self._pi if base is sympy.pi else base)
+                if i is None or not e.is_Integer or e < 0:
+                    return None
+                exps[i] += int(e)
+            key = tuple(exps)
+            terms[key] = terms.get(key, 0) + coeff
+        return self.ctx.from_dict({k: flint.fmpq(int(v.p), int(v.q)) for k, v in terms.items() if v != 0})
 
     def to_sympy(self, p) -> sympy.Expr:
         """Convert back to a sympy expression.
