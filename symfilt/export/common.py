@@ -5,11 +5,12 @@ Nothing here changes a result; it only decides how an expression is written.
 
 from __future__ import annotations
 
+import functools
 from itertools import combinations
 
 import sympy
 
-from symfilt.engine.polybridge import smaller_than
+from symfilt.engine.polybridge import PolyContext, smaller_than
 from symfilt.engine.rational import factor_ratio
 
 GREEK = {"alpha", "beta", "gamma", "delta", "epsilon", "zeta", "eta", "theta", "kappa", "lambda", "mu",
@@ -142,20 +143,29 @@ def _factor(expr):
 
 
 def _split_parallel(num_factors: list, den_sum: sympy.Expr):
-    """Find A + B = den_sum with A * B dividing the numerator's product."""
+    """Find A + B = den_sum with A * B dividing the numerator's product (exact division on
+    python-flint polynomials, one per split of the sum's terms)."""
     terms = sympy.Add.make_args(den_sum)
     if len(terms) < 2 or len(terms) > 6:
         return None
     num = sympy.Mul(*num_factors)
+    try:
+        ctx = PolyContext([num, den_sum])
+        n = ctx.to_flint(num)
+        flint_terms = [ctx.to_flint(t) for t in terms]
+    except (sympy.PolynomialError, ValueError, TypeError):
+        return None
     for k in range(1, len(terms) // 2 + 1):
         for group in combinations(range(len(terms)), k):
             a = sympy.Add(*[terms[i] for i in group])
             b = sympy.Add(*[terms[i] for i in range(len(terms)) if i not in group])
-            if not _resistive(a) or not _resistive(b):
+            if not _resistive(a) or not _resistive(b) or a.is_number or b.is_number:
                 continue
-            rest = sympy.cancel(num / (a * b))
-            if sympy.fraction(rest)[1] == 1 and not (a.is_number or b.is_number):
-                return _factor(a), _factor(b), rest
+            fa = sum((flint_terms[i] for i in group), ctx.to_flint(sympy.Integer(0)))
+            fb = sum((flint_terms[i] for i in range(len(terms)) if i not in group), ctx.to_flint(sympy.Integer(0)))
+            q, r = divmod(n, fa * fb)
+            if r.is_zero():
+                return _factor(a), _factor(b), ctx.to_sympy(q)
     return None
 
 
@@ -164,6 +174,7 @@ def _split_parallel(num_factors: list, den_sum: sympy.Expr):
 PARALLEL_MAX_TERMS = 24
 
 
+@functools.lru_cache(maxsize=1024)
 def parallel_display(expr):
     """Rewrite ``a b / (a + b)`` as ``a || b`` where it appears, for display only.
 
