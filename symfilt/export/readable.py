@@ -265,7 +265,9 @@ def _rational_form(r, scale=1):
     coeff = scale * sympy.Mul(*[f for f in nf if f.is_number]) / sympy.Mul(*[f for f in df if f.is_number])
     out = sympy.Mul(*[f for f in nf if not f.is_number]) / sympy.Mul(*[f for f in df if not f.is_number])
     if coeff != 1:
-        out = sympy.Mul(coeff, *sympy.Mul.make_args(out), evaluate=False)
+        sums = any(isinstance(f, (sympy.Add, Ordered)) for f in sympy.Mul.make_args(out))
+        # a number times one sum is multiplied out by sympy: keep that product unevaluated
+        out = sympy.Mul(coeff, *sympy.Mul.make_args(out), evaluate=False) if sums else coeff * out
     return out if len(str(out)) <= len(str(r * scale)) + 8 else shown
 
 
