@@ -52,12 +52,12 @@ def closed_form_roots(condition, x, max_degree: int = 2) -> tuple[list, Finding 
     if degree > 8:
         return [], finding("equation-degree", degree=degree)
     roots = []
-    for cs, exps in factors:
+    for cs, exps, ring_cs in factors:
         # a polynomial in x^k only (parts scaled together): solve for y = x^k
         k = math.gcd(*exps)
         if (len(cs) - 1) // k > max_degree:
             return [], finding("equation-factor-degree", degree=len(cs) - 1)
-        roots += [r if k == 1 else sympy.root(r, k) for r in low_degree_roots(cs[::k])]
+        roots += [r if k == 1 else sympy.root(r, k) for r in low_degree_roots(cs[::k], ring_cs[::k])]
     return roots, None
 
 
@@ -120,13 +120,14 @@ def factor_list(num, x) -> tuple[int, list] | None:
     (int, list) or None
         The degree of ``num`` in x, and per factor holding x (in increasing degree, as sympy
         sorts them) its coefficients in x (sympy, lowest first) and the exponents of x that
-        occur; None when ``num`` is no polynomial with rational coefficients.
+        occur, and the same coefficients as flint polynomials with their generators' symbols; None
+        when ``num`` is no polynomial with rational coefficients.
 
     Examples
     --------
     >>> x, y = sympy.symbols("x y", positive=True)
-    >>> factor_list(sympy.expand(-2 * y * (x**2 * y - 1) * (x + y)), x)
-    (3, [([y, 1], [0, 1]), ([-1, 0, y], [0, 2])])
+    >>> [(cs, exps) for cs, exps, _ring in factor_list(sympy.expand(-2 * y * (x**2 * y - 1) * (x + y)), x)[1]]
+    [([y, 1], [0, 1]), ([-1, 0, y], [0, 2])]
     """
     ring = _ring(num, x)
     if ring is None:
@@ -144,22 +145,24 @@ def factor_list(num, x) -> tuple[int, list] | None:
             by_power.setdefault(e[0], {})[(0,) + tuple(e[1:])] = c
         top = max(by_power)
         ctx = f.context()
-        cs = [poly_to_sympy(ctx.from_dict(by_power[i]), symbols) if i in by_power else sympy.Integer(0)
-              for i in range(top + 1)]
-        out.append(((top, mult, len(f)), cs, sorted(by_power)))
+        polys = [ctx.from_dict(by_power.get(i, {})) for i in range(top + 1)]
+        cs = [poly_to_sympy(c, symbols) if c != 0 else sympy.Integer(0) for c in polys]
+        out.append(((top, mult, len(f)), cs, sorted(by_power), [(c, symbols) for c in polys]))
     out.sort(key=lambda t: t[0][:2])
-    return degree, [(cs, exps) for _key, cs, exps in out]
+    return degree, [(cs, exps, ring_cs) for _key, cs, exps, ring_cs in out]
 
 
-def square_part(d) -> tuple:
+def square_part(d, ring=None) -> tuple:
     """(o, r) with d = o^2·r: the squares of d's positive factors (and of its constant) taken out.
 
     The factors are python-flint's, with the signs and content ``sympy.factor_list`` gives.
 
     Parameters
     ----------
-    d : sympy.Expr
-        An expanded polynomial.
+    d : sympy.Expr or None
+        An expanded polynomial (None when ``ring`` is given).
+    ring : (flint.fmpz_mpoly, dict), optional
+        d itself on python-flint with its generators' symbols, the generators in sympy's order.
 
     Returns
     -------
@@ -171,7 +174,7 @@ def square_part(d) -> tuple:
     >>> square_part(sympy.expand(8 * x**2 * (y - 1) * (x + y) ** 2))
     (2*sqrt(2)*x*(x + y), y - 1)
     """
-    factored = _factors(d)
+    factored = _factors(d) if ring is None else _flint_factors(ring[0], 1, ring[1])
     if factored is None:
         coeff, factors = sympy.factor_list(d)
     else:
@@ -188,15 +191,17 @@ def square_part(d) -> tuple:
 def _factors(d) -> tuple | None:
     """``sympy.factor_list(d)`` by python-flint (None when d is no polynomial with rational coefficients)."""
     ring = _ring(d)
-    if ring is None:
-        return None
-    p, den, symbols = ring
+    return None if ring is None else _flint_factors(*ring)
+
+
+def _flint_factors(p, den: int, symbols: dict) -> tuple:
+    """(coefficient, [(factor, multiplicity)]) of p/den, the factors in sympy."""
     const, factors = p.factor()
     coeff = sympy.Rational(int(const), den)
     return coeff, [(poly_to_sympy(f, symbols), int(m)) for f, m in factors]
 
 
-def low_degree_roots(cs: list) -> list:
+def low_degree_roots(cs: list, ring_cs: list | None = None) -> list:
     """The roots in y of c0 + c1 y (+ c2 y^2), minus root first.
 
     -c/b, or the quadratic formula (-b -+ sqrt(b^2 - 4ac))/(2a) on the exact coefficients with
@@ -208,6 +213,8 @@ def low_degree_roots(cs: list) -> list:
     ----------
     cs : list of sympy.Expr
         The coefficients, lowest power first (two or three).
+    ring_cs : list, optional
+        The same as (flint polynomial, generators' symbols): the discriminant is then formed there.
 
     Returns
     -------
@@ -221,7 +228,11 @@ def low_degree_roots(cs: list) -> list:
     if len(cs) == 2:
         return [-cs[0] / cs[1]]
     c, b, a = cs
-    out, radicand = square_part(sympy.expand(b**2 - 4 * a * c))
+    if ring_cs is None:
+        out, radicand = square_part(sympy.expand(b**2 - 4 * a * c))
+    else:
+        (fc, symbols), (fb, _s), (fa, _s) = ring_cs
+        out, radicand = square_part(None, (fb * fb - 4 * fa * fc, symbols))
     g = sympy.gcd(sympy.gcd(b, out), a)
     b, out, a = (sympy.cancel(v / g) for v in (b, out, a))
     h = sympy.gcd(b, out)
