@@ -12,6 +12,7 @@ output of the command has been written.
 
 from __future__ import annotations
 
+import gc
 import sys
 import warnings
 
@@ -88,11 +89,10 @@ def load(source: str):
     >>> load("@rc-lowpass").title
     'RC low-pass'
     """
-    from symfilt.model import catalogue
-    from symfilt.model.circuit_file import load_circuit
-
     if source.startswith("@"):
+        from symfilt.model import catalogue
         return catalogue.build(source)
+    from symfilt.model.circuit_file import load_circuit  # TOML reading, only for a file
     return load_circuit(source)
 
 
@@ -585,7 +585,10 @@ def main(argv=None) -> int:
     def work() -> int:
         return cli.main(args=args, prog_name="symfilt", standalone_mode=False) or 0
 
-    return watchdog.run_watched(work, limit, _memory_message) if argv is None else work()
+    if argv is None:  # the imports' objects live to the end: frozen (Python's advice before a fork)
+        gc.freeze()
+        return watchdog.run_watched(work, limit, _memory_message)
+    return work()
 
 
 def _memory_message(limit: int) -> str:

@@ -99,46 +99,68 @@ def standard_form(h: NetworkFunction) -> StandardForm:
     if order > 2:  # no standard form: the coefficients are not converted to sympy
         return StandardForm(order, "general")
     b, a = h.coefficients()
-    b = b + [sympy.Integer(0)] * (3 - len(b))
-    a = a + [sympy.Integer(0)] * (3 - len(a))
+    kind, fs = form_factors(order, b, a)
+    if kind is None:
+        return StandardForm(order, "general")
+    ev = lambda key: None if key not in fs else _tidy(sympy.Mul(*[p**e for p, e in fs[key]]))
+    factors = {key: fs[key] for key in ("w0", "q", "gain", "zero") if key in fs}
+    return StandardForm(order, kind, ev("gain"), ev("w0"), ev("q"), ev("tau"), factors)
+
+
+def form_factors(order: int, b, a, zero=_zero) -> tuple[str | None, dict]:
+    """The kind of a first- or second-order response and its quantities as products of its coefficients.
+
+    The one classification behind :func:`standard_form`, for coefficients of any exact type
+    that multiply, subtract and compare with 0: sympy expressions, or the flint polynomials
+    of :meth:`~symfilt.engine.rational.Ratio.coefficients` (with ``zero=lambda e: e == 0``).
+
+    Parameters
+    ----------
+    order : int
+        Order of the response in s.
+    b, a : sequence
+        Numerator and denominator coefficients, lowest power of s first.
+    zero : callable
+        True when a coefficient expression is exactly zero.
+
+    Returns
+    -------
+    (str or None, dict)
+        The kind (None when no standard form fits: ``general`` without K, w0, Q) and
+        quantity (``w0``, ``q``, ``gain``, ``tau``, ``zero``: the zero b0/b1 of a first order
+        that is none of the named kinds) -> list of (coefficient, exponent) pairs.
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> form_factors(1, [sympy.Integer(1)], [sympy.Integer(1), R * C])
+    ('lowpass', {'w0': [(1, 1), (C*R, -1)], 'tau': [(C*R, 1), (1, -1)], 'gain': [(1, 1), (1, -1)]})
+    """
+    b = list(b) + [0] * (3 - len(b))
+    a = list(a) + [0] * (3 - len(a))
     half = sympy.Rational(1, 2)
-
-    def make(kind, gain_f, w0_f, q_f=None, tau_f=None):
-        factors = {"w0": w0_f}
-        if q_f is not None:
-            factors["q"] = q_f
-        if gain_f is not None:
-            factors["gain"] = gain_f
-        ev = lambda fs: None if fs is None else _tidy(sympy.Mul(*[p**e for p, e in fs]))
-        return StandardForm(order, kind, ev(gain_f), ev(w0_f), ev(q_f), ev(tau_f), factors)
-
     if order == 1 and a[0] != 0 and a[1] != 0 and a[2] == 0 and b[2] == 0:
-        w0_f, tau_f = [(a[0], 1), (a[1], -1)], [(a[1], 1), (a[0], -1)]
+        fs = {"w0": [(a[0], 1), (a[1], -1)], "tau": [(a[1], 1), (a[0], -1)]}
         if b[1] == 0:
-            return make("lowpass", [(b[0], 1), (a[0], -1)], w0_f, None, tau_f)
+            return "lowpass", {**fs, "gain": [(b[0], 1), (a[0], -1)]}
         if b[0] == 0:
-            return make("highpass", [(b[1], 1), (a[1], -1)], w0_f, None, tau_f)
-        if _zero(b[0] * a[1] + b[1] * a[0]):
-            return make("allpass", [(b[0], 1), (a[0], -1)], w0_f, None, tau_f)
-        form = make("general", None, w0_f, None, tau_f)
-        form.factors["zero"] = [(b[0], 1), (b[1], -1)]
-        return form
+            return "highpass", {**fs, "gain": [(b[1], 1), (a[1], -1)]}
+        if zero(b[0] * a[1] + b[1] * a[0]):
+            return "allpass", {**fs, "gain": [(b[0], 1), (a[0], -1)]}
+        return "general", {**fs, "zero": [(b[0], 1), (b[1], -1)]}
     if order == 2 and a[0] != 0 and a[1] != 0 and a[2] != 0:
-        w0_f = [(a[0], half), (a[2], -half)]
-        q_f = [(a[0], half), (a[2], half), (a[1], -1)]
+        fs = {"w0": [(a[0], half), (a[2], -half)], "q": [(a[0], half), (a[2], half), (a[1], -1)]}
         nz = [k for k in range(3) if b[k] != 0]
-        if nz == [0]:
-            return make("lowpass", [(b[0], 1), (a[0], -1)], w0_f, q_f)
-        if nz == [2]:
-            return make("highpass", [(b[2], 1), (a[2], -1)], w0_f, q_f)
-        if nz == [1]:
-            return make("bandpass", [(b[1], 1), (a[1], -1)], w0_f, q_f)
-        if nz == [0, 2] and _zero(b[0] * a[2] - b[2] * a[0]):
-            return make("notch", [(b[0], 1), (a[0], -1)], w0_f, q_f)
-        if nz == [0, 1, 2] and _zero(b[0] * a[2] - b[2] * a[0]) and _zero(b[1] * a[0] + b[0] * a[1]):
-            return make("allpass", [(b[0], 1), (a[0], -1)], w0_f, q_f)
-        return make("general", None, w0_f, q_f)
-    return StandardForm(order, "general")
+        gain = {(0,): (0, 0), (2,): (2, 2), (1,): (1, 1)}.get(tuple(nz))
+        kind = {(0,): "lowpass", (2,): "highpass", (1,): "bandpass"}.get(tuple(nz))
+        if gain is None and nz == [0, 2] and zero(b[0] * a[2] - b[2] * a[0]):
+            kind, gain = "notch", (0, 0)
+        if gain is None and nz == [0, 1, 2] and zero(b[0] * a[2] - b[2] * a[0]) and zero(b[1] * a[0] + b[0] * a[1]):
+            kind, gain = "allpass", (0, 0)
+        if gain is None:
+            return "general", fs
+        return kind, {**fs, "gain": [(b[gain[0]], 1), (a[gain[1]], -1)]}
+    return None, {}
 
 
 @dataclass(frozen=True)

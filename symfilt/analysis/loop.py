@@ -30,6 +30,8 @@ import sympy
 from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.numeric import magnitude_squared, positive_roots, trim
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+from symfilt.engine.polybridge import to_fmpq
+from symfilt.engine.rational import Ratio
 from symfilt.engine.solve import solve_unknown
 from symfilt.errors import CircuitError
 from symfilt.model.keep import fixture_values
@@ -37,7 +39,7 @@ from symfilt.model.circuit import Circuit, Part, S, part_symbol
 from symfilt.model.safe import as_sympy
 
 __all__ = ["Loop", "LoopView", "open_loop_gain", "loops", "margins", "feedback_sign", "check_polarity",
-           "substitute_loop", "MARGIN_WARNING_DEG"]
+           "feedback_polarities", "refuse_positive_feedback", "substitute_loop", "MARGIN_WARNING_DEG"]
 
 #: Phase margin below which a warning is given (common practice: 45° or more).
 MARGIN_WARNING_DEG = 45.0
@@ -174,9 +176,7 @@ def loops(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS, progress=None
     for part in circuit.parts:
         if part.kind != "opamp":
             continue
-        num, den = solve_unknown(circuit, drive="loop", opamp=part.name, max_terms=max_terms,
-                                 progress=progress).to_sympy()
-        beta = NetworkFunction(-num, den, quantity="transfer")
+        beta = _beta(circuit, part, max_terms, progress)
         views = {}
         put = fixture_values(circuit)  # partly symbolic (model.keep): the loaded view gets those values
         for key, b in (("loaded", beta.subs(put) if put else beta), ("ideal", beta.ideal())):
@@ -186,6 +186,50 @@ def loops(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS, progress=None
             views[key] = LoopView(b, t, margins(t, values) if t is not None else {}, missing)
         out.append(Loop(part.name, feedback_sign(beta, values), views["loaded"], views["ideal"], part.model))
     return tuple(out)
+
+
+def _beta(circuit: Circuit, part: Part, max_terms: int, progress) -> NetworkFunction:
+    """β(s) of one op-amp's loop, loaded."""
+    num, den = solve_unknown(circuit, drive="loop", opamp=part.name, max_terms=max_terms,
+                             progress=progress).to_sympy()
+    return NetworkFunction(-num, den, quantity="transfer")
+
+
+def feedback_polarities(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS, progress=None) -> dict[str, str]:
+    """Op-amp name -> the polarity of its loop (:func:`feedback_sign`), without loop gains or margins.
+
+    What :func:`check_polarity` reads, for a command that shows no loops (``spread``, ``size``):
+    the same β(s) as :func:`loops`, and the same refusal of a β that grows without bound
+    without the fixtures (its ideal view).
+
+    Parameters
+    ----------
+    circuit : Circuit
+    max_terms : int
+        Size budget of the elimination.
+    progress : callable, optional
+        Receives stage names.
+
+    Returns
+    -------
+    dict
+        In the order of the parts.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> feedback_polarities(catalogue.build("sallen-key-lowpass"))
+    {'U1': 'negative'}
+    """
+    values = circuit.values()
+    out = {}
+    for part in circuit.parts:
+        if part.kind == "opamp":
+            r = solve_unknown(circuit, drive="loop", opamp=part.name, max_terms=max_terms, progress=progress)
+            beta = NetworkFunction.from_ratio(Ratio(-r.num, r.den, r.symbols))  # -num/den as in _beta, on flint
+            beta.ideal()  # raises as loops() does when the ideal view is unbounded
+            out[part.name] = feedback_sign(beta, values)
+    return out
 
 
 def substitute_loop(loop: Loop, values: Mapping) -> Loop:
@@ -237,17 +281,45 @@ def feedback_sign(beta: NetworkFunction, values: Mapping) -> str:
         return "undecided"
     if beta.ratio.num == 0:
         return "none"
-    ncs, dcs = beta.coefficients()
+    ncs, dcs = beta.ratio.coefficients(S)
     k_num = next((k for k, c in enumerate(ncs) if c != 0), None)
     k_den = next((k for k, c in enumerate(dcs) if c != 0), None)
     if k_num is None or k_den is None or not 0 <= k_num - k_den <= 1:
         return "undecided"
+    exact = _exact_sign(beta.ratio, ncs[k_num], dcs[k_den], values)
+    if exact is not None:
+        return exact
+    ncs, dcs = beta.coefficients()
     c = as_sympy(ncs[k_num] / dcs[k_den]).xreplace(dict(values))
     if c.is_negative:
         return "positive"
     if c.is_positive:
         return "negative"
     return "undecided"
+
+
+def _exact_sign(ratio: Ratio, num, den, values: Mapping) -> str | None:
+    """The polarity from num/den at the values in flint rationals, when every symbol they hold has a
+    rational value (and pi is not among them); None otherwise (sympy's assumptions decide then)."""
+    import flint
+
+    given = {(k.name if hasattr(k, "name") else str(k)): v for k, v in values.items()}
+    qctx = flint.fmpq_mpoly_ctx.get(tuple(ratio.num.context().names()), "degrevlex")
+    point = []
+    for name, dn, dd in zip(qctx.names(), num.degrees(), den.degrees()):
+        sym = ratio.symbols[name]
+        if max(dn, dd) == 0:
+            point.append(flint.fmpq(0))
+            continue
+        v = given.get(sym.name) if isinstance(sym, sympy.Symbol) else None
+        v = as_sympy(v) if v is not None else None
+        if v is None or not v.is_Rational:
+            return None
+        point.append(flint.fmpq(int(v.p), int(v.q)))
+    c = to_fmpq(num, qctx)(*point) / to_fmpq(den, qctx)(*point) if to_fmpq(den, qctx)(*point) != 0 else None
+    if c is None or c == 0:
+        return None
+    return "positive" if c < 0 else "negative"
 
 
 def check_polarity(circuit: Circuit, found: tuple[Loop, ...]) -> None:
@@ -274,11 +346,33 @@ def check_polarity(circuit: Circuit, found: tuple[Loop, ...]) -> None:
     ...
     symfilt.errors.CircuitError: part U1: the feedback is positive: the output returns to the + input (node fb) more than to the - input (node in), so the stage latches instead of settling, swap plus and minus, or take the feedback to the - input
     """
-    for loop in found:
-        if loop.feedback == "positive":
-            plus, minus, _out = circuit.part(loop.opamp).nodes
+    refuse_positive_feedback(circuit, {loop.opamp: loop.feedback for loop in found})
+
+
+def refuse_positive_feedback(circuit: Circuit, polarities: Mapping[str, str]) -> None:
+    """Raise CircuitError for the first op-amp whose feedback is positive.
+
+    Parameters
+    ----------
+    circuit : Circuit
+    polarities : mapping
+        Op-amp name -> polarity, as :func:`feedback_polarities` gives it.
+
+    Raises
+    ------
+    CircuitError
+        Naming the op-amp, both inputs and the fix (the message of :func:`check_polarity`).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> refuse_positive_feedback(catalogue.build("sallen-key-lowpass"), {"U1": "negative"})
+    """
+    for name, polarity in polarities.items():
+        if polarity == "positive":
+            plus, minus, _out = circuit.part(name).nodes
             raise CircuitError(
-                f"part {loop.opamp}",
+                f"part {name}",
                 f"the feedback is positive: the output returns to the + input (node {plus}) more than to "
                 f"the - input (node {minus}), so the stage latches instead of settling",
                 "swap plus and minus, or take the feedback to the - input")

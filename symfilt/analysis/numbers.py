@@ -328,15 +328,36 @@ def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
         if row is not None:
             out[quantity] = row
     if "cutoff" not in out and stage.sensitivity and stage.cutoff.value is None and stage.cutoff.edges is None:
-        row = _numeric_cutoff_sensitivity(stage, values)
+        row = numeric_cutoff_sensitivity(stage, values)
         if row is not None:
             out["cutoff"] = row
     return out
 
 
-def _numeric_cutoff_sensitivity(stage: StageResult, values: Mapping) -> dict | None:
-    """S_x^cutoff where the cutoff was found numerically (no closed form), by the exact
-    implicit-function derivative of the root (:func:`~symfilt.analysis.response.cutoff_sensitivities`)."""
+def numeric_cutoff_sensitivity(stage: StageResult, values: Mapping) -> dict | None:
+    """S_x^cutoff where the cutoff is found numerically (no closed form), by the exact
+    implicit-function derivative of the root (:func:`~symfilt.analysis.response.cutoff_sensitivities`).
+
+    Parameters
+    ----------
+    stage : StageResult
+        One view; only its transfer function, form and cutoff are read.
+    values : mapping
+        Symbol -> exact number.
+
+    Returns
+    -------
+    dict or None
+        Symbol name -> float; None when a symbol lacks a value or there is no cutoff.
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> from symfilt.analysis.stage import analyse
+    >>> c = catalogue.build("rc-ladder")
+    >>> round(numeric_cutoff_sensitivity(analyse(c, sensitivity=False).loaded, c.values())["R1"], 4)
+    -0.4556
+    """
     h = stage.transfer
     if h.free_symbols() - {S} - set(values):
         return None

@@ -27,7 +27,7 @@ from symfilt.analysis.forms import RESPONSE_KINDS, Cutoff, StandardForm, cutoff,
 from symfilt.analysis.numbers import numeric_sensitivities, numeric_values, stability
 from symfilt.analysis.findings import Finding, finding
 from symfilt.analysis.numeric import magnitude_squared, numeric_cutoff, tidy as _tidy
-from symfilt.analysis.loop import check_polarity, loops, substitute_loop
+from symfilt.analysis.loop import check_polarity, feedback_polarities, loops, refuse_positive_feedback, substitute_loop
 from symfilt.model.safe import as_sympy, require
 
 #: Numbers left out of a view whose poles are in the right half-plane.
@@ -342,8 +342,57 @@ def settled_numbers(st: StageResult, values) -> dict:
     return numbers
 
 
+def _derived(circuit: Circuit, max_terms: int, progress, whole_loops: bool) -> tuple:
+    """H, Zin, Zout and the loops, after the refusals every analysis makes: an output the input
+    does not reach, and positive feedback (``whole_loops`` False: the polarities only, no loops)."""
+    h = derive(circuit, "transfer", max_terms=max_terms, progress=progress)
+    if h.ratio.num == 0:  # the output is not reached from the input: most likely a misspelt node
+        raise unreached_error(circuit)
+    zin = derive(circuit, "zin", max_terms=max_terms, progress=progress)
+    zout = derive(circuit, "zout", max_terms=max_terms, progress=progress)
+    if whole_loops:
+        found = loops(circuit, max_terms=max_terms, progress=progress)
+        check_polarity(circuit, found)
+    else:
+        found = ()
+        refuse_positive_feedback(circuit, feedback_polarities(circuit, max_terms=max_terms, progress=progress))
+    return h, zin, zout, found
+
+
+def loaded_transfer(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS) -> NetworkFunction:
+    """The loaded H(s) of a circuit, refused where :func:`analyse` refuses it, and nothing else derived.
+
+    For a command that evaluates H's coefficient polynomials itself (``spread``): no standard
+    forms, sympy views, loops or numbers. The same errors as :func:`analyse`, in the same order
+    (the output not reached, positive feedback, an ideal view that grows without bound).
+
+    Parameters
+    ----------
+    circuit : Circuit
+    max_terms : int
+        Size budget of the elimination.
+
+    Returns
+    -------
+    NetworkFunction
+        With the fixtures that are not kept put in (a partly symbolic circuit, :mod:`symfilt.model.keep`).
+
+    Examples
+    --------
+    >>> from symfilt import catalogue
+    >>> loaded_transfer(catalogue.build("rc-lowpass")).order()
+    1
+    """
+    require(circuit, Circuit, "loaded_transfer circuit", "build one with Circuit.build or load_circuit")
+    h, zin, zout, _found = _derived(circuit, max_terms, None, whole_loops=False)
+    for f in (h, zin, zout):
+        f.ideal()  # raises as analyse's ideal view does
+    put = fixture_values(circuit)
+    return h.subs(put) if put else h
+
+
 def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFAULT_MAX_TERMS,
-            progress: Callable[[str], None] | None = None, at=None) -> Analysis:
+            progress: Callable[[str], None] | None = None, at=None, numbers: bool = True) -> Analysis:
     """Derive and analyse a circuit, loaded and ideal.
 
     Parameters
@@ -358,6 +407,10 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
         Size budget of the elimination.
     progress : callable, optional
         Receives stage names.
+    numbers : bool
+        False: no numbers at the values (``numeric`` holds two empty tables) and no loops
+        (``loops`` is empty; positive feedback is still refused), for a caller that measures
+        only what it needs (``size``).
 
     Returns
     -------
@@ -366,6 +419,8 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     Examples
     --------
     >>> from symfilt import catalogue
+    >>> analyse(catalogue.build("rc-lowpass"), sensitivity=False, numbers=False).numeric
+    {'loaded': {}, 'ideal': {}}
     >>> a = analyse(catalogue.build("sallen-key-lowpass"))
     >>> a.ideal.form.kind, a.ideal.form.q
     ('lowpass', sqrt(C1)*sqrt(R1)*sqrt(R2)/(sqrt(C2)*(R1 + R2)))
@@ -373,13 +428,7 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     (['gain', 'q', 'w0'], True)
     """
     require(circuit, Circuit, "analyse circuit", "build one with Circuit.build or load_circuit")
-    h = derive(circuit, "transfer", max_terms=max_terms, progress=progress)
-    if h.ratio.num == 0:  # the output is not reached from the input: most likely a misspelt node
-        raise unreached_error(circuit)
-    zin = derive(circuit, "zin", max_terms=max_terms, progress=progress)
-    zout = derive(circuit, "zout", max_terms=max_terms, progress=progress)
-    found = loops(circuit, max_terms=max_terms, progress=progress)
-    check_polarity(circuit, found)
+    h, zin, zout, found = _derived(circuit, max_terms, progress, whole_loops=numbers)
     if progress:
         progress("standard forms and sensitivities")
     table_info = circuit.symbols()
@@ -391,10 +440,10 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
     loaded = _stage(*(f.subs(put) if put else f for f in (h, zin, zout)), symbols, sensitivity, at_hz)
     ideal = _stage(h.ideal(), zin.ideal(), zout.ideal(), symbols, sensitivity, at_hz)
     values = circuit.values()
-    if progress:
+    if progress and numbers:
         progress("numbers at the values")
-    numeric = {"loaded": settled_numbers(loaded, values), "ideal": settled_numbers(ideal, values)}
-    if sensitivity:
+    numeric = {key: settled_numbers(st, values) if numbers else {} for key, st in (("loaded", loaded), ("ideal", ideal))}
+    if sensitivity and numbers:
         if progress:
             progress("sensitivities at the values")
         for key, st in (("loaded", loaded), ("ideal", ideal)):
@@ -467,6 +516,6 @@ def substitute(analysis: Analysis) -> Analysis:
                     analysis.at_hz)
 
 
-__all__ = ["RESPONSE_KINDS", "Analysis", "Cutoff", "StageResult", "StandardForm", "analyse", "cutoff",
+__all__ = ["RESPONSE_KINDS", "Analysis", "Cutoff", "StageResult", "StandardForm", "analyse", "cutoff", "loaded_transfer",
            "numeric_cutoff", "numeric_sensitivities", "numeric_values", "second_order_root", "stability",
            "settled_numbers", "standard_form", "substitute"]

@@ -449,7 +449,7 @@ def size_joint(circuit, targets: Sequence, vary: Sequence, *, series: str = "E24
                          "give one --vary per --target (hold parts in a ratio with commas, e.g. --vary C1,C2)")
     if sum(len(g) for g in groups) > MAX_SNAPPED:
         raise UsageError("--vary", f"more than {MAX_SNAPPED} varied parts", "vary fewer parts")
-    a = analyse(circuit, sensitivity=False, max_terms=max_terms)
+    a = analyse(circuit, sensitivity=False, max_terms=max_terms, numbers=False)  # it measures its own numbers
     problem = _Problem(a, fixed_values(circuit, a, varied), groups, varied, tlist)
     found = _solve(problem)
     if not found:

@@ -38,6 +38,7 @@ from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.errors import UsageError
 from symfilt.model.values import format_value
 
+from symfilt.design.closed_form import closed_form_roots
 from symfilt.design.eseries import series_neighbours, series_values
 from symfilt.model.safe import as_sympy
 
@@ -163,65 +164,6 @@ def _condition(stage: StageResult, quantity: str, target):
         u = wt**2 / form.w0**2 if form.kind == "lowpass" else form.w0**2 / wt**2
         return 1 - 1 / (2 * form.q**2) - (u - 1 / u) / 2
     return None
-
-
-def _closed_form(condition, x, max_degree: int = 2) -> tuple[list, Finding | None]:
-    """Roots in x of the numerator of ``condition``, when each factor holding x is of
-    degree <= max_degree; else no roots and the reason."""
-    if sympy.count_ops(condition) > 4000:
-        return [], finding("equation-too-large")
-    num = sympy.numer(sympy.together(condition))
-    try:
-        poly = sympy.Poly(sympy.expand(num), x)
-    except sympy.PolynomialError:
-        return [], finding("equation-not-polynomial")
-    if poly.degree() > 8:
-        return [], finding("equation-degree", degree=poly.degree())
-    roots = []
-    for fac, _mult in sympy.factor_list(num, x)[1]:
-        p = sympy.Poly(fac, x)
-        if p.degree() == 0:
-            continue
-        # a polynomial in x^k only (parts scaled together): solve for y = x^k
-        k = math.gcd(*[m[0] for m in p.monoms()])
-        if p.degree() // k > max_degree:
-            return [], finding("equation-factor-degree", degree=p.degree())
-        roots += [r if k == 1 else sympy.root(r, k) for r in _low_degree_roots(p, x, k)]
-    return roots, None
-
-
-def _low_degree_roots(p: sympy.Poly, x, k: int) -> list:
-    """The roots in y = x^k of ``p`` (a polynomial in x^k of degree 1 or 2 in y), minus root first.
-
-    -c/b, or the quadratic formula (-b -+ sqrt(b^2 - 4ac))/(2a) on the exact coefficients with
-    the square factors of the discriminant taken out of the root and the factors common to a, b
-    and that root cancelled. Sign and realness are left to the caller, which keeps only the roots
-    positive at the values. No ``sympy.solve``: its simplification of each root took 1-3 s.
-    """
-    cs = [p.coeff_monomial(x ** (k * i)) for i in range(p.degree() // k + 1)]
-    if len(cs) == 2:
-        return [-cs[0] / cs[1]]
-    c, b, a = cs
-    out, radicand = _square_part(sympy.expand(b**2 - 4 * a * c))
-    g = sympy.gcd(sympy.gcd(b, out), a)
-    b, out, a = (sympy.cancel(v / g) for v in (b, out, a))
-    h = sympy.gcd(b, out)
-    b, out = sympy.factor(sympy.cancel(b / h)), sympy.cancel(out / h)
-    d = out * sympy.sqrt(radicand)
-    den = sympy.factor(2 * a)
-    return [h * (-b - d) / den, h * (-b + d) / den]
-
-
-def _square_part(d) -> tuple:
-    """(o, r) with d = o^2·r: the squares of d's positive factors (and of its constant) taken out."""
-    coeff, factors = sympy.factor_list(d)
-    out, rest = sympy.Integer(1), sympy.Integer(1)
-    for f, m in factors:
-        if f.is_positive:
-            out, rest = out * f ** (m // 2), rest * f ** (m % 2)
-        else:
-            rest *= f**m
-    return out * sympy.sqrt(abs(coeff)), sympy.expand(sympy.sign(coeff) * rest)
 
 
 def _rational(v: float) -> sympy.Rational:
@@ -371,7 +313,7 @@ def size(circuit: Circuit, target: tuple[str, object], vary: str | Sequence[str]
     names, varied = _read_vary(circuit, vary)
     first_name, x, first_value, kind = varied[0]
     ratio = {n: (sympy.Integer(1) if i == 0 else v / first_value) for i, (n, _s, v, _k) in enumerate(varied)}
-    a = analyse(circuit, sensitivity=False, max_terms=max_terms)
+    a = analyse(circuit, sensitivity=False, max_terms=max_terms, numbers=False)  # it measures its own numbers
     values = fixed_values(circuit, a, varied)
     tie = {s: x * ratio[n] for n, s, _v, _k in varied[1:]}
     notes: list[str] = []
@@ -432,7 +374,7 @@ def _neighbours(a, values: dict, varied: list, ratio: dict, value: float, series
         got = []
         for stage in (a.loaded, a.ideal):
             try:
-                got.append(numeric_values(stage, vals).get(key))
+                got.append(numeric_values(stage, vals, targets_only=True).get(key))
             except NoConvergence:
                 got.append(None)
         errs = [None if v is None else (v / goal - 1) * 100 for v in got]
@@ -497,7 +439,7 @@ def _evaluator(values: dict, varied, ratio: dict, key: str) -> Callable:
     def at(stage: StageResult, xv: sympy.Rational) -> float | None:
         vals = {**values, **{s: xv * ratio[n] for n, s, _v, _k in varied}}
         try:
-            return numeric_values(stage, vals).get(key)
+            return numeric_values(stage, vals, targets_only=True).get(key)
         except NoConvergence:
             return None
 
@@ -534,7 +476,7 @@ def _solutions(a, quantity: str, goal, x, tie: dict, values: dict, start: tuple,
         reason = finding("no-closed-form-quantity", quantity=quantity)
     else:
         cond = cond.xreplace(tie) if tie else cond
-        exact_roots, reason = _closed_form(cond, x)
+        exact_roots, reason = closed_form_roots(cond, x)
     candidates = []  # (float, exact or None)
     for r in exact_roots:
         v = finite_float(r, values)

@@ -1,13 +1,14 @@
 """Tolerance spread: Monte Carlo, worst case from the sensitivities, and exact corners.
 
-The derived closed forms of the loaded stage (cutoff, w0, Q, DC gain) are turned
-into vectorised numpy functions (``sympy.lambdify``), so a run of 20 000 samples is
-one array evaluation per quantity. A cutoff without a closed form (order three and
-up) is found per sample from the coefficient polynomials of H(s), evaluated in floats
-straight from flint (:func:`~symfilt.analysis.numeric.poly_values`: a ladder's
-coefficients have thousands of terms, too long a source for Python's compiler), as the
-lowest positive root of |H(jw)|^2 = |H(0)|^2 / 2, a
-polynomial in w^2 whose roots come from batched companion matrices.
+The loaded stage's cutoff, w0, Q and DC gain are vectorised numpy functions of the
+part values, evaluated straight from the flint coefficient polynomials of H(s)
+(:mod:`symfilt.analysis.vectorised`: the polynomials in floats by
+:func:`~symfilt.analysis.numeric.poly_values`, then the standard forms' formulas), so a
+run of 20 000 samples is a few array evaluations per quantity and no closed form is
+built or compiled. A cutoff without a closed form (order three and up) is found per
+sample as the lowest positive root of |H(jw)|^2 = |H(0)|^2 / 2, a polynomial in w^2
+whose roots come from batched companion matrices. The linear worst case uses the exact
+sensitivities at the values.
 
 Distributions: ``uniform`` spreads each part evenly over value x (1 +- tol);
 ``normal`` takes the tolerance as three standard deviations (sigma = tol / 3),
@@ -37,14 +38,13 @@ import math
 from dataclasses import dataclass, field
 from typing import Callable, Mapping, Sequence
 
-import sympy
-
 from symfilt.analysis.findings import finding
-from symfilt.analysis.numeric import batch_cutoff, log_difference, poly_values
-from symfilt.analysis.stage import analyse, numeric_sensitivities
+from symfilt.analysis.numeric import log_difference
+from symfilt.analysis.stage import loaded_transfer
+from symfilt.analysis.vectorised import coefficient_form, exact_sensitivities, quantity_functions
 from symfilt.model.circuit import Circuit, S
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
-from symfilt.errors import SizeLimitError, UsageError
+from symfilt.errors import UsageError
 
 DISTRIBUTIONS = ("uniform", "normal")
 #: Quantities of a spread run, in report order.
@@ -268,12 +268,16 @@ class VectorModel:
 
 
 def vector_model(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS) -> VectorModel:
-    """Lambdify the loaded cutoff (Hz), f0 (Hz), Q and DC gain of a circuit with numpy.
+    """Vectorised numpy functions of the loaded cutoff (Hz), f0 (Hz), Q and DC gain of a circuit.
+
+    Straight from the coefficient polynomials of the loaded H(s)
+    (:mod:`symfilt.analysis.vectorised`): no closed form is built or compiled, and the
+    sensitivities are the exact ones at the circuit's values.
 
     Parameters
     ----------
     circuit : Circuit
-        The circuit; its loaded stage is analysed with sensitivities.
+        The circuit; only its loaded transfer function is derived.
     max_terms : int
         Size budget of the elimination.
 
@@ -289,73 +293,62 @@ def vector_model(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS) -> Vec
     >>> round(float(m.evaluate("cutoff_hz", {str(k): float(v) for k, v in vals.items()})), 2)
     2088.4
     """
-    import numpy as np
-
-    a = analyse(circuit, sensitivity=True, max_terms=max_terms)
-    st = a.loaded
-    syms = sorted((x for x in st.transfer.free_symbols() if x != S), key=str)
+    h = loaded_transfer(circuit, max_terms=max_terms)
+    form = coefficient_form(h)
+    syms = sorted((x for x in h.free_symbols() if x != S), key=str)
     names = tuple(str(x) for x in syms)
-    two_pi = 2 * math.pi
-
-    def lam(expr, scale=1.0, what="closed form"):
-        try:
-            f = sympy.lambdify(syms, expr, "numpy")
-        except RecursionError:
-            raise SizeLimitError("spread", f"the {what} has {len(sympy.Add.make_args(sympy.expand(expr)))} terms, "
-                                 "too long for Python to compile into a Monte Carlo function",
-                                 "split the circuit into stages and spread each") from None
-        return lambda *args: np.asarray(f(*args), dtype=float) / scale + 0 * _shape(args)
-
-    functions: dict[str, Callable] = {}
-    if st.cutoff.value is not None:
-        functions["cutoff_hz"] = lam(st.cutoff.value, two_pi, "closed-form cutoff")
-    elif st.form.kind not in ("bandpass", "notch", "allpass") and (st.form.order >= 3 or st.form.kind == "general"):
-        functions["cutoff_hz"] = _coefficient_cutoff(st.transfer.ratio, names, two_pi)
-    if st.form.w0 is not None:
-        functions["f0_hz"] = lam(st.form.w0, two_pi, "closed form of w0")
-    if st.form.q is not None:
-        functions["q"] = lam(st.form.q, what="closed form of Q")
-    dc = st.transfer.dc_gain()
-    if dc not in (0, sympy.oo, sympy.zoo):  # a high-pass has no DC gain to spread
-        functions["dc_gain"] = lam(dc, what="closed form of the DC gain")
-    sens = numeric_sensitivities(st, circuit.values()) if not (set(syms) - set(circuit.values())) else {}
+    functions = quantity_functions(form, names)
+    values = circuit.values()
+    sens = exact_sensitivities(form, values) if not (set(syms) - set(values)) else {}
     table = {key: sens.get(_SENS_KEY[key]) for key in functions}
     return VectorModel(names, functions, table)
 
 
-def _coefficient_cutoff(ratio, names: tuple, two_pi: float) -> Callable:
-    """The -3 dB frequency (Hz) per sample from the flint coefficient polynomials of H(s).
+def percentiles(x, qs: Sequence[float]):
+    """``numpy.percentile(x, qs)`` (its default linear method, the same arithmetic) of a 1-D array
+    without NaNs, on a sorted copy: numpy's own partitions through ``numpy.unique``, whose first call
+    imports ``numpy.ma`` (a tenth of a spread run's own time).
 
-    Evaluated by :func:`poly_values`, never printed as source: a ladder's coefficients
-    have thousands of terms, too deep for Python's compiler behind ``sympy.lambdify``.
+    Parameters
+    ----------
+    x : numpy.ndarray
+        Finite values.
+    qs : sequence of float
+        Percentages, 0 to 100.
+
+    Returns
+    -------
+    numpy.ndarray
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> percentiles(np.array([3.0, 1.0, 2.0, 4.0]), (0, 50, 99)).tolist()
+    [1.0, 2.5, 3.9699999999999998]
     """
-    nb, nd = ratio.coefficients(S)
-
-    def numeric_cut(*args):
-        shape = _shape(args)
-        given = dict(zip(names, args))
-        point = {n: (math.pi if sym is sympy.pi else given.get(str(sym), 0.0)) for n, sym in ratio.symbols.items()}
-        cb = [poly_values(c, point) + shape for c in nb]
-        cd = [poly_values(c, point) + shape for c in nd]
-        return (batch_cutoff(cb, cd) / two_pi).reshape(shape.shape)
-
-    return numeric_cut
-
-
-def _shape(args):
     import numpy as np
 
-    arrays = [np.asarray(x, dtype=float) for x in args]
-    return np.zeros(np.broadcast_shapes(*[x.shape for x in arrays])) if arrays else np.zeros(())
-
-
+    a = np.sort(np.asarray(x, dtype=float))
+    n = a.shape[0]
+    virtual = (n - 1) * np.true_divide(np.asanyarray(qs), 100)
+    prev = np.floor(virtual)
+    nxt = prev + 1
+    prev[virtual >= n - 1] = nxt[virtual >= n - 1] = -1
+    prev[virtual < 0] = nxt[virtual < 0] = 0
+    prev, nxt = prev.astype(np.intp), nxt.astype(np.intp)
+    gamma = np.asanyarray(virtual - prev, dtype=virtual.dtype)
+    lo, hi = a[prev], a[nxt]
+    diff = hi - lo
+    out = np.add(lo, diff * gamma)
+    np.subtract(hi, diff * (1 - gamma), out=out, where=gamma >= 0.5, casting="unsafe", dtype=type(out.dtype))
+    return out
 
 
 def _stats(np, x):
     ok = x[np.isfinite(x)]
     if ok.size == 0:
         return None
-    p1, p50, p99 = np.percentile(ok, [1, 50, 99])
+    p1, p50, p99 = percentiles(ok, (1, 50, 99))
     return float(ok.mean()), float(ok.std(ddof=1)) if ok.size > 1 else 0.0, float(p1), float(p50), float(p99), int(x.size - ok.size)
 
 
