@@ -544,6 +544,45 @@ def test_sum_rules_on_every_catalogue_circuit(name):
         assert {r.quantity for r in a.rules} >= {"w0"}
 
 
+@pytest.mark.parametrize("name", catalogue.names())
+def test_sum_rules_by_euler_match_the_cancelled_sums(name, monkeypatch):
+    # Euler's theorem on homogeneous functions (REFERENCES.md, "Sensitivity and tolerances"): for
+    # p homogeneous of weighted degree d, sum_x w_x x dp/dx = d p, so the scaling sums of
+    # y = prod p_i^e_i are sum_i e_i d_i. The analysis takes its sums that way from the factor
+    # polynomials; here the same sums are formed from the per-symbol sensitivities and
+    # cancelled, as the rules were checked before, and the two must agree exactly.
+    from symfilt.analysis import sensitivity
+    from symfilt.analysis.stage import scaling_classes
+
+    c = catalogue.build(name)
+    a = analyse(c)
+    classes = scaling_classes(c)
+    by_cancel = sensitivity.sum_rules(a.loaded.sensitivity, classes)
+    seen = []
+    euler = sensitivity.scaling_sum
+    monkeypatch.setattr(sensitivity, "scaling_sum", lambda f, w: seen.append(euler(f, w)) or seen[-1])
+    by_euler = sensitivity.sum_rules(a.loaded.sensitivity, classes, a.loaded.factors)
+    assert by_euler == by_cancel == a.rules and a.rules
+    assert len(seen) == len(a.rules) and None not in seen  # each catalogue sum was Euler's, not the fallback
+
+
+def test_scaling_sum_needs_homogeneous_factors():
+    # Euler's theorem needs each factor homogeneous: R + C is not (degrees 1 and 0 in the
+    # resistors), so the sum is left to the cancelled form, which still decides the rule.
+    from symfilt.analysis.sensitivity import product_sensitivities, scaling_sum, sum_rules
+
+    assert scaling_sum([(R + C, 1)], {"R": 1}) is None
+    assert scaling_sum([(R * C + R**2, -1), (R, 1)], {"R": 1, "C": 1}) == -1  # degrees 2 and 1: -2 + 1
+    classes = {"R": "resistors", "C": "capacitors"}
+    for y in ([(R + C, 1)], [(R * C**2, 1)]):  # neither is a w0 (the first is not even homogeneous)
+        sens = {"w0": product_sensitivities(y, [R, C])}
+        rules = sum_rules(sens, classes, {"w0": y})
+        assert rules == sum_rules(sens, classes)
+        assert [r.holds for r in rules] == [False, False]
+    assert [r.total for r in sum_rules({"w0": product_sensitivities([(R * C**2, 1)], [R, C])}, classes,
+                                       {"w0": [(R * C**2, 1)]})] == [1, 2]
+
+
 def test_sum_rules_with_a_finite_gain_opamp():
     # Schaumann & Van Valkenburg (from memory; REFERENCES.md): the rules hold for op-amps of a pure,
     # dimensionless gain A. Sallen-Key with gain (R1, R2, C1, C2, Rf, Rg as above), A = 100k.

@@ -129,3 +129,26 @@ def test_no_floor_keeps_the_range():
     d = bode_data(a, points=10)
     assert d.floors == {}
     assert d.f[-1] == pytest.approx(default_range(d.marks)[1])
+
+
+@pytest.mark.parametrize("ratio, floor", [(1.42, True), (1.40, False)])
+def test_floor_needs_the_peak_3_db_above_the_level(ratio, floor):
+    # REFERENCES.md ("Biquad with equal pole and zero frequencies"): the peak is Qp/Qz at w0 over a
+    # level of 1 at DC and infinity; 1.42 is 3.05 dB, 1.40 is 2.92 dB, either side of the 3 dB rule.
+    import sympy
+
+    from symfilt.analysis.forms import cutoff, standard_form
+    from symfilt.analysis.network import NetworkFunction
+    from symfilt.analysis.numbers import high_frequency
+    from symfilt.analysis.stage import StageResult
+
+    s, w0, qz = sympy.Symbol("s"), sympy.Integer(1000), sympy.Rational(1, 2)
+    qp = qz * sympy.Rational(ratio)
+    h = NetworkFunction.from_expr((s**2 + s * w0 / qz + w0**2) / (s**2 + s * w0 / qp + w0**2))
+    form = standard_form(h)
+    assert form.kind == "general"
+    out = high_frequency(StageResult(h, None, None, form, cutoff(form)), {})
+    assert out["hf_slope_db_per_decade"] == 0
+    assert ("hf_gain" in out) is floor
+    if floor:
+        assert out["hf_gain"] == pytest.approx(1.0, rel=1e-12)

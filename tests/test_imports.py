@@ -52,3 +52,18 @@ except SystemExit:
 print("matplotlib" in sys.modules, out.read_text().count("<svg"))
 """
     assert fresh(code) == "False 1"
+
+
+def test_derive_of_a_real_op_amp_and_a_loaded_notch_does_not_import_numpy():
+    # the loop margins (adc-driver: a single-pole op-amp) and the high-frequency floor's peak search
+    # (twin-t-notch loaded: third order, m = n) take their roots from flint; numpy's import alone is 0.1 s
+    code = """
+import sys, io, contextlib
+from symfilt.cli import main
+with contextlib.redirect_stdout(io.StringIO()):
+    for name in ("adc-driver", "twin-t-notch"):
+        for fmt in ("text", "json"):
+            main(["derive", "@" + name, "--format", fmt])
+print("numpy" in sys.modules)
+"""
+    assert fresh(code) == "False"

@@ -29,6 +29,7 @@ import sympy
 
 from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.numeric import magnitude_squared, positive_roots, trim
+from symfilt.analysis.roots import exact_roots
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.polybridge import to_fmpq
 from symfilt.engine.rational import Ratio
@@ -451,9 +452,7 @@ def phase_deg(num: list, den: list, w: float) -> float:
     >>> round(phase_deg([1.0], [1.0, 1.0, 0.25], 1e6), 1)  # two poles at s = -2
     -180.0
     """
-    import numpy as np
-
-    zeros, poles = np.roots(num[::-1]), np.roots(den[::-1])
+    zeros, poles = _roots(num), _roots(den)
     lead = num[-1] / den[-1]
 
     def raw(x: float) -> float:
@@ -467,6 +466,12 @@ def phase_deg(num: list, den: list, w: float) -> float:
     if low + shift <= -180.0:
         shift += 360.0
     return raw(w) + shift
+
+
+def _roots(cs: list) -> list[complex]:
+    """Every root of a polynomial with float coefficients (lowest power first, the last not 0), by
+    :func:`~symfilt.analysis.roots.exact_roots`: certified, and no numpy to import."""
+    return exact_roots(cs) if len(cs) > 1 else []
 
 
 def _phase_crossover(num: list, den: list) -> float | None:

@@ -193,7 +193,65 @@ SCALING = {"resistors": (1, 0), "capacitors": (-1, 1), "inductors": (1, 1), "ban
 FREQUENCY_SUM = {"w0": -1, "q": 0, "gain": 0, "magnitude": None}
 
 
-def sum_rules(sens: Mapping[str, Mapping[str, sympy.Expr] | None], classes: Mapping[str, str]) -> tuple[SumRule, ...]:
+def scaling_sum(factors, weights: Mapping[str, int]) -> sympy.Rational | None:
+    """sum over x of w_x·S_x^y for y = product of p_i ** e_i, by Euler's theorem; None when it does not apply.
+
+    A polynomial p is weighted-homogeneous of degree d when every term has the same weighted
+    degree sum w_x·k_x (k_x the term's power of x); then sum_x w_x·x·dp/dx = d·p (Euler's theorem
+    on homogeneous functions), so sum_x w_x·S_x^y = sum_i e_i·d_i exactly, with no sum of
+    rational functions to cancel. Symbols without a weight count 0. When a factor is not
+    homogeneous (or not an expanded polynomial) the sum is left to the caller (None).
+
+    Parameters
+    ----------
+    factors : iterable of (sympy.Expr, number)
+        Polynomials and their exponents, as :func:`product_sensitivities` takes.
+    weights : mapping
+        Symbol name -> weight w_x (an integer).
+
+    Returns
+    -------
+    sympy.Rational or None
+
+    Examples
+    --------
+    >>> R1, R2, C1, C2 = sympy.symbols("R1 R2 C1 C2", positive=True)
+    >>> q = [(R1 * R2 * C1 * C2, sympy.Rational(1, 2)), (C2 * (R1 + R2), -1)]
+    >>> scaling_sum(q, {"R1": 1, "R2": 1}), scaling_sum(q, {"C1": 1, "C2": 1})
+    (0, 0)
+    >>> scaling_sum([(R1 + C1, 1)], {"R1": 1}) is None
+    True
+    """
+    total = sympy.Integer(0)
+    for p, e in factors:
+        degree = _weighted_degree(as_sympy(p), weights)
+        if degree is None:
+            return None
+        total += sympy.Rational(e) * degree
+    return total
+
+
+def _weighted_degree(p: sympy.Expr, weights: Mapping[str, int]) -> int | None:
+    """The one weighted degree of every term of a polynomial (sums, products and positive integer
+    powers of symbols and numbers); None when its terms differ in degree (or it is 0, or not such
+    a polynomial)."""
+    if p.is_number:
+        return None if p == 0 else 0
+    if p.is_Symbol:
+        return weights.get(p.name, 0)
+    if p.is_Pow and p.exp.is_Integer and p.exp > 0:
+        d = _weighted_degree(p.base, weights)
+        return None if d is None else d * int(p.exp)
+    if p.is_Mul or p.is_Add:
+        degrees = [_weighted_degree(a, weights) for a in p.args if not (p.is_Mul and a.is_number)]
+        if None in degrees or (p.is_Add and len(set(degrees)) > 1):
+            return None
+        return sum(degrees) if p.is_Mul else degrees[0]
+    return None
+
+
+def sum_rules(sens: Mapping[str, Mapping[str, sympy.Expr] | None], classes: Mapping[str, str],
+              factors: Mapping[str, list | None] | None = None) -> tuple[SumRule, ...]:
     """Check the scaling sum rules on derived sensitivities.
 
     Impedance scaling (every R, L, Rout, transresistance times k, every C over k) leaves a
@@ -211,6 +269,11 @@ def sum_rules(sens: Mapping[str, Mapping[str, sympy.Expr] | None], classes: Mapp
         quantities are ignored).
     classes : mapping
         Every symbol name (fixtures and op-amp parameters included) -> a key of :data:`SCALING`.
+    factors : mapping, optional
+        quantity -> the (polynomial, exponent) factors its sensitivities were taken from (as
+        :func:`product_sensitivities` took them). A sum whose factors are all homogeneous under
+        the scaling is then :func:`scaling_sum` (exact, no cancelling); any other sum is formed
+        from ``sens`` and cancelled.
 
     Examples
     --------
@@ -240,9 +303,14 @@ def sum_rules(sens: Mapping[str, Mapping[str, sympy.Expr] | None], classes: Mapp
             names = [n for n in weights if n in table]
             if not names:
                 continue
-            total = sympy.Add(*[weights[n] * table[n] for n in names])
-            total = sympy.cancel(sympy.together(total))
-            holds = sympy.cancel(total - expected) == 0
+            total = None
+            if factors and factors.get(quantity) is not None:
+                total = scaling_sum(factors[quantity], {n: weights[n] for n in names})
+            if total is not None:
+                holds = total == expected
+            else:
+                total = sympy.cancel(sympy.together(sympy.Add(*[weights[n] * table[n] for n in names])))
+                holds = sympy.cancel(total - expected) == 0
             out.append(SumRule(quantity, group, expected, total, bool(holds)))
     return tuple(out)
 

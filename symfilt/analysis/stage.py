@@ -51,6 +51,10 @@ class StageResult:
     sensitivity : dict
         quantity (``cutoff``, ``w0``, ``q``, ``dc_gain``) -> symbol name -> S_x^y
         (a quantity without a closed form maps to None).
+    factors : dict
+        quantity (``w0``, ``q``, ``gain``, ``magnitude``) -> the (polynomial, exponent)
+        factors of the quantity its sensitivities were taken from (None without a closed
+        form); the sum rules read them. Not compared.
 
     Examples
     --------
@@ -66,6 +70,7 @@ class StageResult:
     form: StandardForm
     cutoff: Cutoff
     sensitivity: dict = field(default_factory=dict)
+    factors: dict = field(default_factory=dict, compare=False, repr=False)
 
     def dc_gain(self):
         """H(0) of this view.
@@ -184,7 +189,7 @@ def _stage(transfer: NetworkFunction, zin: NetworkFunction, zout: NetworkFunctio
            at_hz=None) -> StageResult:
     form = standard_form(transfer)
     cut = cutoff(form)
-    sens = {}
+    sens, kept = {}, {}
     if want_sens:
         syms = [x for x in symbols if x in transfer.free_symbols()]
         b, a = transfer.lazy_coefficients()  # only the end coefficients are read: a large one stays unconverted
@@ -192,16 +197,19 @@ def _stage(transfer: NetworkFunction, zin: NetworkFunction, zout: NetworkFunctio
         def table(factors):
             return product_sensitivities(factors, syms)
 
-        s_w0, s_q = table(form.factors.get("w0")), table(form.factors.get("q"))
+        kept = {"w0": form.factors.get("w0"), "q": form.factors.get("q"), "gain": passband_gain_factors(form, b, a)}
+        if at_hz is not None:
+            kept["magnitude"] = magnitude_factors(transfer, at_hz)
+        s_w0, s_q = table(kept["w0"]), table(kept["q"])
         dc_f = None
         if a[0] != 0 and b[0] != 0:
             dc_f = [(b[0], 1), (a[0], -1)]
         s_wz = table(form.factors.get("zero"))
         sens = {"cutoff": _cutoff_sensitivity(form, s_w0, s_q, s_wz), "w0": s_w0, "q": s_q, "dc_gain": table(dc_f),
-                "gain": table(passband_gain_factors(form, b, a))}
+                "gain": table(kept["gain"])}
         if at_hz is not None:
-            sens["magnitude"] = table(magnitude_factors(transfer, at_hz))
-    return StageResult(transfer, zin, zout, form, cut, sens)
+            sens["magnitude"] = table(kept["magnitude"])
+    return StageResult(transfer, zin, zout, form, cut, sens, kept)
 
 
 def passband_gain_factors(form: StandardForm, b: list, a: list) -> list | None:
@@ -458,7 +466,7 @@ def analyse(circuit: Circuit, *, sensitivity: bool = True, max_terms: int = DEFA
         else:
             if progress:
                 progress("sum-rule checks")
-            rules = sum_rules(loaded.sensitivity, scaling_classes(circuit))
+            rules = sum_rules(loaded.sensitivity, scaling_classes(circuit), loaded.factors)
             if not rules:
                 note = finding("sum-rules-no-w0")
     return Analysis(circuit, loaded, ideal, numeric, rules, note, found, at_hz)
