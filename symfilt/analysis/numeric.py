@@ -14,6 +14,7 @@ numpy is imported only inside :func:`batch_cutoff` and :func:`poly_values` (it i
 
 from __future__ import annotations
 
+import functools
 import math
 from typing import Callable, Mapping, Sequence
 
@@ -467,6 +468,7 @@ def finite_float(e, values: Mapping | None = None) -> float | None:
     return v.real
 
 
+@functools.lru_cache(maxsize=2048)
 def tidy(e, *, radicals: bool = False, cancel_below: int = 400, factor_below: int = 120):
     """An exact expression cancelled and factored when small enough to be worth it.
 
