@@ -19,7 +19,7 @@ from symfilt import catalogue
 from symfilt.analysis.stage import analyse, substitute
 from symfilt.export.common import Parallel
 from symfilt.export.correction import corrections, quantity
-from symfilt.export.eng_numbers import eng_text
+from symfilt.export.eng_numbers import eng_text, exact_eng
 from symfilt.export.impedance_form import impedance_display, impedance_form
 from symfilt.export.readable import Ordered, Root, exact, grouped, readable
 from symfilt.export.text import one_line
@@ -259,3 +259,15 @@ def test_a_large_json_result_reads_back_with_sympify_at_default_settings():
     at = {x: sympy.Rational(k + 2, 7) for k, x in enumerate(sorted(exact_h.free_symbols, key=str))}
     at_names = {sympy.Symbol(x.name): v for x, v in at.items()}
     assert back.xreplace(at_names) == exact_h.xreplace(at)
+
+
+def test_a_long_number_that_a_short_mantissa_gives_exactly_stays_exact(run_cli):
+    # Sizing to fc = 2 kHz puts wc = 2*pi*2000 = 4000*pi and wc^2 = 16e6*pi^2 into the closed
+    # form (common practice); written in engineering notation they must still be exact.
+    for r in (sympy.Integer(64000000000), sympy.Rational(1, 6400000000), sympy.Integer(500000)):
+        shown = exact_eng(r)
+        mant, _, exp = shown.name.partition("e")
+        assert sympy.Rational(mant) * sympy.Integer(10) ** int(exp or 0) == r
+    assert exact_eng(sympy.Rational(1, 3)) is None and exact_eng(sympy.Integer(157904356)) is None
+    code, out, _err = run_cli("size", "@sallen-key-lowpass", "--target", "cutoff=2k", "--vary", "R1")
+    assert code == 0 and "16e6·pi^2·C1^2·R2^2 + 1" in out and "4000·pi·C2" in out

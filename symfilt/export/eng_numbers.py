@@ -8,8 +8,10 @@ numerator of at most five digits and a denominator of at most 12 (the denominato
 derivation produces), or of at most five digits where it multiplies symbols
 (``R_L/(4000·pi·C1·R_L - 1)``); otherwise it is shown as a decimal, plainly between 0.1 and 10 000
 (``0.5814``, ``72.11``), else as mantissa times a power of ten that is a multiple of three
-(``17.17e3``, ``3.391e-9``; LaTeX ``17.17 \\cdot 10^{3}``). JSON always keeps the exact
-value.
+(``17.17e3``, ``3.391e-9``; LaTeX ``17.17 \\cdot 10^{3}``). A long number that a short
+mantissa and a power of ten give exactly keeps its exactness in that form
+(``64000000000·pi^3`` is ``64e9·pi^3``, 1/6400000000 is ``156.25e-12``). JSON always keeps the
+exact value.
 """
 
 from __future__ import annotations
@@ -68,6 +70,8 @@ class Eng(sympy.Symbol):
     ----------
     value : float
         The value (positive; a negative number is shown as ``-1 * Eng(|x|)``).
+    text : str, optional
+        The text to show (default :func:`eng_text` of the value).
 
     Examples
     --------
@@ -76,13 +80,13 @@ class Eng(sympy.Symbol):
     17.17e3 17.17 \\cdot 10^{3} 17170.2
     """
 
-    def __new__(cls, value: float):
-        obj = super().__new__(cls, eng_text(value), positive=True)
+    def __new__(cls, value: float, text: str | None = None):
+        obj = super().__new__(cls, text or eng_text(value), positive=True)
         obj.value = value
         return obj
 
     def __getnewargs_ex__(self):
-        return (self.value,), {}
+        return (self.value, self.name), {}
 
     def _sympystr(self, printer):
         return self.name
@@ -116,11 +120,47 @@ def _exponent_only(x, r) -> bool:
     return all(p.exp == r for p in x.atoms(sympy.Pow) if r in p.args) and r.q == 2 and abs(r.p) == 1
 
 
+#: Most significant digits of a rational written exactly in engineering notation (64e9, 156.25e-12).
+EXACT_DIGITS = 6
+
+
+def exact_eng(r):
+    """An :class:`Eng` showing the positive rational ``r`` exactly (``64000000000`` as ``64e9``),
+    or None when no text of at most :data:`EXACT_DIGITS` significant digits is exact.
+
+    Parameters
+    ----------
+    r : sympy.Rational
+
+    Examples
+    --------
+    >>> print(exact_eng(sympy.Integer(64000000000)), exact_eng(sympy.Rational(1, 6400000000)))
+    64e9 156.25e-12
+    >>> exact_eng(sympy.Rational(1, 3)) is None
+    True
+    """
+    if not r.is_Rational or r <= 0:
+        return None
+    for digits in range(1, EXACT_DIGITS + 1):
+        text = _digits(float(r), digits)
+        mant, _, exp = text.partition("e")
+        if "e" in mant or "+" in text:
+            continue  # too few digits for the mantissa's whole part
+        if sympy.Rational(mant) * sympy.Integer(10) ** int(exp or 0) == r:
+            return Eng(float(r), text)
+    return None
+
+
 def _shown(x, strict: bool = True):
     if _exact_enough(x, strict):
         return x
     from symfilt.export.readable import exact
 
+    coeff, rest = x.as_coeff_Mul()
+    if rest != 1 and _exact_enough(rest, strict):  # 64000000000·pi^3: the integer exactly, as 64e9·pi^3
+        shown = exact_eng(abs(coeff))
+        if shown is not None:
+            return sympy.Mul(shown if coeff > 0 else -shown, rest)
     v = float(exact(x))  # a display root or parallel of numbers evaluated
     return Eng(v) if v > 0 else -Eng(-v) if v < 0 else sympy.Integer(0)
 
