@@ -153,6 +153,7 @@ def _split_parallel(num_factors: list, den_sum: sympy.Expr):
         ctx = PolyContext([num, den_sum])
         n = ctx.to_flint(num)
         flint_terms = [ctx.to_flint(t) for t in terms]
+        total = ctx.to_flint(den_sum)
     except (sympy.PolynomialError, ValueError, TypeError):
         return None
     for k in range(1, len(terms) // 2 + 1):
@@ -162,8 +163,7 @@ def _split_parallel(num_factors: list, den_sum: sympy.Expr):
             if not _resistive(a) or not _resistive(b) or a.is_number or b.is_number:
                 continue
             fa = sum((flint_terms[i] for i in group), ctx.to_flint(sympy.Integer(0)))
-            fb = sum((flint_terms[i] for i in range(len(terms)) if i not in group), ctx.to_flint(sympy.Integer(0)))
-            q, r = divmod(n, fa * fb)
+            q, r = divmod(n, fa * (total - fa))
             if r.is_zero():
                 return _factor(a), _factor(b), ctx.to_sympy(q)
     return None

@@ -71,10 +71,7 @@ def _square_ratio(loaded, ideal):
     top, bottom = flint_fraction(ctx, loaded, 2), flint_fraction(ctx, ideal, 2)
     if top is None or bottom is None:
         return None
-    num, den = top[0] * bottom[1], top[1] * bottom[0]
-    g = num.gcd(den)
-    num, den = num / g, den / g
-    return factor_ratio(ctx.to_sympy(num), ctx.to_sympy(den))
+    return factor_ratio(ctx.to_sympy(top[0] * bottom[1]), ctx.to_sympy(top[1] * bottom[0]))  # cancelled there
 
 
 def corrections(loaded_view, ideal_view, show) -> dict:

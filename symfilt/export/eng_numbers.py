@@ -20,6 +20,8 @@ import math
 
 import sympy
 
+from symfilt.model.circuit import S
+
 #: Largest numerator (absolute) and denominator a number may have and stay exact.
 EXACT_MAX_NUMERATOR = 99999
 EXACT_MAX_DENOMINATOR = 12
@@ -163,9 +165,6 @@ def _shown(x, strict: bool = True):
             return sympy.Mul(shown if coeff > 0 else -shown, rest)
     v = float(exact(x))  # a display root or parallel of numbers evaluated
     return Eng(v) if v > 0 else -Eng(-v) if v < 0 else sympy.Integer(0)
-
-
-S = sympy.Symbol("s")
 
 
 def _numeric_ratio(expr):

@@ -16,14 +16,13 @@ from __future__ import annotations
 import sympy
 
 from symfilt.engine.polybridge import PolyContext
-from symfilt.engine.rational import factor_ratio
+from symfilt.engine.rational import cancel_pair, factor_ratio
 from symfilt.export.common import Parallel
 from symfilt.export.readable import ordered, readable
+from symfilt.model.circuit import S
 
 #: Impedances with more terms (numerator plus denominator) than this are not searched.
 SEARCH_MAX_TERMS = 60
-
-S = sympy.Symbol("s")
 
 
 def part_impedance(symbol):
@@ -93,10 +92,10 @@ def impedance_form(num, den):
     >>> print(impedance_form(C1 * R1 * RL * s + R1 + RL, C1 * RL * s + 1))
     R1 + (R_L || 1/(C1*s))
     """
-    if sum(len(sympy.Add.make_args(sympy.expand(p))) for p in (num, den)) > SEARCH_MAX_TERMS:
-        return factor_ratio(num, den)
     ctx = PolyContext([num, den, S])
     n, d = ctx.to_flint(num), ctx.to_flint(den)
+    if len(n) + len(d) > SEARCH_MAX_TERMS:
+        return factor_ratio(num, den)
     return _peel(ctx, n, d)
 
 
@@ -105,10 +104,10 @@ def _peel(ctx, n, d):
     for sym in _part_symbols(ctx, n, d):
         zn, zd = _as_pair(ctx, part_impedance(sym))
         shown = readable(part_impedance(sym))
-        rn, rd = _reduced(n * zd - zn * d, d * zd)  # Z - z
+        rn, rd = cancel_pair(n * zd - zn * d, d * zd)  # Z - z
         if not rn.is_zero() and not _holds(ctx, sym, rn, rd):
             return ordered([shown, *_series_terms(_peel(ctx, rn, rd))])
-        rn, rd = _reduced(n * zn, d * zn - n * zd)  # 1/(1/Z - 1/z)
+        rn, rd = cancel_pair(n * zn, d * zn - n * zd)  # 1/(1/Z - 1/z)
         if not rd.is_zero() and not rn.is_zero() and not _holds(ctx, sym, rn, rd):
             return Parallel(shown, *_parallel_args(_peel(ctx, rn, rd)))
     return readable(factor_ratio(ctx.to_sympy(n), ctx.to_sympy(d)))
@@ -124,14 +123,6 @@ def _part_symbols(ctx, n, d) -> list:
 def _as_pair(ctx, z):
     num, den = sympy.fraction(z)
     return ctx.to_flint(num), ctx.to_flint(den)
-
-
-def _reduced(n, d):
-    """n/d with their gcd divided out."""
-    if d.is_zero() or n.is_zero():
-        return n, d
-    g = n.gcd(d)
-    return n / g, d / g
 
 
 def _holds(ctx, sym, n, d) -> bool:

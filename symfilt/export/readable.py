@@ -24,9 +24,10 @@ import sympy
 from sympy.printing.precedence import PRECEDENCE, precedence
 
 from symfilt.engine.polybridge import PolyContext, poly_to_sympy, smaller_than
-from symfilt.engine.rational import Ratio
+from symfilt.engine.rational import Ratio, cancel_pair
 from symfilt.export.common import Parallel, parallel_display
 from symfilt.export.eng_numbers import engineering
+from symfilt.model.circuit import S
 
 #: Sums with more terms than this are printed as they are (grouping them reads no better).
 GROUP_MAX_TERMS = 40
@@ -205,7 +206,7 @@ def grouped_form(expr):
     """
     if expr is None or not isinstance(expr, sympy.Expr) or expr.is_number or _shown(expr):
         return expr
-    if expr.has(sympy.Symbol("s")) or not smaller_than(expr, 300):
+    if expr.has(S) or not smaller_than(expr, 300):
         return parallel_display(expr)
     if isinstance(expr, sympy.Add) and any(sympy.fraction(t)[1] != 1 for t in expr.args):
         return sympy.Add(*[grouped_form(t) for t in expr.args])  # a sum of fractions stays one
@@ -230,8 +231,6 @@ def _radical_split(expr):
     rational, radicand = [], []
     for f in sympy.Mul.make_args(expr):
         base, e = f.as_base_exp()
-        if f.is_number and not e.is_Integer and not base.is_number:
-            return None
         if not e.is_Rational or e.q not in (1, 2) or (not base.is_number and _has_root(base)):
             return None
         if e.q == 1 or (base.is_number and not base.is_positive):
@@ -281,8 +280,8 @@ def _factors(r):
         num, den = ratio.num, ratio.den
         convert = lambda f: poly_to_sympy(f, ratio.symbols)
     else:
-        g = pair[0].gcd(pair[1])
-        num, den, convert = pair[0] / g, pair[1] / g, ctx.to_sympy
+        num, den = cancel_pair(*pair)
+        convert = ctx.to_sympy
     (cn, pn), (cd, pd) = num.factor(), den.factor()
     side = lambda fs: [convert(f) ** e for f, e in fs]
     return _rational(cn) / _rational(cd), side(pn), side(pd)
@@ -319,15 +318,10 @@ def flint_fraction(ctx, expr, power: int = 1):
         k = e * power
         if not k.is_Integer or any(not q.exp.is_Integer or q.exp < 0 for q in base.atoms(sympy.Pow)):
             return None
-        if base.is_Rational:
+        try:
             p = ctx.to_flint(base)
-        elif isinstance(base, sympy.Symbol):
-            p = ctx.gen(base)
-        else:
-            try:
-                p = ctx.to_flint(base)
-            except (sympy.PolynomialError, ValueError, TypeError):
-                return None
+        except (sympy.PolynomialError, ValueError, TypeError):
+            return None
         p = p ** abs(int(k))
         num, den = (num * p, den) if k > 0 else (num, den * p)
     return num, den
@@ -391,7 +385,7 @@ def grouped(p):
     (R1 + R_s)*(R2 + R3) + R2*R3
     """
     terms = sympy.Add.make_args(p)
-    if len(terms) < 3 or len(terms) > GROUP_MAX_TERMS or p.has(sympy.Symbol("s")):
+    if len(terms) < 3 or len(terms) > GROUP_MAX_TERMS or p.has(S):
         return p
     try:
         ctx = PolyContext([p])
@@ -414,7 +408,7 @@ def _merge_sums(f, atoms: dict):
             for b in live:
                 if a < b and f.derivative(a) == f.derivative(b):
                     keep, drop = (b, a) if _fixture(atoms[a]) else (a, b)
-                    atoms[keep] = _atom_sum(atoms[keep], atoms[drop])
+                    atoms[keep] = sympy.Add(atoms[keep], atoms[drop])  # kept as one group
                     f = f.subs({f.context().names()[drop]: 0})
                     del atoms[drop]
                     found = True
@@ -422,11 +416,6 @@ def _merge_sums(f, atoms: dict):
             if found:
                 break
     return f
-
-
-def _atom_sum(a, b):
-    """The sum two atoms stand for, kept as one group."""
-    return sympy.Add(a, b)
 
 
 def _fixture(atom) -> bool:
@@ -459,7 +448,7 @@ def _content(coeffs):
     """The positive rational common to every coefficient (gcd of numerators over lcm of denominators)."""
     from math import gcd, lcm
 
-    cs = [sympy.Rational(int(c.p), int(c.q)) for c in coeffs]
+    cs = [_rational(c) for c in coeffs]
     return sympy.Rational(gcd(*[int(c.p) for c in cs]), lcm(*[int(c.q) for c in cs]))
 
 
@@ -472,6 +461,6 @@ def _minus(m: tuple, i: int, k: int) -> tuple:
 
 
 def _monomial(m: tuple, c, atoms: dict):
-    q = sympy.Rational(int(c.p), int(c.q))
+    q = _rational(c)
     factors = [atoms[i] ** e for i, e in enumerate(m) if e]
     return sympy.Mul(q, *factors) if q != 1 else sympy.Mul(*factors)
