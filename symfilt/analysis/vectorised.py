@@ -286,7 +286,7 @@ def _exact_row(ratio, factors: list, names: list, point: dict) -> dict:
     """Symbol name -> S_x of prod p_i^e_i as a flint rational (None where a p_i is 0 at the point)."""
     import flint
 
-    qctx = flint.fmpq_mpoly_ctx.get(tuple(ratio.num.context().names()), "degrevlex")
+    qctx = _rational_ring(ratio)
     order = list(qctx.names())
     at = [point[n] for n in order]
     polys = []
@@ -347,11 +347,15 @@ def _plus(s_w0, g, a, b):
 
 def _exact_value(form: CoefficientForm, key: str, i: int, point: dict):
     """The i-th polynomial of a quantity's factors at the point, a flint rational."""
+    qctx = _rational_ring(form.transfer.ratio)
+    return to_fmpq(form.factors[key][i][0], qctx)(*[point[n] for n in qctx.names()])
+
+
+def _rational_ring(ratio):
+    """The rational polynomial ring over the generators of ``ratio`` (to evaluate at flint rationals)."""
     import flint
 
-    ratio = form.transfer.ratio
-    qctx = flint.fmpq_mpoly_ctx.get(tuple(ratio.num.context().names()), "degrevlex")
-    return to_fmpq(form.factors[key][i][0], qctx)(*[point[n] for n in qctx.names()])
+    return flint.fmpq_mpoly_ctx.get(tuple(ratio.num.context().names()), "degrevlex")
 
 
 def _floats(row: dict) -> dict:
