@@ -457,8 +457,11 @@ def finite_float(e, values: Mapping | None = None) -> float | None:
     """
     if e is None:
         return None
+    e = as_sympy(e)
+    if e.free_symbols - set(values or ()):  # a symbol without a value: no number (found before evaluating)
+        return None
     if values is not None:
-        e = as_sympy(e).xreplace(dict(values))
+        e = e.xreplace(dict(values))
     try:
         v = complex(sympy.N(e, 30))
     except (TypeError, ValueError, ZeroDivisionError):

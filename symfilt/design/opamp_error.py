@@ -36,6 +36,7 @@ Examples
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass, field, replace
 
@@ -44,11 +45,13 @@ import sympy
 from symfilt.analysis.forms import cutoff as cutoff_of
 from symfilt.analysis.forms import standard_form
 from symfilt.analysis.findings import finding
-from symfilt.analysis.numeric import finite_float, magnitude_squared, numeric_cutoff, tidy
+from symfilt.analysis.numeric import finite_float, numeric_cutoff, tidy
+from symfilt.design.opamp_eps import EpsPolys, eps_polys, exact_point, s_coefficients, same_ratio, value_at
 from symfilt.model.circuit import Circuit, S
 from symfilt.model.fixture import Fixture
 from symfilt.model.opamp import model_parameters
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
+from symfilt.engine.rational import cancel_pair
 from symfilt.errors import UsageError
 from symfilt.analysis.network import NetworkFunction, derive
 
@@ -104,39 +107,33 @@ class OpampError:
     notes: tuple = ()
 
 
-def _eps_polys(h: NetworkFunction, eps: dict):
-    """Numerator and denominator of h with each symbol X of ``eps`` replaced by 1/e_X,
-    both multiplied by e_X^k so that they stay polynomials in e_X."""
-    num, den = h.num, h.den
-    for sym, e in eps.items():
-        k = max(sympy.degree(num, sym), sympy.degree(den, sym))
-        num = sympy.expand(num.xreplace({sym: 1 / e}) * e**k)
-        den = sympy.expand(den.xreplace({sym: 1 / e}) * e**k)
-    return num, den
-
-
-def _mag2(p, w2):
-    """|p(jw)|^2 as a polynomial in w2 = w^2, for p a polynomial in s."""
-    coeffs = sympy.Poly(p, S).all_coeffs()[::-1]
-    mag = magnitude_squared(coeffs, zero=sympy.Integer(0))
-    return sympy.expand(sum((c * w2**k for k, c in enumerate(mag)), sympy.Integer(0)))
-
-
-def _second_order_coefficient(f_real, f_ideal, sym, e):
+def _second_order_coefficient(polys: EpsPolys, f_ideal, name: str):
     """d(ln w_c)/d(1/X) at 1/X = 0 for a second-order low-pass or high-pass, through w0 and Q:
     w_c = w0 r(Q)^(+-1) (analysis.second_order_root), so d ln w_c = d ln w0 +- g d ln Q with
-    g = 1/(2 Q^2 sqrt(x^2 + 1)), x = 1 - 1/(2 Q^2), Q the ideal one. w0^2 and Q^2 are rational."""
-    def dlog(sq_real, sq_ideal):
-        f = sympy.cancel(sympy.together(sq_real.xreplace({sym: 1 / e})))
-        return sympy.cancel(sympy.diff(f, e).xreplace({e: 0}) / sq_ideal) / 2
-
-    a = dlog(f_real.w0**2, f_ideal.w0**2)
-    b = dlog(f_real.q**2, f_ideal.q**2)
-    q2 = sympy.cancel(f_ideal.q**2)
-    x = 1 - 1 / (2 * q2)
-    g = 1 / (2 * q2 * sympy.sqrt(sympy.factor(sympy.cancel(x**2 + 1))))
+    g = 1/(2 Q^2 sqrt(x^2 + 1)), x = 1 - 1/(2 Q^2), Q the ideal one. With a_k the
+    denominator's coefficients of s^k in e = 1/X, w0^2 = a0/a2 and Q^2 = a0 a2/a1^2, so
+    d ln w0 = (a0'/a0 - a2'/a2)/2 and d ln Q = (a0'/a0 + a2'/a2)/2 - a1'/a1 at e = 0 (flint).
+    None when a term is too large to show (its polynomials alone have more than _SHOWN additions)."""
+    a0, a1, a2 = (s_coefficients(polys.den) + [polys.den * 0] * 3)[:3]
+    (n0, d0), (n1, d1), (n2, d2) = (polys.log_slope(a, name) for a in (a0, a1, a2))
+    a_pair = cancel_pair(n0 * d2 - n2 * d0, 2 * d0 * d2)
+    b_pair = cancel_pair(n0 * d2 * d1 + n2 * d0 * d1 - 2 * n1 * d0 * d2, 2 * d0 * d1 * d2)
+    if any(len(n) + len(d) - 2 > _SHOWN for n, d in (a_pair, b_pair)):
+        return None  # more additions than a shown coefficient has operations, whatever tidy makes of it
+    a = tidy(polys.quotient(*a_pair))
+    if b_pair[0] == 0:
+        return a
+    b = tidy(polys.quotient(*b_pair))
     sign = 1 if f_ideal.kind == "lowpass" else -1
-    return tidy(a) + sign * tidy(b) * g if b != 0 else tidy(a)
+    return a + sign * b * _q_weight(f_ideal.q)
+
+
+@functools.lru_cache(maxsize=64)
+def _q_weight(q):
+    """g = 1/(2 Q^2 sqrt(x^2 + 1)), x = 1 - 1/(2 Q^2): the weight of d ln Q in d ln w_c (one per ideal Q)."""
+    q2 = sympy.cancel(q**2)
+    x = 1 - 1 / (2 * q2)
+    return 1 / (2 * q2 * sympy.sqrt(sympy.factor(sympy.cancel(x**2 + 1))))
 
 
 #: The ``model`` of an :class:`OpampError` of the circuit as given.
@@ -232,24 +229,17 @@ def opamp_error(circuit: Circuit, model: str | None = "gain", *, gain=None, gbw=
     if extras:
         notes.append(finding("opamp-error-exact-only", parameters=tuple(extras)))
     eps = {} if extras else _eps_symbols([p for p in real.parts if p.kind == "opamp"])
-    at_zero = {e: 0 for e in eps.values()}
-    n_e, d_e = _eps_polys(h_real, eps)
-    n0, d0 = n_e.xreplace(at_zero), d_e.xreplace(at_zero)
-    if not extras and (d0 == 0 or sympy.expand(n0 * h_ideal.den - d0 * h_ideal.num) != 0):
+    polys = eps_polys(h_real, [str(sym) for sym in eps])
+    n0, d0 = polys.at_zero(polys.num), polys.at_zero(polys.den)
+    if not extras and (d0 == 0 or not same_ratio(polys, n0, d0, h_ideal)):
         raise UsageError("opamp error", "the circuit does not tend to its ideal-op-amp form as A grows",
                          "check every op-amp has negative feedback")
     model = AS_GIVEN if model is None else model
     dc_ideal, dc_real = h_ideal.dc_gain(), h_real.dc_gain()
-    dc_error, dc_first = _dc_terms(dc_ideal, dc_real, (n_e, d_e), eps, notes)
+    dc_error, dc_first = _dc_terms(dc_ideal, dc_real, polys, eps, notes)
     f_real, f_ideal = standard_form(h_real), standard_form(h_ideal)
     c_real, c_ideal = cutoff_of(f_real).value, cutoff_of(f_ideal).value
-    cut_error = c_real / c_ideal - 1 if c_real is not None and c_ideal is not None else None
-    nested = cut_error is not None and _nested_radical(cut_error)
-    if cut_error is not None and f_real.kind != "general" and not nested and sympy.count_ops(cut_error) <= _BIG:
-        cut_error = tidy(cut_error)
-    if cut_error is not None and (f_real.kind == "general" or nested or sympy.count_ops(cut_error) > _SHOWN):
-        cut_error = None
-        notes.append(finding("cutoff-error-too-large", exact_only=bool(extras)))
+    cut_error = _cutoff_error(c_real, c_ideal, f_real, bool(extras), notes)
     if c_real is None:
         notes.append(finding("no-closed-form-real-cutoff", model=model, order=h_real.order()))
     values = dict(real.values())
@@ -257,18 +247,15 @@ def opamp_error(circuit: Circuit, model: str | None = "gain", *, gain=None, gbw=
     if extras:
         pass
     elif dc_ideal not in (0, sympy.oo, sympy.zoo):
-        u = sympy.Symbol("u", positive=True)
-        big_f = 2 * _mag2(n_e, u) * d_e.xreplace({S: 0}) ** 2 - n_e.xreplace({S: 0}) ** 2 * _mag2(d_e, u)
-        f_u = sympy.diff(big_f, u).xreplace(at_zero)
-        f_eps = {sym: sympy.diff(big_f, e).xreplace(at_zero) for sym, e in eps.items()}
+        implicit = _implicit(polys)
         if c_ideal is not None:
-            cut_first = _cutoff_first_order((f_real, f_ideal), (f_u, f_eps, u), c_ideal, eps, notes)
+            cut_first = _cutoff_first_order((f_real, f_ideal), polys, implicit, c_ideal, eps, notes)
         w_ideal = finite_float(c_ideal, values) if c_ideal is not None else numeric_cutoff(h_ideal, values)
         if w_ideal is not None and all(sym in values for sym in eps):
-            cut_first_num = _cutoff_first_order_number(f_u, f_eps, u, w_ideal, values)
+            cut_first_num = _cutoff_first_order_number(polys, implicit, w_ideal, values)
     else:
         notes.append(finding("first-order-needs-dc-passband"))
-    numeric = _numbers((dc_ideal, dc_real, dc_first), (c_ideal, c_real, h_ideal, h_real), cut_first_num,
+    numeric = _numbers((dc_ideal, dc_real, dc_first), (c_ideal, c_real, h_ideal, h_real, f_real), cut_first_num,
                        eps, values)
     return OpampError(model, dc_ideal, dc_real, dc_error, dc_first, c_ideal, c_real, cut_error, cut_first, numeric,
                       tuple(notes))
@@ -294,79 +281,125 @@ def _eps_symbols(opamps) -> dict:
     return eps
 
 
-def _dc_terms(dc_ideal, dc_real, polys: tuple, eps: dict, notes: list) -> tuple:
+def _dc_terms(dc_ideal, dc_real, polys: EpsPolys, eps: dict, notes: list) -> tuple:
     """(exact relative DC error or None, first-order coefficients by symbol name)."""
     if dc_ideal in (0, sympy.oo, sympy.zoo):
         notes.append(finding("ideal-dc-gain-zero"))
         return None, {}
-    n_e, d_e = polys
-    at_zero = {e: 0 for e in eps.values()}
     dc_error = tidy(dc_real / dc_ideal - 1)
     dc_first = {}
-    ndc, ddc = n_e.xreplace({S: 0}), d_e.xreplace({S: 0})
-    for sym, e in eps.items():
-        # d/de (n/d) at e = 0 = (n' d - n d') / d^2
-        dn, dd = sympy.diff(ndc, e).xreplace(at_zero), sympy.diff(ddc, e).xreplace(at_zero)
-        n00, d00 = ndc.xreplace(at_zero), ddc.xreplace(at_zero)
-        c = tidy((dn * d00 - n00 * dd) / d00**2 / dc_ideal)
+    ndc, ddc = polys.at_dc(polys.num), polys.at_dc(polys.den)
+    n00, d00 = polys.at_zero(ndc), polys.at_zero(ddc)
+    for name in (str(sym) for sym in eps):
+        if name not in polys.eps:
+            continue
+        # d/de (n/d) at e = 0 over the ideal n/d: (n' d - n d') / (n d)
+        dn, dd = polys.slope(ndc, name), polys.slope(ddc, name)
+        c = tidy(polys.quotient(dn * d00 - n00 * dd, n00 * d00))
         if c != 0:
-            dc_first[str(sym)] = c
+            dc_first[name] = c
     return dc_error, dc_first
 
 
-def _cutoff_first_order(forms: tuple, implicit: tuple, c_ideal, eps: dict, notes: list) -> dict | None:
+def _cutoff_error(c_real, c_ideal, f_real, exact_only: bool, notes: list):
+    """The exact relative cutoff error in closed form, or None (with a note when too large)."""
+    cut_error = c_real / c_ideal - 1 if c_real is not None and c_ideal is not None else None
+    nested = cut_error is not None and _nested_radical(cut_error)
+    if cut_error is not None and f_real.kind != "general" and not nested and sympy.count_ops(cut_error) <= _BIG:
+        cut_error = tidy(cut_error)
+    if cut_error is not None and (f_real.kind == "general" or nested or sympy.count_ops(cut_error) > _SHOWN):
+        cut_error = None
+        notes.append(finding("cutoff-error-too-large", exact_only=exact_only))
+    return cut_error
+
+
+def _implicit(polys: EpsPolys) -> tuple:
+    """(F_u, {X: F_e}) at e = 0 (flint) for F(u, e) = 2 |N(jw)|^2 D(0)^2 - N(0)^2 |D(jw)|^2, u = w^2."""
+    num, den = polys.num, polys.den
+    big = (2 * polys.magnitude_squared(num) * polys.at_dc(den) ** 2
+           - polys.at_dc(num) ** 2 * polys.magnitude_squared(den))
+    return polys.at_zero(big.derivative(polys.u)), {name: polys.slope(big, name) for name in polys.eps}
+
+
+def _cutoff_first_order(forms: tuple, polys: EpsPolys, implicit: tuple, c_ideal, eps: dict,
+                        notes: list) -> dict | None:
     """d(ln w_c)/d(1/X) per symbol X: through w0 and Q at second order, else by implicit differentiation."""
     f_real, f_ideal = forms
-    f_u, f_eps, u = implicit
-    u0 = c_ideal**2
+    f_u, f_eps = implicit
+    u, u0 = polys.symbols[polys.u], c_ideal**2
     cut_first = {}
     second = f_real.order == f_ideal.order == 2 and f_real.kind == f_ideal.kind in ("lowpass", "highpass")
-    for sym, e in eps.items():
+    for name in (str(sym) for sym in eps):
+        if name not in polys.eps:
+            continue
         if second:
-            c = _second_order_coefficient(f_real, f_ideal, sym, e)
+            c = _second_order_coefficient(polys, f_ideal, name)
+            if c is None:
+                notes.append(finding("first-order-cutoff-too-large"))
+                return None
         else:
-            c = -(f_eps[sym] / f_u).xreplace({u: u0}) / (2 * u0)
+            c = -(polys.to_sympy(f_eps[name]) / polys.to_sympy(f_u)).xreplace({u: u0}) / (2 * u0)
             c = tidy(c) if sympy.count_ops(c) < _BIG else c
         if sympy.count_ops(c) > _SHOWN:
             notes.append(finding("first-order-cutoff-too-large"))
             return None
         if c != 0:
-            cut_first[str(sym)] = c
+            cut_first[name] = c
     return cut_first
 
 
-def _cutoff_first_order_number(f_u, f_eps: dict, u, w_ideal: float, values: dict) -> float | None:
-    """The first-order relative cutoff error at the values: sum of -F_e / (2 u0 F_u) / X."""
+def _cutoff_first_order_number(polys: EpsPolys, implicit: tuple, w_ideal: float, values: dict) -> float | None:
+    """The first-order relative cutoff error at the values: sum of -F_e / (2 u0 F_u) / X (exact, then float)."""
+    f_u, f_eps = implicit
     u0n = w_ideal**2
-    fu = finite_float(f_u.xreplace({u: sympy.Float(u0n, 30)}), values)
+    point = exact_point(polys, values, u0n)
+    if point is None:
+        return None
+    fu = value_at(f_u, point)
     if fu in (None, 0):
         return None
     total = 0.0
-    for sym, fe in f_eps.items():
-        fen = finite_float(fe.xreplace({u: sympy.Float(u0n, 30)}), values)
+    for name, fe in f_eps.items():
+        fen = value_at(fe, point)
         if fen is None:
             return None
-        total += -fen / fu / (2 * u0n) / float(values[sym])
+        total += -fen / fu / (2 * u0n) / float(values[polys.symbols[name]])
     return total
 
 
 def _numbers(dc: tuple, cut: tuple, cut_first_num, eps: dict, values: dict) -> dict:
     """``{"dc_gain": {...}, "cutoff_hz": {...}}``: ideal, real, exact and first-order error, where values allow."""
     dc_ideal, dc_real, dc_first = dc
-    c_ideal, c_real, h_ideal, h_real = cut
+    c_ideal, c_real, h_ideal, h_real, f_real = cut
     numeric: dict = {}
-    dci, dcr = finite_float(dc_ideal, values), finite_float(dc_real, values)
+    h_at = h_real.subs(values)
+    valued = not (h_at.free_symbols() - {S})
+    dci = finite_float(dc_ideal, values)
+    dcr = finite_float(h_at.dc_gain()) if valued else finite_float(dc_real, values)
     if dci is not None and dcr is not None and dci != 0:
         fo = None
         if eps and all(sym in values for sym in eps):
             fo = sum(finite_float(c, values) / float(values[sympy.Symbol(k, positive=True)]) for k, c in dc_first.items())
         numeric["dc_gain"] = {"ideal": dci, "real": dcr, "error": dcr / dci - 1, "first_order": fo}
     wi = finite_float(c_ideal, values) if c_ideal is not None else numeric_cutoff(h_ideal, values)
-    wr = finite_float(c_real, values) if c_real is not None else numeric_cutoff(h_real, values)
+    if c_real is None:
+        wr = numeric_cutoff(h_real, values)
+    else:
+        wr = _closed_at(c_real, h_at, f_real, values) if valued else finite_float(c_real, values)
     if wi is not None and wr is not None:
         numeric["cutoff_hz"] = {"ideal": wi / (2 * math.pi), "real": wr / (2 * math.pi), "error": wr / wi - 1,
                                 "first_order": cut_first_num}
     return numeric
+
+
+def _closed_at(closed, h_at: NetworkFunction, form, values: dict) -> float | None:
+    """The float of a closed-form cutoff at the values, from the closed form of ``h_at`` (the function
+    with the values put in: a short exact number) when its standard form is the same kind, else by
+    putting the values into ``closed`` (the same number; slow for a large closed form)."""
+    f_at = standard_form(h_at)
+    if (f_at.order, f_at.kind) == (form.order, form.kind):
+        return finite_float(cutoff_of(f_at).value)
+    return finite_float(closed, values)
 
 
 __all__ = ["AS_GIVEN", "OPAMP_ERROR_MODELS", "OpampError", "ideal_opamps", "needs_opamp_error", "opamp_error"]
