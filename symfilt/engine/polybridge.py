@@ -125,8 +125,13 @@ class PolyContext:
         >>> b.to_sympy(b.to_flint(2 * x + 1))
         2*x + 1
         """
-        terms = []
         gens = self.gens
+        if gens and all(c.q == 1 for c in p.coeffs()):  # integer coefficients: built directly (poly_to_sympy)
+            names = tuple(self.ctx.names())
+            zctx = flint.fmpz_mpoly_ctx.get(names, "degrevlex")
+            symbols = {nm: sympy.pi if g is self._pi else g for nm, g in zip(names, gens)}
+            return poly_to_sympy(zctx.from_dict({k: int(c.p) for k, c in p.to_dict().items()}), symbols)
+        terms = []
         for exps, c in zip(p.monoms(), p.coeffs()):
             factors = [sympy.Rational(int(c.p), int(c.q))]
             factors += [g**e if e != 1 else g for g, e in zip(gens, exps) if e]
