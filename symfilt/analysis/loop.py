@@ -33,6 +33,7 @@ from symfilt.analysis.roots import exact_roots
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.engine.polybridge import to_fmpq
 from symfilt.engine.rational import Ratio
+from symfilt.engine.ratio_product import ratio_product
 from symfilt.engine.solve import solve_unknown
 from symfilt.errors import CircuitError
 from symfilt.model.keep import fixture_values
@@ -182,11 +183,21 @@ def loops(circuit: Circuit, *, max_terms: int = DEFAULT_MAX_TERMS, progress=None
         put = fixture_values(circuit)  # partly symbolic (model.keep): the loaded view gets those values
         for key, b in (("loaded", beta.subs(put) if put else beta), ("ideal", beta.ideal())):
             a = open_loop_gain(part)
-            t = None if a is None else NetworkFunction.from_expr(a * b.as_expr())
+            t = None if a is None else _loop_gain(a, b)
             missing = () if t is None else tuple(sorted(x.name for x in t.free_symbols() - {S} - set(values)))
             views[key] = LoopView(b, t, margins(t, values) if t is not None else {}, missing)
         out.append(Loop(part.name, feedback_sign(beta, values), views["loaded"], views["ideal"], part.model))
     return tuple(out)
+
+
+def _loop_gain(a, beta: NetworkFunction) -> NetworkFunction:
+    """T(s) = A(s) beta(s), multiplied on flint (through sympy only if the rings disagree)."""
+    a_h = NetworkFunction.from_expr(a)
+    if not a_h.infinite and not beta.infinite:
+        product = ratio_product(a_h.ratio, beta.ratio)
+        if product is not None:
+            return NetworkFunction.from_ratio(product)
+    return NetworkFunction.from_expr(a * beta.as_expr())
 
 
 def _beta(circuit: Circuit, part: Part, max_terms: int, progress) -> NetworkFunction:
