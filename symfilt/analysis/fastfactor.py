@@ -52,7 +52,7 @@ def factor_power_product(e) -> sympy.Expr | None:
     --------
     >>> x, y = sympy.symbols("x y", positive=True)
     >>> factor_power_product(sympy.sqrt(2*x**2 + 2*x*y) / (x**2 - y**2))
-    sqrt(2)*sqrt(x)/(sqrt(x + y)*(x - y))
+    sqrt(2)*sqrt(x)/((x - y)*sqrt(x + y))
     >>> factor_power_product(sympy.sqrt(x - y)) is None
     True
     """
