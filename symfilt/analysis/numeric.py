@@ -20,6 +20,7 @@ from typing import Callable, Mapping, Sequence
 
 import sympy
 
+from symfilt.analysis.fastfactor import factor_power_product
 from symfilt.analysis.roots import exact_roots
 from symfilt.model.safe import as_sympy
 
@@ -482,7 +483,8 @@ def tidy(e, *, radicals: bool = False, cancel_below: int = 400, factor_below: in
         Rationalise denominators with radicals (``radsimp``, below 200 operations)
         instead of cancelling.
     cancel_below, factor_below : int
-        Operation counts below which it is cancelled, then factored.
+        Operation counts below which it is cancelled, then factored (by flint through
+        :func:`~symfilt.analysis.fastfactor.factor_power_product` when it gives sympy's answer).
 
     Returns
     -------
@@ -496,11 +498,15 @@ def tidy(e, *, radicals: bool = False, cancel_below: int = 400, factor_below: in
     """
     if e is None:
         return None
+    value = e
     if radicals:
         e = sympy.radsimp(e) if sympy.count_ops(e) < 200 else e
     elif sympy.count_ops(e) < cancel_below:
         e = sympy.cancel(e)
-    return sympy.factor(e) if sympy.count_ops(e) < factor_below else e
+    if sympy.count_ops(e) >= factor_below:
+        return e
+    fast = None if radicals else factor_power_product(value)  # the same expression, by flint
+    return sympy.factor(e) if fast is None else fast
 
 
 #: Most floats one step of :func:`poly_values` holds at once (terms x samples).
