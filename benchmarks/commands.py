@@ -140,6 +140,20 @@ def keep_rows(repeats: int, out: Path) -> list[dict]:
     return rows
 
 
+def model_rows(quick: bool) -> list[tuple[str, float]]:
+    """Whole-process ``derive`` of the three-op-amp state-variable filter with each finite op-amp
+    model (the report then adds the op-amp error and loop gains): once each, no target."""
+    models = ("gain",) if quick else ("gain", "single-pole", "two-pole")
+    rows = []
+    for m in models:
+        start = time.perf_counter()
+        subprocess.run(symfilt_cmd() + ["derive", "@state-variable", "--opamp-model", m], check=True,
+                       stdout=subprocess.DEVNULL, stderr=subprocess.DEVNULL)
+        rows.append((f"derive @state-variable --opamp-model {m}", time.perf_counter() - start))
+        print(f"  {rows[-1][0]}: {rows[-1][1]:.1f} s", file=sys.stderr, flush=True)
+    return rows
+
+
 def main(argv=None) -> int:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="fewer catalogue circuits, ladder-10 only")
@@ -154,6 +168,7 @@ def main(argv=None) -> int:
             print(f"  {label}: {t * 1000:.0f} ms vs {base * 1000:.0f} ms", file=sys.stderr, flush=True)
         ladders = ladder_rows((10,) if args.quick else (10, 12), args.repeats, Path(tmp))
         keeps = keep_rows(args.repeats, Path(tmp))
+    models = model_rows(args.quick)
     lines = ["| command | wall | `import sympy` | ratio |", "|---|---:|---:|---:|"]
     lines += [f"| `symfilt {label}` | {t * 1000:.0f} ms | {b * 1000:.0f} ms | {t / b:.2f}x |" for label, t, b in rows]
     lines += ["", "| report | wall | engine | floor | report / (engine + floor) |", "|---|---:|---:|---:|---:|"]
@@ -162,6 +177,8 @@ def main(argv=None) -> int:
     lines += ["", "| partly symbolic | wall | `import sympy` |", "|---|---:|---:|"]
     lines += [f"| {r['case']} | {r['wall_s']:.2f} s | "
               + (f"{r['floor_s']:.2f} s |" if "floor_s" in r else "— |") for r in keeps]
+    lines += ["", "| finite op-amp models (no target) | wall |", "|---|---:|"]
+    lines += [f"| `symfilt {label}` | {t:.1f} s |" for label, t in models]
     lines += ["", "| target | measured | met |", "|---|---|---|"]
     met_all = True
     for what, prefix, limit in TARGETS:
