@@ -74,3 +74,38 @@ def test_declines_what_it_cannot_match():
     y = sympy.Symbol("y")
     for e in (sympy.Float(0.5) * R1, sympy.exp(R1), sympy.sqrt(2) + 1, y + 1, sympy.sqrt(sympy.sqrt(R1) + 1)):
         assert factor_power_product(e) is None
+
+
+# --- cancel ----------------------------------------------------------------------------------
+# The reference is sympy.cancel itself (tests/REFERENCES.md, "What sympy's factoring gives"):
+# on generated rational functions of symbols the flint answer must be the very expression.
+
+PLAIN = sympy.symbols("R1 R_s C1 A_U1", positive=True) + (sympy.Symbol("y"),)
+plain_polynomial = st.lists(st.tuples(st.integers(-4, 4).filter(bool),
+                                      st.lists(st.sampled_from(PLAIN), max_size=3)), min_size=1, max_size=4).map(
+    lambda ms: sympy.Add(*[c * sympy.Mul(*gs) for c, gs in ms]))
+rational_function = st.tuples(plain_polynomial, plain_polynomial, plain_polynomial,
+                              st.sampled_from([sympy.Integer(1), sympy.Rational(2, 3), sympy.Integer(-5)])).map(
+    lambda t: t[3] * t[0] * t[2] / (t[1] * t[2]) + (t[0] / t[2] if t[3] == -5 else 0))
+
+
+@settings(max_examples=300, deadline=None, derandomize=True, database=None)
+@given(rational_function)
+def test_fast_cancel_is_sympys(e):
+    from symfilt.analysis.fastfactor import cancel_rational
+
+    fast = cancel_rational(e)
+    slow = sympy.cancel(e)
+    if fast is not None:
+        assert str(fast) == str(slow)
+        assert sympy.srepr(fast) == sympy.srepr(slow)
+
+
+def test_fast_cancel_declines_what_it_does_not_reproduce():
+    from symfilt.analysis.fastfactor import cancel_rational
+
+    x, y = sympy.symbols("x y", positive=True)
+    for e in (sympy.sqrt(x) / (x + 1), sympy.pi * x / (x + 1), sympy.Float(0.5) * x / y, sympy.Integer(3),
+              sympy.sin(x) / x):
+        assert cancel_rational(e) is None
+    assert cancel_rational((x**2 - y**2) / (x + y)) == x - y

@@ -20,7 +20,7 @@ from typing import Callable, Mapping, Sequence
 
 import sympy
 
-from symfilt.analysis.fastfactor import factor_power_product
+from symfilt.analysis.fastfactor import cancel_rational, factor_power_product
 from symfilt.analysis.roots import exact_roots
 from symfilt.model.safe import as_sympy
 
@@ -502,7 +502,7 @@ def tidy(e, *, radicals: bool = False, cancel_below: int = 400, factor_below: in
     if radicals:
         e = sympy.radsimp(e) if sympy.count_ops(e) < 200 else e
     elif sympy.count_ops(e) < cancel_below:
-        e = sympy.cancel(e)
+        e = sympy.cancel(e) if (fast := cancel_rational(e)) is None else fast  # the same expression, by flint
     if sympy.count_ops(e) >= factor_below:
         return e
     fast = None if radicals else factor_power_product(value)  # the same expression, by flint
