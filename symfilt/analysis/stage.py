@@ -480,6 +480,11 @@ def _frequency(at) -> sympy.Rational:
     return v
 
 
+def _root_of_symbols(e) -> bool:
+    """True when a fractional power in ``e`` has a symbol in its base."""
+    return any(p.exp.is_Rational and not p.exp.is_Integer and p.base.free_symbols for p in e.atoms(sympy.Pow))
+
+
 def substitute(analysis: Analysis) -> Analysis:
     """The same analysis with the circuit's values put into every formula.
 
@@ -508,6 +513,8 @@ def substitute(analysis: Analysis) -> Analysis:
         if e is None:
             return None
         e = as_sympy(e).xreplace(values)
+        if e.free_symbols and sympy.count_ops(e) >= 200 and _root_of_symbols(e):
+            return e  # a large form with symbols under a root: cancel would expand the polynomials under it
         return _tidy(e) if not e.has(sympy.sqrt(2)) or sympy.count_ops(e) < 200 else e
 
     def stage(st: StageResult) -> StageResult:

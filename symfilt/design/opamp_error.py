@@ -43,7 +43,7 @@ from dataclasses import dataclass, field, replace
 import sympy
 
 from symfilt.analysis.forms import cutoff as cutoff_of
-from symfilt.analysis.forms import standard_form
+from symfilt.analysis.forms import nested_radical, standard_form
 from symfilt.analysis.findings import finding
 from symfilt.analysis.numeric import finite_float, numeric_cutoff, tidy
 from symfilt.design.opamp_eps import EpsPolys, eps_polys, exact_point, s_coefficients, same_ratio, value_at
@@ -261,16 +261,6 @@ def opamp_error(circuit: Circuit, model: str | None = "gain", *, gain=None, gbw=
                       tuple(notes))
 
 
-def _nested_radical(e) -> bool:
-    """True when a root of ``e`` holds another root (a real second-order cutoff over an ideal one).
-
-    Such an error is given as a number only: cancelling it expands the polynomials under the
-    roots (adc-driver: 2.3 s to a 58 000-character result, over the size shown anyway).
-    """
-    roots = [p for p in e.atoms(sympy.Pow) if p.exp.is_Rational and not p.exp.is_Integer]
-    return any(r is not q and r.base.has(q) for r in roots for q in roots)
-
-
 def _eps_symbols(opamps) -> dict:
     """Each op-amp symbol of its model (A_U; GBW_U; P2_U) -> the small parameter e = 1/symbol."""
     eps = {}
@@ -304,7 +294,7 @@ def _dc_terms(dc_ideal, dc_real, polys: EpsPolys, eps: dict, notes: list) -> tup
 def _cutoff_error(c_real, c_ideal, f_real, exact_only: bool, notes: list):
     """The exact relative cutoff error in closed form, or None (with a note when too large)."""
     cut_error = c_real / c_ideal - 1 if c_real is not None and c_ideal is not None else None
-    nested = cut_error is not None and _nested_radical(cut_error)
+    nested = cut_error is not None and nested_radical(cut_error)
     if cut_error is not None and f_real.kind != "general" and not nested and sympy.count_ops(cut_error) <= _BIG:
         cut_error = tidy(cut_error)
     if cut_error is not None and (f_real.kind == "general" or nested or sympy.count_ops(cut_error) > _SHOWN):
