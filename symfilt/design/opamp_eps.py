@@ -30,6 +30,7 @@ import sympy
 
 from symfilt.analysis.numeric import magnitude_squared
 from symfilt.engine.polybridge import poly_to_sympy, to_fmpq
+from symfilt.engine.ratio_product import moved
 from symfilt.engine.rational import Ratio, cancel_pair
 
 
@@ -274,19 +275,7 @@ def same_ratio(polys: EpsPolys, num, den, h) -> bool:
                   other.den.degrees()[other.den.context().variable_to_index(n)]) > 0):
         return False
     ctx = polys.num.context()
-    at = [names.index(n) if n in names else None for n in other.num.context().names()]
-
-    def lift(p):
-        terms = {}
-        for exps, c in p.terms():
-            e = [0] * len(names)
-            for k, x in zip(at, exps):
-                if x:
-                    e[k] = x
-            terms[tuple(e)] = c
-        return ctx.from_dict(terms)
-
-    return num * lift(other.den) - den * lift(other.num) == 0
+    return num * moved(other.den, ctx) - den * moved(other.num, ctx) == 0
 
 
 def s_coefficients(p, name: str = "s") -> list:

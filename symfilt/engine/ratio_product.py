@@ -50,28 +50,35 @@ def ratio_product(a: Ratio, b: Ratio) -> Ratio | None:
     for name, sym in b.symbols.items():
         if symbols.setdefault(name, sym) != sym:
             return None
-    names = tuple(symbols)
-    qctx = flint.fmpq_mpoly_ctx.get(names, "degrevlex")
-    lift_a, lift_b = _lifter(a, names, qctx), _lifter(b, names, qctx)
-    return reringed(lift_a(a.num) * lift_b(b.num), lift_a(a.den) * lift_b(b.den), symbols)
+    qctx = flint.fmpq_mpoly_ctx.get(tuple(symbols), "degrevlex")
+    return reringed(moved(a.num, qctx) * moved(b.num, qctx), moved(a.den, qctx) * moved(b.den, qctx), symbols)
 
 
-def _lifter(r: Ratio, names: tuple, qctx):
-    """A function taking a polynomial of r's ring to the ring ``qctx`` of ``names``."""
-    at = [names.index(n) if n in names else None for n in r.num.context().names()]  # flint's spare generator: None
-    width = len(names)
+def moved(p, ctx):
+    """A flint polynomial moved by generator name into the ring ``ctx``, which holds every
+    generator that occurs in ``p`` (flint's spare generator of an empty ring is dropped).
 
-    def lift(p):
-        terms = {}
-        for exps, c in p.terms():
-            e = [0] * width
-            for k, x in zip(at, exps):
-                if k is not None:
-                    e[k] += x
-            terms[tuple(e)] = flint.fmpq(int(c))
-        return qctx.from_dict(terms)
+    Parameters
+    ----------
+    p : flint.fmpz_mpoly
+    ctx : flint.fmpz_mpoly_ctx or flint.fmpq_mpoly_ctx
 
-    return lift
+    Examples
+    --------
+    >>> a = flint.fmpz_mpoly_ctx.get(("y",), "degrevlex")
+    >>> moved(a.gens()[0] * 3 + 1, flint.fmpq_mpoly_ctx.get(("x", "y"), "degrevlex"))
+    3*y + 1
+    """
+    names = tuple(ctx.names())
+    at = [names.index(n) if n in names else None for n in p.context().names()]
+    terms = {}
+    for exps, c in p.terms():
+        e = [0] * len(names)
+        for k, x in zip(at, exps):
+            if k is not None:
+                e[k] += x
+        terms[tuple(e)] = int(c)
+    return ctx.from_dict(terms)
 
 
-__all__ = ["ratio_product"]
+__all__ = ["moved", "ratio_product"]
