@@ -251,7 +251,7 @@ def exact_sensitivities(form: CoefficientForm, values: Mapping) -> dict:
     """
     ratio = form.transfer.ratio
     names = sorted(str(x) for x in form.transfer.free_symbols() if x != S)
-    point = _exact_point(ratio, values)
+    point = exact_point(ratio.symbols, values)
     row = lambda key: None if key not in form.factors else _exact_row(ratio, form.factors[key], names, point)
     rows = {"w0": row("w0"), "q": row("q"), "zero": row("zero")}
     rows["dc_gain"] = None if form.dc is None else _exact_row(ratio, form.dc, names, point)
@@ -265,19 +265,35 @@ def exact_sensitivities(form: CoefficientForm, values: Mapping) -> dict:
     return out
 
 
-def _exact_point(ratio, values: Mapping) -> dict:
-    """Generator name -> flint rational: the values, pi to 50 decimals, 0 for s and for names not given."""
+def exact_point(symbols: dict, values: Mapping, *, unvalued_zero: bool = True) -> dict:
+    """Generator name -> flint rational: the values, pi to 50 decimals, 0 for s.
+
+    Parameters
+    ----------
+    symbols : dict
+        Generator name -> sympy object (a :class:`~symfilt.engine.rational.Ratio`'s ``symbols``).
+    values : mapping
+        Symbol or name -> exact value.
+    unvalued_zero : bool
+        Put 0 for a name without a value (True), or leave it out of the point (False).
+
+    Examples
+    --------
+    >>> R, C = sympy.symbols("R C", positive=True)
+    >>> exact_point({"C": C, "R": R, "s": S}, {R: 1000}), exact_point({"C": C}, {}, unvalued_zero=False)
+    ({'C': 0, 'R': 1000, 's': 0}, {})
+    """
     import flint
 
     given = {(k.name if hasattr(k, "name") else str(k)): v for k, v in values.items()}
     out = {}
-    for name, sym in ratio.symbols.items():
+    for name, sym in symbols.items():
         if sym is sympy.pi:
             out[name] = flint.fmpq(int(_PI_DIGITS), 10 ** (len(_PI_DIGITS) - 1))
         elif isinstance(sym, sympy.Symbol) and sym != S and sym.name in given:
             q = sympy.Rational(given[sym.name])
             out[name] = flint.fmpq(int(q.p), int(q.q))
-        else:
+        elif unvalued_zero or sym == S:
             out[name] = flint.fmpq(0)
     return out
 
@@ -366,4 +382,4 @@ def _floats(row: dict) -> dict:
     return out
 
 
-__all__ = ["NO_CUTOFF", "CoefficientForm", "coefficient_form", "exact_sensitivities", "quantity_functions"]
+__all__ = ["NO_CUTOFF", "CoefficientForm", "coefficient_form", "exact_point", "exact_sensitivities", "quantity_functions"]

@@ -31,7 +31,7 @@ import sympy
 from symfilt.analysis.numeric import magnitude_squared
 from symfilt.engine.polybridge import poly_to_sympy, to_fmpq
 from symfilt.engine.ratio_product import moved
-from symfilt.engine.rational import Ratio, cancel_pair
+from symfilt.engine.rational import Ratio, cancel_pair, coefficients_in
 
 
 @dataclass(frozen=True)
@@ -138,7 +138,7 @@ class EpsPolys:
         (R_L**2, C1**2*R1**2*R_L**2 + 2*C1**2*R1*R_L**2*R_s + C1**2*R_L**2*R_s**2)
         """
         ctx = p.context()
-        coeffs = s_coefficients(p) if "s" in self.symbols else [p]
+        coeffs = coefficients_in(p, "s") if "s" in self.symbols else [p]
         u = ctx.gens()[ctx.variable_to_index(self.u)]
         total = ctx.from_dict({})
         for k, m in enumerate(magnitude_squared(coeffs, zero=ctx.from_dict({}))):
@@ -278,77 +278,6 @@ def same_ratio(polys: EpsPolys, num, den, h) -> bool:
     return num * moved(other.den, ctx) - den * moved(other.num, ctx) == 0
 
 
-def s_coefficients(p, name: str = "s") -> list:
-    """Coefficients of a flint polynomial in powers of one generator (``s``), lowest first.
-
-    Parameters
-    ----------
-    p : flint.fmpz_mpoly
-    name : str
-        The generator.
-
-    Examples
-    --------
-    >>> ctx = flint.fmpz_mpoly_ctx.get(("s", "x"), "degrevlex")
-    >>> s, x = ctx.gens()
-    >>> s_coefficients(3 * s**2 * x + x + 1)
-    [x + 1, 0, 3*x]
-    """
-    k = p.context().variable_to_index(name)
-    top = max(p.degrees()[k], 0)
-    buckets: list[dict] = [{} for _ in range(top + 1)]
-    for exps, c in p.terms():
-        e = list(exps)
-        j, e[k] = e[k], 0
-        buckets[j][tuple(e)] = c
-    ctx = p.context()
-    return [ctx.from_dict(b) for b in buckets]
-
-
-#: pi to 50 digits as an exact rational: exact_point's stand-in (the float results are correctly rounded).
-_PI = flint.fmpq(*(int(k) for k in sympy.Rational(str(sympy.pi.evalf(50))).as_numer_denom()))
-
-
-def exact_point(polys: EpsPolys, values: dict, u0) -> dict | None:
-    """Generator name -> exact flint rational: the values given, u = ``u0``, every e_X = 0, pi to 50 digits.
-
-    Parameters
-    ----------
-    polys : EpsPolys
-    values : dict
-        Symbol -> exact value; a symbol without one is left out of the point.
-    u0 : float or int
-        The value of u (read exactly).
-
-    Returns
-    -------
-    dict or None
-        None when a value is not a rational number.
-
-    Examples
-    --------
-    >>> from symfilt import catalogue
-    >>> from symfilt.analysis.network import derive
-    >>> c = catalogue.build("rc-lowpass")
-    >>> sorted(exact_point(eps_polys(derive(c), []), c.values(), 0.5).items())[-2:]
-    [('s', 0), ('u', 1/2)]
-    """
-    point = {}
-    for name, sym in polys.symbols.items():
-        if name == polys.u:
-            point[name] = flint.fmpq(*(int(k) for k in sympy.Rational(u0).as_numer_denom()))
-        elif name in polys.eps or name == "s":
-            point[name] = flint.fmpq(0)
-        elif sym is sympy.pi:
-            point[name] = _PI
-        elif sym in values:
-            v = values[sym]
-            if not getattr(v, "is_Rational", False):
-                return None
-            point[name] = flint.fmpq(int(v.p), int(v.q))
-    return point
-
-
 def value_at(p, point: dict) -> float | None:
     """A flint polynomial at exact rational values of its generators, as a float.
 
@@ -356,7 +285,7 @@ def value_at(p, point: dict) -> float | None:
     ----------
     p : flint.fmpz_mpoly
     point : dict
-        Generator name -> flint.fmpq (from :func:`exact_point`).
+        Generator name -> flint.fmpq (:func:`symfilt.analysis.vectorised.exact_point`).
 
     Returns
     -------
@@ -379,4 +308,4 @@ def value_at(p, point: dict) -> float | None:
     return int(c.p) / int(c.q)
 
 
-__all__ = ["EpsPolys", "eps_polys", "exact_point", "s_coefficients", "same_ratio", "value_at"]
+__all__ = ["EpsPolys", "eps_polys", "same_ratio", "value_at"]

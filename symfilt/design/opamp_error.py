@@ -40,18 +40,19 @@ import functools
 import math
 from dataclasses import dataclass, field, replace
 
+import flint
 import sympy
 
 from symfilt.analysis.forms import cutoff as cutoff_of
 from symfilt.analysis.forms import nested_radical, standard_form
 from symfilt.analysis.findings import finding
 from symfilt.analysis.numeric import finite_float, numeric_cutoff, tidy
-from symfilt.design.opamp_eps import EpsPolys, eps_polys, exact_point, s_coefficients, same_ratio, value_at
+from symfilt.design.opamp_eps import EpsPolys, eps_polys, same_ratio, value_at
 from symfilt.model.circuit import Circuit, S
 from symfilt.model.fixture import Fixture
 from symfilt.model.opamp import model_parameters
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
-from symfilt.engine.rational import cancel_pair
+from symfilt.engine.rational import cancel_pair, coefficients_in
 from symfilt.errors import UsageError
 from symfilt.analysis.network import NetworkFunction, derive
 
@@ -114,16 +115,16 @@ def _second_order_coefficient(polys: EpsPolys, f_ideal, name: str):
     denominator's coefficients of s^k in e = 1/X, w0^2 = a0/a2 and Q^2 = a0 a2/a1^2, so
     d ln w0 = (a0'/a0 - a2'/a2)/2 and d ln Q = (a0'/a0 + a2'/a2)/2 - a1'/a1 at e = 0 (flint).
     None when a term is too large to show (its polynomials alone have more than _SHOWN additions)."""
-    a0, a1, a2 = (s_coefficients(polys.den) + [polys.den * 0] * 3)[:3]
+    a0, a1, a2 = (coefficients_in(polys.den, "s") + [polys.den * 0] * 3)[:3]
     (n0, d0), (n1, d1), (n2, d2) = (polys.log_slope(a, name) for a in (a0, a1, a2))
     a_pair = cancel_pair(n0 * d2 - n2 * d0, 2 * d0 * d2)
     b_pair = cancel_pair(n0 * d2 * d1 + n2 * d0 * d1 - 2 * n1 * d0 * d2, 2 * d0 * d1 * d2)
     if any(len(n) + len(d) - 2 > _SHOWN for n, d in (a_pair, b_pair)):
         return None  # more additions than a shown coefficient has operations, whatever tidy makes of it
-    a = tidy(polys.quotient(*a_pair))
+    a = tidy(polys.to_sympy(a_pair[0]) / polys.to_sympy(a_pair[1]))
     if b_pair[0] == 0:
         return a
-    b = tidy(polys.quotient(*b_pair))
+    b = tidy(polys.to_sympy(b_pair[0]) / polys.to_sympy(b_pair[1]))
     sign = 1 if f_ideal.kind == "lowpass" else -1
     return a + sign * b * _q_weight(f_ideal.q)
 
@@ -317,6 +318,7 @@ def _cutoff_first_order(forms: tuple, polys: EpsPolys, implicit: tuple, c_ideal,
     f_real, f_ideal = forms
     f_u, f_eps = implicit
     u, u0 = polys.symbols[polys.u], c_ideal**2
+    f_u_expr = None  # F_u in sympy, made once if the implicit route is taken
     cut_first = {}
     second = f_real.order == f_ideal.order == 2 and f_real.kind == f_ideal.kind in ("lowpass", "highpass")
     for name in (str(sym) for sym in eps):
@@ -328,7 +330,8 @@ def _cutoff_first_order(forms: tuple, polys: EpsPolys, implicit: tuple, c_ideal,
                 notes.append(finding("first-order-cutoff-too-large"))
                 return None
         else:
-            c = -(polys.to_sympy(f_eps[name]) / polys.to_sympy(f_u)).xreplace({u: u0}) / (2 * u0)
+            f_u_expr = polys.to_sympy(f_u) if f_u_expr is None else f_u_expr
+            c = -(polys.to_sympy(f_eps[name]) / f_u_expr).xreplace({u: u0}) / (2 * u0)
             c = tidy(c) if sympy.count_ops(c) < _BIG else c
         if sympy.count_ops(c) > _SHOWN:
             notes.append(finding("first-order-cutoff-too-large"))
@@ -342,9 +345,11 @@ def _cutoff_first_order_number(polys: EpsPolys, implicit: tuple, w_ideal: float,
     """The first-order relative cutoff error at the values: sum of -F_e / (2 u0 F_u) / X (exact, then float)."""
     f_u, f_eps = implicit
     u0n = w_ideal**2
-    point = exact_point(polys, values, u0n)
-    if point is None:
-        return None
+    from symfilt.analysis.vectorised import exact_point  # loaded only where an op-amp error is worked out
+
+    u0 = sympy.Rational(u0n)
+    point = exact_point(polys.symbols, values, unvalued_zero=False)  # an unvalued symbol: value_at gives None
+    point |= {name: flint.fmpq(0) for name in polys.eps} | {polys.u: flint.fmpq(int(u0.p), int(u0.q))}
     fu = value_at(f_u, point)
     if fu in (None, 0):
         return None

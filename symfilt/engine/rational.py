@@ -223,7 +223,7 @@ class Ratio:
         name = self.name_of(var)
         if name is None:
             return [self.num], [self.den]
-        return _coefficients(self.num, name), _coefficients(self.den, name)
+        return coefficients_in(self.num, name), coefficients_in(self.den, name)
 
     def limit(self, var, point) -> "Ratio | None":
         """The ratio as one symbol goes to 0 or to infinity (``point`` 0 or ``"oo"``), cancelled.
@@ -567,16 +567,26 @@ def _sympy_limit(num, den, x, point):
     return sympy.zoo if kn > kd else sympy.Integer(0)
 
 
-def _coefficients(p, name: str) -> list:
-    """Coefficients of p in powers of one generator, lowest first (Taylor's formula at 0)."""
+def coefficients_in(p, name: str) -> list:
+    """Coefficients of a flint polynomial in powers of one generator, lowest first, in p's ring.
+
+    Parameters
+    ----------
+    p : flint.fmpz_mpoly or flint.fmpq_mpoly
+    name : str
+        The generator.
+
+    Examples
+    --------
+    >>> ctx = flint.fmpz_mpoly_ctx.get(("s", "x"), "degrevlex")
+    >>> s, x = ctx.gens()
+    >>> coefficients_in(3 * s**2 * x + x + 1, "s")
+    [x + 1, 0, 3*x]
+    """
     k = p.context().variable_to_index(name)
-    top = max(p.degrees()[k], 0)
-    out = []
-    factorial = 1
-    for j in range(top + 1):
-        if j:
-            p = p.derivative(name)
-            factorial *= j
-        c = p.subs({name: 0})
-        out.append(c / factorial if factorial != 1 else c)
-    return out
+    buckets: list[dict] = [{} for _ in range(max(p.degrees()[k], 0) + 1)]
+    for exps, c in p.terms():
+        e = list(exps)
+        j, e[k] = e[k], 0
+        buckets[j][tuple(e)] = c
+    return [p.context().from_dict(b) for b in buckets]
