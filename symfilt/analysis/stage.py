@@ -513,9 +513,10 @@ def substitute(analysis: Analysis) -> Analysis:
         if e is None:
             return None
         e = as_sympy(e).xreplace(values)
-        if e.free_symbols and sympy.count_ops(e) >= 200 and _root_of_symbols(e):
-            return e  # a large form with symbols under a root: cancel would expand the polynomials under it
-        return _tidy(e) if not e.has(sympy.sqrt(2)) or sympy.count_ops(e) < 200 else e
+        # a large form with sqrt(2) or with symbols under a root stays as substituted: cancel would
+        # expand the polynomials under the root
+        rooted = e.has(sympy.sqrt(2)) or (e.free_symbols and _root_of_symbols(e))
+        return e if rooted and sympy.count_ops(e) >= 200 else _tidy(e)
 
     def stage(st: StageResult) -> StageResult:
         f = st.form
