@@ -29,13 +29,25 @@ so flint's gcd in the same ring gives the same pair (``sympy.polys.rings.PolyEle
 Under a fractional power sympy keeps a factor apart only when it can tell that it is
 positive, and groups the others; that grouping is not reproduced: a fractional power of a
 negative content or of a factor with a coefficient that is not positive gives None.
+
+:func:`factor` is ``sympy.factor`` for every commutative expression: it tries
+:func:`factor_power_product` first, and otherwise runs sympy's own symbolic factoring
+(``sympy.polys.polytools._symbolic_factor_list``, the same steps in the same order: ``together``,
+one polynomial per factor of the product, read by sympy with sympy's generators, a radical such as
+``sqrt(R1 + R2)`` being one of them) with only the factorisation of each polynomial over the
+integers or rationals done by python-flint (:func:`poly_factor_list`), which gives
+``Poly.factor_list``'s content and its primitive factors with positive lex leading coefficients.
 """
 
 from __future__ import annotations
 
 import flint
 import sympy
+from sympy.core.evalf import pure_complex
 from sympy.core.exprtools import _keep_coeff, factor_terms
+from sympy.polys import polyoptions
+from sympy.polys.polyerrors import PolificationFailed
+from sympy.polys.polytools import _factors_product, _poly_from_expr
 from sympy.polys.polyutils import _sort_gens
 
 from symfilt.engine.polybridge import PolyContext, poly_to_sympy
@@ -88,6 +100,132 @@ def factor_power_product(e) -> sympy.Expr | None:
     rc, rr = sympy.Mul(*radicals).as_coeff_Mul()
     factors = [poly_to_sympy(polys[key], ring.symbols) ** x for key, x in exps.items() if x != 0]
     return _keep_coeff(coeff * rc, sympy.Mul(rr, *factors))
+
+
+def factor(e) -> sympy.Expr:
+    """``sympy.factor(e)``, its polynomials factored by python-flint.
+
+    Parameters
+    ----------
+    e : sympy.Expr
+        Any expression; one that is not a commutative ``Expr`` goes to ``sympy.factor``.
+
+    Returns
+    -------
+    sympy.Expr
+        The expression ``sympy.factor(e)`` returns (see the module notes).
+
+    Examples
+    --------
+    >>> x, y = sympy.symbols("x y", positive=True)
+    >>> factor(sympy.sqrt(x + y) * x**2 - sympy.sqrt(x + y) * y**2)
+    (x - y)*(x + y)**(3/2)
+    """
+    fast = factor_power_product(e)
+    if fast is not None:
+        return fast
+    if not isinstance(e, sympy.Expr) or not e.is_commutative or hasattr(e, "_eval_factor"):
+        return sympy.factor(e)
+    opt = polyoptions.build_options((), {})
+    opt["fraction"] = True
+    try:
+        coeff, factors = _symbolic_factor_list(sympy.together(e, fraction=True), opt)
+    except sympy.PolynomialError:
+        return sympy.factor(e)
+    return _keep_coeff(coeff, _factors_product(factors))
+
+
+def _symbolic_factor_list(expr, opt) -> tuple:
+    """``sympy.polys.polytools._symbolic_factor_list(expr, opt, "factor")`` with
+    :func:`poly_factor_list` in place of ``Poly.factor_list``; the rest is sympy's, step for step."""
+    coeff, factors = sympy.Integer(1), []
+    args = [i._eval_factor() if hasattr(i, "_eval_factor") else i for i in sympy.Mul.make_args(expr)]
+    for arg in args:
+        if arg.is_Number or (isinstance(arg, sympy.Expr) and pure_complex(arg)):
+            coeff *= arg
+            continue
+        if arg.is_Pow and arg.base != sympy.E:
+            base, exp = arg.args
+            if base.is_Number and exp.is_Number:
+                coeff *= arg
+                continue
+            if base.is_Number:
+                factors.append((base, exp))
+                continue
+        else:
+            base, exp = arg, sympy.Integer(1)
+        try:
+            poly, _opt = _poly_from_expr(base, opt)
+        except PolificationFailed as exc:
+            factors.append((exc.expr, exp))
+            continue
+        _coeff, _factors = poly_factor_list(poly)
+        if _coeff is not sympy.S.One:
+            if exp.is_Integer:
+                coeff *= _coeff**exp
+            elif _coeff.is_positive:
+                factors.append((_coeff, exp))
+            else:
+                _factors.append((_coeff, sympy.Integer(1)))
+        if exp is sympy.S.One:
+            factors.extend(_factors)
+        elif exp.is_integer:
+            factors.extend([(f, k * exp) for f, k in _factors])
+        else:
+            other = []
+            for f, k in _factors:
+                if f.as_expr().is_positive:
+                    factors.append((f, k * exp))
+                else:
+                    other.append((f, k))
+            factors.append((_factors_product(other), exp))
+    collected: dict = {}
+    for k, v in factors:
+        collected[k] = collected.get(k, 0) + v
+    return coeff, list(collected.items())
+
+
+def poly_factor_list(poly) -> tuple:
+    """``poly.factor_list()`` by python-flint for a ``sympy.Poly`` over ZZ or QQ (sympy's own otherwise).
+
+    Parameters
+    ----------
+    poly : sympy.Poly
+
+    Returns
+    -------
+    (sympy.Rational, list of (sympy.Poly, int))
+        The content with its sign, and the primitive irreducible factors with positive leading
+        coefficients in lex order of the generators, with their multiplicities, as
+        ``Poly.factor_list`` gives them (the order of the factors aside).
+
+    Examples
+    --------
+    >>> x, y = sympy.symbols("x y")
+    >>> poly_factor_list(sympy.Poly(-2 * x**2 + 2 * y**2, x, y))
+    (-2, [(Poly(x - y, x, y, domain='ZZ'), 1), (Poly(x + y, x, y, domain='ZZ'), 1)])
+    """
+    dom = poly.domain
+    if not (dom.is_ZZ or dom.is_QQ) or poly.is_ground:
+        return poly.factor_list()
+    terms = poly.rep.to_dict()
+    den = 1
+    if dom.is_QQ:
+        for c in terms.values():
+            q = int(c.denominator)
+            den = den * q // flint.fmpz(den).gcd(q)
+        ints = {m: int(c.numerator) * (den // int(c.denominator)) for m, c in terms.items()}
+    else:
+        ints = {m: int(c) for m, c in terms.items()}
+    ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(poly.gens))), "lex")
+    const, fs = ctx.from_dict(ints).factor()
+    out = []
+    for f, m in fs:
+        if f.coeffs()[0] < 0:
+            f, const = -f, const * (-1) ** int(m)
+        d = {tuple(int(e) for e in k): dom.convert(int(c)) for k, c in f.to_dict().items()}
+        out.append((sympy.Poly.from_dict(d, *poly.gens, domain=dom), int(m)))
+    return sympy.Rational(int(const), den), out
 
 
 def cancel_rational(e) -> sympy.Expr | None:

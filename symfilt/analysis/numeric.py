@@ -20,7 +20,7 @@ from typing import Callable, Mapping, Sequence
 
 import sympy
 
-from symfilt.analysis.fastfactor import cancel_rational, factor_power_product
+from symfilt.analysis.fastfactor import cancel_rational, factor, factor_power_product
 from symfilt.analysis.roots import exact_roots
 from symfilt.model.safe import as_sympy
 
@@ -480,11 +480,10 @@ def tidy(e, *, radicals: bool = False, cancel_below: int = 400, factor_below: in
     ----------
     e : sympy.Expr or None
     radicals : bool
-        Rationalise denominators with radicals (``radsimp``, below 200 operations)
-        instead of cancelling.
+        Rationalise denominators with radicals (``radsimp``, below 200 operations) instead of cancelling.
     cancel_below, factor_below : int
-        Operation counts below which it is cancelled, then factored (by flint through
-        :func:`~symfilt.analysis.fastfactor.factor_power_product` when it gives sympy's answer).
+        Operation counts below which it is cancelled, then factored (by :mod:`~symfilt.analysis.fastfactor`); a
+        product of powers of polynomials factored below ``factor_below`` is given that form without cancelling.
 
     Returns
     -------
@@ -498,15 +497,16 @@ def tidy(e, *, radicals: bool = False, cancel_below: int = 400, factor_below: in
     """
     if e is None:
         return None
-    value = e
+    fast = None if radicals else factor_power_product(e)  # sympy.factor's expression, by flint
+    if fast is not None and sympy.count_ops(fast) < factor_below:
+        return fast  # a short product of powers: cancelling would only expand it first
     if radicals:
         e = sympy.radsimp(e) if sympy.count_ops(e) < 200 else e
     elif sympy.count_ops(e) < cancel_below:
-        e = sympy.cancel(e) if (fast := cancel_rational(e)) is None else fast  # the same expression, by flint
+        e = sympy.cancel(e) if (done := cancel_rational(e)) is None else done  # the same expression, by flint
     if sympy.count_ops(e) >= factor_below:
         return e
-    fast = None if radicals else factor_power_product(value)  # the same expression, by flint
-    return sympy.factor(e) if fast is None else fast
+    return factor(e) if fast is None else fast
 
 
 #: Most floats one step of :func:`poly_values` holds at once (terms x samples).

@@ -15,6 +15,7 @@ import math
 
 import sympy
 
+from symfilt.analysis.fastfactor import factor
 from symfilt.analysis.findings import Finding, finding
 from symfilt.engine.polybridge import poly_to_sympy
 
@@ -236,9 +237,9 @@ def low_degree_roots(cs: list, ring_cs: list | None = None) -> list:
     g = sympy.gcd(sympy.gcd(b, out), a)
     b, out, a = (sympy.cancel(v / g) for v in (b, out, a))
     h = sympy.gcd(b, out)
-    b, out = sympy.factor(sympy.cancel(b / h)), sympy.cancel(out / h)
+    b, out = factor(sympy.cancel(b / h)), sympy.cancel(out / h)
     d = out * sympy.sqrt(radicand)
-    den = sympy.factor(2 * a)
+    den = factor(2 * a)
     return [h * (-b - d) / den, h * (-b + d) / den]
 
 

@@ -10,6 +10,7 @@ from itertools import combinations
 
 import sympy
 
+from symfilt.analysis.fastfactor import factor
 from symfilt.engine.polybridge import PolyContext, smaller_than
 from symfilt.engine.rational import factor_ratio
 
@@ -135,11 +136,12 @@ def _resistive(e) -> bool:
 
 def _factor(expr):
     """``sympy.factor`` by python-flint for a ratio of polynomials (the same result, many times
-    faster on long coefficients); sympy's own for anything else (radicals)."""
+    faster on long coefficients); for anything else (radicals) sympy's own steps with flint's factoring
+    (:func:`symfilt.analysis.fastfactor.factor`)."""
     try:
         return factor_ratio(*sympy.fraction(sympy.together(expr)))
     except (sympy.PolynomialError, ValueError, TypeError):
-        return sympy.factor(expr)
+        return factor(expr)
 
 
 def _split_parallel(num_factors: list, den_sum: sympy.Expr):
