@@ -137,6 +137,32 @@ def test_factor_lists_by_flint_are_sympys(p, q, m):
     assert square_part(e) == (out * sympy.sqrt(abs(coeff)), sympy.expand(sympy.sign(coeff) * rest))
 
 
+_yz_poly = st.lists(st.tuples(st.integers(-3, 3), st.integers(0, 2), st.integers(0, 1), st.integers(0, 1)),
+                    min_size=1, max_size=3).map(
+    lambda ts: sympy.Add(*[c * _y**j * _z**k * sympy.pi**m for c, j, k, m in ts]))
+
+
+@settings(max_examples=80, deadline=None, derandomize=True, database=None)
+@given(_yz_poly, _yz_poly, _yz_poly, _yz_poly, st.sampled_from([1, 2, 4, 8, 12]))
+def test_quadratic_formula_on_flint_is_the_sympy_path(c, b, a, common, k):
+    """low_degree_roots with the coefficients on flint (gcds, quotients and factors there) gives the
+    very expressions of its sympy path (sympy.gcd, cancel, factor): coefficients with a common factor
+    and a square-carrying discriminant (k b and a k, c / k) exercise the cancellations."""
+    from symfilt.design.closed_form import _ring, low_degree_roots
+    from symfilt.engine.polybridge import poly_to_sympy
+
+    cs = [sympy.expand(common * v) for v in (c, k * b, a)]
+    if cs[1] == 0 or cs[2] == 0:
+        return
+    p, _den, symbols = _ring(sympy.expand(cs[0] + cs[1] * _x + cs[2] * _x**2), _x)
+    by_power = {}
+    for e, v in p.to_dict().items():
+        by_power.setdefault(e[0], {})[(0,) + tuple(e[1:])] = v
+    rings = [(p.context().from_dict(by_power.get(i, {})), symbols) for i in range(3)]
+    exact = [poly_to_sympy(r, symbols) for r, _s in rings]
+    assert sympy.srepr(low_degree_roots(exact, rings)) == sympy.srepr(low_degree_roots(exact))
+
+
 @settings(max_examples=60, deadline=None)
 @given(st.lists(st.floats(-1e6, 1e6), min_size=1, max_size=300),
        st.lists(st.floats(0, 100), min_size=1, max_size=4))

@@ -11,6 +11,7 @@ by -c/b or the quadratic formula on its exact coefficients (:func:`low_degree_ro
 
 from __future__ import annotations
 
+import functools
 import math
 
 import sympy
@@ -233,6 +234,8 @@ def low_degree_roots(cs: list, ring_cs: list | None = None) -> list:
         out, radicand = square_part(sympy.expand(b**2 - 4 * a * c))
     else:
         (fc, symbols), (fb, _s), (fa, _s) = ring_cs
+        if fb != 0:
+            return _flint_quadratic(fc, fb, fa, symbols)
         out, radicand = square_part(None, (fb * fb - 4 * fa * fc, symbols))
     g = sympy.gcd(sympy.gcd(b, out), a)
     b, out, a = (sympy.cancel(v / g) for v in (b, out, a))
@@ -241,6 +244,43 @@ def low_degree_roots(cs: list, ring_cs: list | None = None) -> list:
     d = out * sympy.sqrt(radicand)
     den = factor(2 * a)
     return [h * (-b - d) / den, h * (-b + d) / den]
+
+
+def _flint_quadratic(fc, fb, fa, symbols: dict) -> list:
+    """:func:`low_degree_roots` of c + b y + a y^2 (b not zero) with every gcd, exact quotient and
+    factorisation done on the flint coefficients: the same steps, giving the same expressions, as
+    sympy's ``gcd``, ``cancel`` and ``factor`` on the sympy coefficients (a number radical such as
+    sqrt(2) in front of the square part is a generator to sympy's gcd, so it divides nothing)."""
+    square, number, radicand = _square_part_flint(fb * fb - 4 * fa * fc, symbols)
+    r, surd = sympy.sqrt(number).as_coeff_Mul()  # sqrt(8) = 2*sqrt(2): r = 2 joins the polynomial part
+    out = square * int(r)
+    g = _positive(fb.gcd(out).gcd(fa))
+    fb, out, fa = fb / g, out / g, fa / g
+    h = _positive(fb.gcd(out))
+    fb, out = fb / h, out / h
+    to = functools.partial(poly_to_sympy, symbols=symbols)
+    b = factor(to(fb))
+    d = sympy.Add(*[surd * t for t in sympy.Add.make_args(to(out))]) * sympy.sqrt(radicand)
+    den = factor(to(2 * fa))
+    return [to(h) * (-b - d) / den, to(h) * (-b + d) / den]
+
+
+def _positive(p):
+    """A flint polynomial with a positive leading coefficient (sympy's gcd normalisation)."""
+    return -p if p.coeffs()[0] < 0 else p
+
+
+def _square_part_flint(p, symbols: dict) -> tuple:
+    """(o, n, r) with p = o^2 * n * r: o the flint product of the squares of p's positive factors, n the
+    absolute content (an integer), r the sympy rest with the content's sign (:func:`square_part`)."""
+    const, factors = p.factor()
+    out, rest = p.context().from_dict({(0,) * p.context().nvars(): 1}), sympy.Integer(1)
+    for f, m in factors:
+        if poly_to_sympy(f, symbols).is_positive:
+            out, rest = out * f ** (int(m) // 2), rest * poly_to_sympy(f, symbols) ** (int(m) % 2)
+        else:
+            rest *= poly_to_sympy(f, symbols) ** int(m)
+    return out, abs(int(const)), sympy.expand(sympy.sign(int(const)) * rest)
 
 
 __all__ = ["closed_form_roots", "factor_list", "low_degree_roots", "square_part"]
