@@ -20,6 +20,8 @@ from dataclasses import dataclass
 from typing import Mapping
 
 import sympy
+
+from symfilt.analysis.fastfactor import factor
 from symfilt.model.safe import as_sympy
 
 _SMALL = 120
@@ -105,27 +107,11 @@ def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
 
 
 def _factored(bridge, n, d) -> sympy.Expr:
-    """n/d in sympy, factored by python-flint when small (as sympy.factor would, much faster).
-
-    Each factor gets the sign sympy.factor gives it (leading coefficient positive in sympy's
-    order of its symbols), so the text is the one sympy.factor prints.
-    """
+    """n/d in sympy, as ``sympy.factor`` gives it when small (:func:`symfilt.analysis.fastfactor.factor`)."""
     value = bridge.to_sympy(n) / bridge.to_sympy(d)
     if len(n) + len(d) > _SMALL // 2:
         return value
-    number, args = sympy.Integer(1), []
-    for p, power in ((n, 1), (d, -1)):
-        const, factors = p.factor()
-        number *= sympy.Rational(int(const.p), int(const.q)) ** power
-        for f, e in factors:
-            fe = bridge.to_sympy(f)
-            gens = sorted(fe.free_symbols, key=sympy.default_sort_key)
-            if gens and sympy.Poly(fe, *gens).LC() < 0:
-                fe, number = -fe, number * (-1) ** (e * power)
-            args.append(fe ** (e * power))
-    from sympy.core.mul import _keep_coeff  # how sympy.factor keeps 2*(R1 + R2) from multiplying out
-
-    return _keep_coeff(number, sympy.Mul(*args))
+    return factor(value)
 
 
 def sensitivities(y: sympy.Expr | None, symbols) -> dict[str, sympy.Expr] | None:
