@@ -27,6 +27,32 @@ def _random_poly(rng, gens):
                for _ in range(rng.randint(1, 6)))
 
 
+def _random_tree(rng, gens, depth=2):
+    """A polynomial in any arrangement: sums, products and whole powers of random sub-expressions."""
+    if depth == 0 or rng.random() < 0.3:
+        return rng.choice([sympy.Rational(rng.randint(-4, 4), rng.randint(1, 3)), *gens])
+    kind = rng.choice(["add", "mul", "pow"])
+    if kind == "pow":
+        return _random_tree(rng, gens, depth - 1) ** rng.randint(0, 3)
+    args = [_random_tree(rng, gens, depth - 1) for _ in range(rng.randint(2, 3))]
+    return sympy.Add(*args) if kind == "add" else sympy.Mul(*args)
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_polycontext_multiplies_out_in_flint_as_sympy_expand_does(seed):
+    # to_flint of an unexpanded polynomial (multiplied out inside flint) against sympy.expand + Poly
+    rng = random.Random(seed)
+    for _ in range(80):
+        gens = rng.sample(SYMS, rng.randint(1, 4)) + ([sympy.pi] if rng.random() < 0.3 else [])
+        e = _random_tree(rng, gens, depth=3)
+        b = PolyContext([e])
+        assert b.to_sympy(b._tree(e)) == sympy.expand(e), e
+        assert b.to_flint(e) == b.to_flint(sympy.expand(e))
+    x, y = SYMS[:2]
+    b = PolyContext([x, y])
+    assert b._tree(x / y) is None and b._tree(sympy.sqrt(x) * y) is None and b._tree(sympy.sin(x)) is None
+
+
 @pytest.mark.parametrize("seed", range(4))
 def test_polycontext_to_sympy_is_the_expression_sympy_builds(seed):
     # The direct build (integer coefficients) must be the very tree Add(*[Mul(c, *powers)]) gives.

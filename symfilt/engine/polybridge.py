@@ -69,6 +69,8 @@ class PolyContext:
         1/3*x0^2 + 1
         """
         direct = self._direct(expr)
+        if direct is None:
+            direct = self._tree(expr)
         if direct is not None:
             return direct
         e = sympy.expand(as_sympy(expr).xreplace({sympy.pi: self._pi}))
@@ -104,6 +106,28 @@ class PolyContext:
             key = tuple(exps)
             terms[key] = terms.get(key, 0) + coeff
         return self.ctx.from_dict({k: flint.fmpq(int(v.p), int(v.q)) for k, v in terms.items() if v != 0})
+
+    def _tree(self, expr):
+        """A polynomial expression in any arrangement (products and whole powers of sums) multiplied
+        out inside flint, as ``sympy.expand`` then ``sympy.Poly`` would give it; None for anything
+        that is not one (a negative or fractional power, another function, an unknown symbol)."""
+        if isinstance(expr, sympy.Rational):
+            return self.ctx.from_dict({(0,) * self.ctx.nvars(): flint.fmpq(int(expr.p), int(expr.q))})
+        if isinstance(expr, sympy.Symbol) or expr is sympy.pi:
+            i = self._index.get(self._pi if expr is sympy.pi else expr)
+            return None if i is None else self.ctx.gens()[i]
+        if isinstance(expr, (sympy.Add, sympy.Mul)):
+            parts = [self._tree(a) for a in expr.args]
+            if any(p is None for p in parts):
+                return None
+            out = parts[0]
+            for p in parts[1:]:
+                out = out + p if isinstance(expr, sympy.Add) else out * p
+            return out
+        if isinstance(expr, sympy.Pow) and expr.exp.is_Integer and expr.exp >= 0:
+            base = self._tree(expr.base)
+            return None if base is None else base ** int(expr.exp)
+        return None
 
     def to_sympy(self, p) -> sympy.Expr:
         """Convert back to a sympy expression.

@@ -70,7 +70,7 @@ class Ratio:
         >>> Ratio.from_sympy(x / 2 + sympy.pi, -x).to_sympy()
         (-x - 2*pi, 2*x)
         """
-        num, den = sympy.expand(as_sympy(num, "num")), sympy.expand(as_sympy(den, "den"))
+        num, den = as_sympy(num, "num"), as_sympy(den, "den")  # multiplied out by the bridge, in flint
         bridge = PolyContext([num, den])
         fn, fd = cancel_pair(bridge.to_flint(num), bridge.to_flint(den))
         return _integer_ratio(fn, fd, bridge.symbols())
