@@ -297,22 +297,39 @@ def _power_product(e):
             coeff *= arg
             continue
         base, q = (arg.base, arg.exp) if arg.is_Pow else (arg, sympy.Integer(1))
-        if not q.is_Rational or not (base.is_Rational and base > 0 or _polynomial(base)):
+        if not q.is_Rational or not (base.is_Rational and base > 0 or is_polynomial(base)):
             return None
         items.append((base, q))
     return coeff, items
 
 
-def _polynomial(expr) -> bool:
-    """True for a polynomial with rational coefficients in positive symbols and pi."""
+def is_polynomial(expr, positive: bool = True) -> bool:
+    """True for a polynomial with rational coefficients in symbols and pi, in any arrangement
+    (sums, products, whole powers).
+
+    Parameters
+    ----------
+    expr : sympy.Expr
+    positive : bool
+        Ask every symbol to be declared positive.
+
+    Examples
+    --------
+    >>> x = sympy.Symbol("x", positive=True)
+    >>> y = sympy.Symbol("y")
+    >>> is_polynomial((x + 1) ** 2 * sympy.pi / 3), is_polynomial(sympy.sqrt(x) + 1)
+    (True, False)
+    >>> is_polynomial(y), is_polynomial(y, positive=False)
+    (False, True)
+    """
     if expr.is_Rational or expr is sympy.pi:
         return True
     if isinstance(expr, sympy.Symbol):
-        return expr.is_positive is True
+        return expr.is_positive is True or not positive
     if isinstance(expr, (sympy.Add, sympy.Mul)):
-        return all(_polynomial(a) for a in expr.args)
+        return all(is_polynomial(a, positive) for a in expr.args)
     if isinstance(expr, sympy.Pow):
-        return expr.exp.is_Integer and expr.exp > 0 and _polynomial(expr.base)
+        return expr.exp.is_Integer and expr.exp > 0 and is_polynomial(expr.base, positive)
     return False
 
 

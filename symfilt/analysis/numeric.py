@@ -497,16 +497,15 @@ def tidy(e, *, radicals: bool = False, cancel_below: int = 400, factor_below: in
     """
     if e is None:
         return None
-    fast = None if radicals else factor_power_product(e)  # sympy.factor's expression, by flint
+    ops = sympy.count_ops(e)
+    fast = None if radicals or ops >= cancel_below else factor_power_product(e)  # sympy.factor's, by flint
     if fast is not None and sympy.count_ops(fast) < factor_below:
         return fast  # a short product of powers: cancelling would only expand it first
     if radicals:
-        e = sympy.radsimp(e) if sympy.count_ops(e) < 200 else e
-    elif sympy.count_ops(e) < cancel_below:
+        e = sympy.radsimp(e) if ops < 200 else e
+    elif ops < cancel_below:
         e = sympy.cancel(e) if (done := cancel_rational(e)) is None else done  # the same expression, by flint
-    if sympy.count_ops(e) >= factor_below:
-        return e
-    return factor(e) if fast is None else fast
+    return e if sympy.count_ops(e) >= factor_below else factor(e) if fast is None else fast
 
 
 #: Most floats one step of :func:`poly_values` holds at once (terms x samples).

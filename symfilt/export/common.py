@@ -10,7 +10,7 @@ from itertools import combinations
 
 import sympy
 
-from symfilt.analysis.fastfactor import factor
+from symfilt.analysis.fastfactor import factor, is_polynomial
 from symfilt.engine.polybridge import PolyContext, smaller_than
 from symfilt.engine.rational import factor_ratio
 
@@ -139,23 +139,15 @@ def _factor(expr):
     faster on long coefficients); for anything else (radicals) sympy's own steps with flint's factoring
     (:func:`symfilt.analysis.fastfactor.factor`)."""
     num, den = sympy.fraction(expr)
-    if not (_polynomial(num) and _polynomial(den)):  # a sum of fractions: brought over one denominator
+    polynomials = lambda: is_polynomial(num, False) and is_polynomial(den, False)
+    if not polynomials():  # a sum of fractions: brought over one denominator
         num, den = sympy.fraction(sympy.together(expr))
-    if not (_polynomial(num) and _polynomial(den)):  # radicals
+    if not polynomials():  # radicals
         return factor(expr)
     try:
         return factor_ratio(num, den)  # canonical for the ratio's value, whatever num and den were
     except (sympy.PolynomialError, ValueError, TypeError):
         return factor(expr)
-
-
-def _polynomial(e) -> bool:
-    """True for a polynomial expression with rational coefficients in symbols and pi, in any arrangement."""
-    if e.is_Rational or isinstance(e, sympy.Symbol) or e is sympy.pi:
-        return True
-    if isinstance(e, (sympy.Add, sympy.Mul)):
-        return all(_polynomial(a) for a in e.args)
-    return isinstance(e, sympy.Pow) and e.exp.is_Integer and e.exp >= 0 and _polynomial(e.base)
 
 
 def _split_parallel(num_factors: list, den_sum: sympy.Expr):
@@ -165,7 +157,7 @@ def _split_parallel(num_factors: list, den_sum: sympy.Expr):
     if len(terms) < 2 or len(terms) > 6:
         return None
     num = sympy.Mul(*num_factors)
-    if not (_polynomial(num) and _polynomial(den_sum)):
+    if not (is_polynomial(num, False) and is_polynomial(den_sum, False)):
         return None
     try:
         ctx = PolyContext([num, den_sum])
