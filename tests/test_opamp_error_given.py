@@ -129,3 +129,15 @@ def test_second_order_cutoff_error_is_a_number_only():
     A, R1, R2, R_s = sympy.symbols("A_U1 R1 R2 R_s", positive=True)
     assert f.cutoff_error is not None
     assert sympy.cancel(f.cutoff_error - R2 / ((A + 1) * (R1 + R_s))) == 0
+
+
+def test_a_cutoff_the_opamp_does_not_touch_has_a_zero_estimate():
+    # An RC low-pass followed by a non-inverting buffer: the cutoff is the RC's alone, 1/(2 pi R C),
+    # whatever the op-amp's gain (common practice: the buffer's input draws no current). Exact error
+    # and every first-order term are zero, so the first-order estimate is 0 as well, not "missing",
+    # even with A left without a value.
+    e = opamp_error(catalogue.build("noninverting-lowpass"), "gain")
+    assert e.cutoff_error == 0 and e.cutoff_first_order == {}
+    n = e.numeric["cutoff_hz"]
+    assert n["error"] == 0 and n["first_order"] == 0.0
+    assert "first-order estimate 0 ppm" in opamp_error_text(e)

@@ -254,6 +254,8 @@ def opamp_error(circuit: Circuit, model: str | None = "gain", *, gain=None, gbw=
         w_ideal = finite_float(c_ideal, values) if c_ideal is not None else numeric_cutoff(h_ideal, values)
         if w_ideal is not None and all(sym in values for sym in eps):
             cut_first_num = _cutoff_first_order_number(polys, implicit, w_ideal, values)
+        elif cut_first == {}:  # every first-order term is zero: so is the estimate, whatever A is
+            cut_first_num = 0.0
     else:
         notes.append(finding("first-order-needs-dc-passband"))
     numeric = _numbers((dc_ideal, dc_real, dc_first), (c_ideal, c_real, h_ideal, h_real, f_real), cut_first_num,
