@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import functools
+
 import sympy
 from sympy.printing.str import StrPrinter
 
@@ -34,8 +36,9 @@ class _TextPrinter(StrPrinter):
         return "∞"
 
 
+@functools.lru_cache(maxsize=1024)
 def one_line(expr) -> str:
-    """An expression on one line: ``·`` for products, ``^`` for powers, ``||`` for parallel.
+    """An expression on one line: ``·`` for products, ``^`` for powers, ``||`` for parallel (memoised).
 
     Parameters
     ----------
