@@ -276,10 +276,11 @@ def _square_part_flint(p, symbols: dict) -> tuple:
     const, factors = p.factor()
     out, rest = p.context().from_dict({(0,) * p.context().nvars(): 1}), sympy.Integer(1)
     for f, m in factors:
-        if poly_to_sympy(f, symbols).is_positive:
-            out, rest = out * f ** (int(m) // 2), rest * poly_to_sympy(f, symbols) ** (int(m) % 2)
+        fe, m = poly_to_sympy(f, symbols), int(m)
+        if fe.is_positive:
+            out, rest = out * f ** (m // 2), rest * fe ** (m % 2)
         else:
-            rest *= poly_to_sympy(f, symbols) ** int(m)
+            rest *= fe**m
     return out, abs(int(const)), sympy.expand(sympy.sign(int(const)) * rest)
 
 
