@@ -9,6 +9,8 @@ only: JSON has the loaded and ideal expressions and no factor.
 
 from __future__ import annotations
 
+import functools
+
 import sympy
 
 from symfilt.engine.polybridge import PolyContext, smaller_than
@@ -26,8 +28,10 @@ MAX_CHARS = 40
 MAX_NODES = 300
 
 
+@functools.lru_cache(maxsize=256)
 def correction_factor(loaded, ideal):
-    """``loaded / ideal`` as one exact expression, or None where there is no useful one.
+    """``loaded / ideal`` as one exact expression, or None where there is no useful one (memoised:
+    w0 and the cutoff of a first order, K and the DC gain of a low-pass, are often the same pair).
 
     Parameters
     ----------
