@@ -16,6 +16,7 @@ exact value.
 
 from __future__ import annotations
 
+import functools
 import math
 
 import sympy
@@ -189,8 +190,9 @@ def _numeric_ratio(expr):
     return top if den.as_expr() == 1 else sympy.Mul(top, sympy.Pow(side(den), -1, evaluate=False), evaluate=False)
 
 
+@functools.lru_cache(maxsize=2048)
 def engineering(expr):
-    """``expr`` with each long number replaced by its engineering-notation display.
+    """``expr`` with each long number replaced by its engineering-notation display (memoised).
 
     Parameters
     ----------

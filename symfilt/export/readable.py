@@ -364,8 +364,9 @@ def _flat(e) -> bool:
     return all(not t.has(sympy.Add, Ordered) for f in sums for t in _terms(f))
 
 
+@functools.lru_cache(maxsize=1024)
 def grouped(p):
-    """A sum with the symbols its terms share pulled out, pairs seen only as their sum kept together.
+    """A sum with the symbols its terms share pulled out, pairs seen only as their sum kept together (memoised).
 
     Parameters
     ----------
