@@ -41,6 +41,8 @@ integers or rationals done by python-flint (:func:`poly_factor_list`), which giv
 
 from __future__ import annotations
 
+import functools
+
 import flint
 import sympy
 from sympy.core.evalf import pure_complex
@@ -102,8 +104,9 @@ def factor_power_product(e) -> sympy.Expr | None:
     return _keep_coeff(coeff * rc, sympy.Mul(rr, *factors))
 
 
+@functools.lru_cache(maxsize=1024)
 def factor(e) -> sympy.Expr:
-    """``sympy.factor(e)``, its polynomials factored by python-flint.
+    """``sympy.factor(e)``, its polynomials factored by python-flint (memoised).
 
     Parameters
     ----------

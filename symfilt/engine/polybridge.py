@@ -8,6 +8,7 @@ form quickly. :mod:`symfilt.engine.rational` builds its ratios through both.
 
 from __future__ import annotations
 
+import functools
 import gc
 from functools import cmp_to_key
 from itertools import compress
@@ -347,6 +348,7 @@ def _poly_to_sympy_fast(p, symbols: dict) -> sympy.Expr:
     return sympy.Add._from_args(tuple(terms), True)
 
 
+@functools.lru_cache(maxsize=None)
 def _class_key(cls) -> tuple:
     """Sort key of a class as :func:`sympy.core.basic._cmp_name` orders classes."""
     from sympy.core.basic import ordering_of_classes

@@ -15,6 +15,7 @@ denominators positive.
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass
 from typing import Mapping
 
@@ -495,8 +496,9 @@ def cancel_exprs(num, den) -> tuple[sympy.Expr, sympy.Expr]:
     return Ratio.from_sympy(num, den).to_sympy()
 
 
+@functools.lru_cache(maxsize=1024)
 def factor_ratio(num, den=1) -> sympy.Expr:
-    """num/den cancelled and factored with python-flint (much faster than sympy.factor).
+    """num/den cancelled and factored with python-flint (much faster than sympy.factor; memoised).
 
     Parameters
     ----------
