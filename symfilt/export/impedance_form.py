@@ -13,6 +13,8 @@ Z (:func:`symfilt.export.readable.exact` of it is Z).
 
 from __future__ import annotations
 
+import functools
+
 import sympy
 
 from symfilt.engine.polybridge import PolyContext
@@ -71,8 +73,10 @@ def impedance_display(z):
     return z.normalized_expr()
 
 
+@functools.lru_cache(maxsize=256)
 def impedance_form(num, den):
-    """Z = num/den as series (``+``) and parallel (``||``) combinations of its parts where it has them.
+    """Z = num/den as series (``+``) and parallel (``||``) combinations of its parts where it has them
+    (memoised: the loaded and ideal views often share an impedance).
 
     Parameters
     ----------
