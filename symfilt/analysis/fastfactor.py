@@ -42,6 +42,7 @@ integers or rationals done by python-flint (:func:`poly_factor_list`), which giv
 from __future__ import annotations
 
 import functools
+import math
 
 import flint
 import sympy
@@ -211,23 +212,27 @@ def poly_factor_list(poly) -> tuple:
     dom = poly.domain
     if not (dom.is_ZZ or dom.is_QQ) or poly.is_ground:
         return poly.factor_list()
-    terms = poly.rep.to_dict()
-    den = 1
-    if dom.is_QQ:
-        for c in terms.values():
-            q = int(c.denominator)
-            den = den * q // flint.fmpz(den).gcd(q)
-        ints = {m: int(c.numerator) * (den // int(c.denominator)) for m, c in terms.items()}
-    else:
-        ints = {m: int(c) for m, c in terms.items()}
     ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(poly.gens))), "lex")
-    const, fs = ctx.from_dict(ints).factor()
+    pairs = (lambda c: (int(c.numerator), int(c.denominator))) if dom.is_QQ else (lambda c: (int(c), 1))
+    content, fs = _integer_factors(ctx, {m: pairs(c) for m, c in poly.rep.to_dict().items()})
+    out = []
+    for f, m in fs:
+        d = {tuple(int(e) for e in k): dom.convert(int(c)) for k, c in f.to_dict().items()}
+        out.append((sympy.Poly.from_dict(d, *poly.gens, domain=dom), m))
+    return content, out
+
+
+def _integer_factors(ctx, terms: dict) -> tuple:
+    """(rational content with sign, [(primitive factor with positive lex leading coefficient,
+    multiplicity)]) of the nonzero polynomial ``{monomial: (numerator, denominator)}`` in the
+    integer ring ``ctx``: the denominators cleared, then flint's factorisation."""
+    den = math.lcm(*(q for _p, q in terms.values()))
+    const, fs = ctx.from_dict({k: p * (den // q) for k, (p, q) in terms.items()}).factor()
     out = []
     for f, m in fs:
         if f.coeffs()[0] < 0:
             f, const = -f, const * (-1) ** int(m)
-        d = {tuple(int(e) for e in k): dom.convert(int(c)) for k, c in f.to_dict().items()}
-        out.append((sympy.Poly.from_dict(d, *poly.gens, domain=dom), int(m)))
+        out.append((f, int(m)))
     return sympy.Rational(int(const), den), out
 
 
@@ -357,15 +362,5 @@ class _LexRing:
     def factor(self, p):
         """(rational content with sign, [(primitive factor with positive lex leading
         coefficient, multiplicity)]) of a nonzero ``fmpq_mpoly`` of the bridge."""
-        terms = p.to_dict()
-        den = 1
-        for c in terms.values():
-            den = den * int(c.q) // flint.fmpz(den).gcd(int(c.q))
-        ints = {tuple(k[i] for i in self.perm): int(c * den) for k, c in terms.items()}
-        const, fs = self.ctx.from_dict(ints).factor()
-        out = []
-        for f, m in fs:
-            if f.coeffs()[0] < 0:
-                f, const = -f, const * (-1) ** m
-            out.append((f, int(m)))
-        return sympy.Rational(int(const), den), out
+        return _integer_factors(self.ctx, {tuple(k[i] for i in self.perm): (int(c.p), int(c.q))
+                                           for k, c in p.to_dict().items()})
