@@ -13,6 +13,7 @@ from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.numeric import band_edges, cutoff_from_coefficients, finite_float, passband_gain, trim
 from symfilt.analysis.response import cutoff_sensitivities, pole_values, response_numbers
 from symfilt.analysis.roots import exact_roots
+from symfilt.analysis.exact_tables import ExactTable
 from symfilt.model.safe import as_sympy
 
 if TYPE_CHECKING:
@@ -351,6 +352,10 @@ def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
     out = {}
     for quantity, table in stage.sensitivity.items():
         if not table:
+            continue
+        row = table.numbers(values) if isinstance(table, ExactTable) else None  # no sympy form built
+        if row is not None:
+            out[quantity] = row
             continue
         row = {}
         for name, e in table.items():

@@ -21,6 +21,7 @@ from typing import Mapping
 
 import sympy
 
+from symfilt.analysis.exact_tables import ProductSensitivities
 from symfilt.analysis.fastfactor import factor
 from symfilt.model.safe import as_sympy
 
@@ -51,13 +52,14 @@ def sensitivity(y: sympy.Expr, x: sympy.Symbol) -> sympy.Expr:
     return e
 
 
-def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
+def product_sensitivities(factors, symbols) -> ProductSensitivities | None:
     """S_x^y for y = product of polynomials p_i ** e_i, for every symbol x at once.
 
     S_x^y = sum of e_i * (x / p_i) dp_i/dx: exact and cheap, a cancelled ratio of
     polynomials (no radicals) even when y itself has square roots. Worked on
-    python-flint polynomials; each factor is converted once. None when ``factors``
-    is None.
+    python-flint polynomials; each factor is converted once. The table keeps each S_x as
+    its flint ratio until it is read (:class:`~symfilt.analysis.exact_tables.ProductSensitivities`), so a report that
+    prints only numbers never builds the sympy forms. None when ``factors`` is None.
 
     Parameters
     ----------
@@ -82,14 +84,16 @@ def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
     from symfilt.engine.polybridge import PolyContext
     from symfilt.engine.rational import cancel_pair
 
-    factors = [(as_sympy(p), sympy.Rational(e)) for p, e in factors if p != 1]
-    bridge = PolyContext([p for p, _e in factors] + list(symbols))
+    factors = tuple((as_sympy(p), sympy.Rational(e)) for p, e in factors)
+    symbols = list(symbols)
+    bridge = PolyContext([p for p, _e in factors if p != 1] + symbols)
     polys = [(bridge.to_flint(p), flint.fmpq(int(e.p), int(e.q)), p.free_symbols) for p, e in factors]
-    out = {}
+    zero = (bridge.ctx.from_dict({}), None)
+    ratios = {}
     for x in symbols:
         used = [(fp, e) for fp, e, free in polys if x in free]
         if not used:
-            out[str(x)] = sympy.Integer(0)
+            ratios[str(x)] = zero
             continue
         den = used[0][0]
         for fp, _e in used[1:]:
@@ -98,20 +102,8 @@ def product_sensitivities(factors, symbols) -> dict[str, sympy.Expr] | None:
         num = bridge.ctx.from_dict({})
         for fp, e in used:
             num = num + e * xg * bridge.derivative(fp, x) * (den / fp)
-        if num == 0:
-            out[str(x)] = sympy.Integer(0)
-            continue
-        n, d = cancel_pair(num, den)
-        out[str(x)] = _factored(bridge, n, d)
-    return out
-
-
-def _factored(bridge, n, d) -> sympy.Expr:
-    """n/d in sympy, as ``sympy.factor`` gives it when small (:func:`symfilt.analysis.fastfactor.factor`)."""
-    value = bridge.to_sympy(n) / bridge.to_sympy(d)
-    if len(n) + len(d) > _SMALL // 2:
-        return value
-    return factor(value)
+        ratios[str(x)] = zero if num == 0 else cancel_pair(num, den)
+    return ProductSensitivities(bridge, factors, tuple(fp for fp, _e, _f in polys), ratios)
 
 
 def sensitivities(y: sympy.Expr | None, symbols) -> dict[str, sympy.Expr] | None:

@@ -9,6 +9,7 @@ forms are in :mod:`symfilt.analysis.forms`, the numbers in :mod:`symfilt.analysi
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass, field
 from typing import Callable
 
@@ -22,6 +23,7 @@ from symfilt.model.values import parse_value
 from symfilt.errors import UsageError
 from symfilt.engine.elimination import DEFAULT_MAX_TERMS
 from symfilt.analysis.network import NetworkFunction, derive
+from symfilt.analysis.exact_tables import ChainedSensitivities
 from symfilt.analysis.sensitivity import product_sensitivities, sum_rules
 from symfilt.analysis.forms import RESPONSE_KINDS, Cutoff, StandardForm, cutoff, second_order_root, standard_form
 from symfilt.analysis.numbers import numeric_sensitivities, numeric_values, stability
@@ -166,22 +168,32 @@ def _cutoff_sensitivity(form: StandardForm, s_w0, s_q, s_wz=None):
     :func:`~symfilt.analysis.forms.first_order_zero_cutoff`: S^wp + 2r^2/(1 - 2r^2)(S^wp - S^wz),
     r = wp/wz); second-order low-pass
     S_x^w0 + g S_x^Q and high-pass S_x^w0 - g S_x^Q, with g = Q d(ln r)/dQ =
-    1/(2 Q^2 sqrt(x^2 + 1)), x = 1 - 1/(2Q^2), r as in :func:`second_order_root`."""
+    1/(2 Q^2 sqrt(x^2 + 1)), x = 1 - 1/(2Q^2), r as in :func:`second_order_root`.
+    A table whose entries are built when read and whose numbers need no sympy
+    (:class:`~symfilt.analysis.exact_tables.ChainedSensitivities`)."""
     if s_w0 is None:
         return None
     if form.order == 1 and form.kind in ("lowpass", "highpass"):
-        return dict(s_w0)
+        return s_w0
     if form.order == 1 and form.kind == "general" and s_wz is not None:
         # ln wc = ln wp - ln(1 - 2 r^2)/2 with r = wp/wz, so S^wc = S^wp + 2 r^2/(1 - 2 r^2) (S^wp - S^wz)
-        (a0, _), (a1, _) = form.factors["w0"]
-        (b0, _), (b1, _) = form.factors["zero"]
-        g = 2 * (a0 * b1) ** 2 / ((a1 * b0) ** 2 - 2 * (a0 * b1) ** 2)
-        return {k: s_w0[k] + g * (s_w0[k] - s_wz[k]) if s_w0[k] != s_wz[k] else s_w0[k] for k in s_w0}
+        @functools.cache
+        def g1():
+            (a0, _), (a1, _) = form.factors["w0"]
+            (b0, _), (b1, _) = form.factors["zero"]
+            return 2 * (a0 * b1) ** 2 / ((a1 * b0) ** 2 - 2 * (a0 * b1) ** 2)
+
+        build = lambda k: s_w0[k] + g1() * (s_w0[k] - s_wz[k]) if s_w0[k] != s_wz[k] else s_w0[k]
+        return ChainedSensitivities(1, "general", s_w0, s_wz, build)
     if form.order == 2 and form.kind in ("lowpass", "highpass") and s_q is not None:
-        x = 1 - 1 / (2 * form.q**2)
-        g = 1 / (2 * form.q**2 * sympy.sqrt(x**2 + 1))
+        @functools.cache
+        def g2():
+            x = 1 - 1 / (2 * form.q**2)
+            return 1 / (2 * form.q**2 * sympy.sqrt(x**2 + 1))
+
         sign = 1 if form.kind == "lowpass" else -1
-        return {k: (s_w0[k] + sign * g * s_q[k]) if s_q[k] != 0 else s_w0[k] for k in s_w0}
+        build = lambda k: (s_w0[k] + sign * g2() * s_q[k]) if s_q[k] != 0 else s_w0[k]
+        return ChainedSensitivities(2, form.kind, s_w0, s_q, build)
     return None
 
 

@@ -20,7 +20,6 @@ numpy is imported inside the functions (an optional dependency of symfilt).
 
 from __future__ import annotations
 
-import decimal
 import math
 from dataclasses import dataclass
 from typing import Callable, Mapping, Sequence
@@ -31,14 +30,11 @@ from symfilt.analysis.forms import cutoff, form_factors, standard_form
 from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.numbers import numeric_cutoff_sensitivity
 from symfilt.analysis.numeric import batch_cutoff, poly_values
+from symfilt.analysis.exact_tables import PI_DIGITS, chain_rule_row, floats
 from symfilt.analysis.stage import StageResult
 from symfilt.engine.polybridge import to_fmpq
 from symfilt.model.circuit import S
 
-#: pi to 50 decimals: the exact sensitivities' stand-in for the generator pi (an op-amp's 2·pi·GBW).
-_PI_DIGITS = "314159265358979323846264338327950288419716939937510"
-#: Digits of the one square root in the cutoff's chain rule.
-_DIGITS = 40
 #: Kinds without a single -3 dB point (a band-pass has two edges).
 NO_CUTOFF = ("bandpass", "notch", "allpass")
 
@@ -256,7 +252,7 @@ def exact_sensitivities(form: CoefficientForm, values: Mapping) -> dict:
     rows = {"w0": row("w0"), "q": row("q"), "zero": row("zero")}
     rows["dc_gain"] = None if form.dc is None else _exact_row(ratio, form.dc, names, point)
     rows["cutoff"] = _cutoff_row(form, rows, point)
-    out = {k: _floats(rows[k]) for k in ("cutoff", "w0", "q", "dc_gain") if rows[k]}
+    out = {k: floats(rows[k]) for k in ("cutoff", "w0", "q", "dc_gain") if rows[k]}
     if form.numeric_cutoff and names:
         st = standard_form(form.transfer)
         got = numeric_cutoff_sensitivity(StageResult(form.transfer, None, None, st, cutoff(st)), values)
@@ -289,7 +285,7 @@ def exact_point(symbols: dict, values: Mapping, *, unvalued_zero: bool = True) -
     out = {}
     for name, sym in symbols.items():
         if sym is sympy.pi:
-            out[name] = flint.fmpq(int(_PI_DIGITS), 10 ** (len(_PI_DIGITS) - 1))
+            out[name] = flint.fmpq(int(PI_DIGITS), 10 ** (len(PI_DIGITS) - 1))
         elif isinstance(sym, sympy.Symbol) and sym != S and sym.name in given:
             q = sympy.Rational(given[sym.name])
             out[name] = flint.fmpq(int(q.p), int(q.q))
@@ -326,39 +322,17 @@ def _exact_row(ratio, factors: list, names: list, point: dict) -> dict:
 
 
 def _cutoff_row(form: CoefficientForm, rows: dict, point: dict) -> dict | None:
-    """S_x^cutoff by the chain rule of :func:`symfilt.analysis.stage` (first order, with a zero, second order)."""
-    s_w0, s_q = rows["w0"], rows["q"]
+    """S_x^cutoff by the chain rule of the analysis (:func:`~symfilt.analysis.sensitivity.chain_rule_row`)."""
+    s_w0 = rows["w0"]
     if not form.closed_cutoff or s_w0 is None:
         return None
     if form.order == 1 and form.kind in ("lowpass", "highpass"):
         return dict(s_w0)
     value = lambda key, i: _exact_value(form, key, i, point)
-    if form.order == 1:  # S^wc = S^wp + 2 r^2/(1 - 2 r^2) (S^wp - S^wz), r = wp/wz
-        s_wz = rows["zero"]
-        a0, a1, b0, b1 = value("w0", 0), value("w0", 1), value("zero", 0), value("zero", 1)
-        den = (a1 * b0) ** 2 - 2 * (a0 * b1) ** 2
-        if den == 0:
-            return {k: None if s_w0[k] != s_wz[k] else s_w0[k] for k in s_w0}
-        g = 2 * (a0 * b1) ** 2 / den
-        return {k: _plus(s_w0[k], g, s_w0[k], s_wz[k]) for k in s_w0}
-    a0, a2, a1 = value("q", 0), value("q", 1), value("q", 2)
-    if a0 * a2 == 0 or a1 == 0:
-        return {k: None if s_q[k] != 0 else s_w0[k] for k in s_w0}
-    q2 = a0 * a2 / (a1 * a1)
-    x = 1 - 1 / (2 * q2)
-    ctx = decimal.Context(prec=_DIGITS)
-    dec = lambda v: ctx.divide(decimal.Decimal(int(v.p)), decimal.Decimal(int(v.q)))
-    g = ctx.divide(1, ctx.multiply(2 * dec(q2), ctx.sqrt(dec(x * x + 1))))
-    sign = 1 if form.kind == "lowpass" else -1
-    return {k: s_w0[k] if s_q[k] == 0 or s_w0[k] is None or s_q[k] is None
-            else ctx.add(dec(s_w0[k]), ctx.multiply(sign * g, dec(s_q[k]))) for k in s_w0}
-
-
-def _plus(s_w0, g, a, b):
-    """s_w0 + g (a - b), or s_w0 where a and b are equal (None where either is)."""
-    if s_w0 is None or b is None:
-        return None
-    return s_w0 if a == b else s_w0 + g * (a - b)
+    if form.order == 1:
+        coeffs = [value("w0", 0), value("w0", 1), value("zero", 0), value("zero", 1)]
+        return chain_rule_row(1, form.kind, s_w0, rows["zero"], coeffs)
+    return chain_rule_row(2, form.kind, s_w0, rows["q"], [value("q", 0), value("q", 1), value("q", 2)])
 
 
 def _exact_value(form: CoefficientForm, key: str, i: int, point: dict):
@@ -372,14 +346,6 @@ def _rational_ring(ratio):
     import flint
 
     return flint.fmpq_mpoly_ctx.get(tuple(ratio.num.context().names()), "degrevlex")
-
-
-def _floats(row: dict) -> dict:
-    """Each entry rounded to a float once (flint rationals and decimals alike)."""
-    out = {}
-    for k, v in row.items():
-        out[k] = None if v is None else float(v) if isinstance(v, decimal.Decimal) else int(v.p) / int(v.q)
-    return out
 
 
 __all__ = ["NO_CUTOFF", "CoefficientForm", "coefficient_form", "exact_point", "exact_sensitivities", "quantity_functions"]

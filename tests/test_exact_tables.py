@@ -1,0 +1,103 @@
+"""Sensitivity tables kept exact until read (issue 14, item 4: symbolic sensitivities built only when asked).
+
+* The numbers a table gives without sympy equal its sympy forms evaluated at the values by
+  ``sympy.N`` at 30 digits (the outside reference for the arithmetic), on every catalogue circuit.
+* S_x^y of a product of polynomials against sympy's own derivative of the product,
+  x·(dy/dx)/y, at random rational points (hypothesis; the definition of the normalised
+  sensitivity, tests/REFERENCES.md "Sensitivity and tolerances").
+* A plain text report prints every sensitivity as a number and builds none of the forms.
+"""
+
+from __future__ import annotations
+
+import pytest
+import sympy
+from hypothesis import given, settings, strategies as st
+
+from symfilt.analysis.exact_tables import ExactTable, chain_rule_row
+from symfilt.analysis.numeric import finite_float
+from symfilt.analysis.sensitivity import product_sensitivities
+from symfilt.analysis.stage import analyse
+from symfilt.design.report import report
+from symfilt.export.derive_report import derive_text
+from symfilt.model import catalogue
+
+X, Y, Z = sympy.symbols("X Y Z", positive=True)
+
+
+def _tables(a):
+    return [(view, q, t) for view, stage in (("loaded", a.loaded), ("ideal", a.ideal))
+            for q, t in stage.sensitivity.items() if isinstance(t, ExactTable)]
+
+
+@pytest.mark.parametrize("name", catalogue.names())
+def test_table_numbers_equal_the_sympy_forms_at_the_values(name):
+    c = catalogue.build(name)
+    values = c.values()
+    tables = _tables(analyse(c))
+    assert tables
+    for view, q, table in tables:
+        got = table.numbers(values)
+        assert got is not None, (view, q)
+        assert list(got) == list(table)
+        for n in table:
+            want = finite_float(sympy.sympify(table[n]).xreplace(values))
+            if want is None:
+                assert got[n] is None, (view, q, n)
+            else:
+                assert got[n] == pytest.approx(want, rel=1e-12, abs=1e-15), (view, q, n)
+
+
+def test_a_table_without_every_value_gives_no_numbers():
+    t = product_sensitivities([(X + Y, 1)], [X, Y])
+    assert t.numbers({X: 1}) is None
+    assert t.numbers({X: 1, Y: sympy.sqrt(2)}) is None  # not rational: the caller evaluates the forms
+    assert t.numbers({X: 1, Y: 3}) == {"X": 0.25, "Y": 0.75}
+
+
+def test_tables_of_the_same_factors_are_equal_without_building():
+    a = product_sensitivities([(X * Y + Z, 1), (Z, -1)], [X, Y, Z])
+    b = product_sensitivities([(X * Y + Z, 1), (Z, -1)], [X, Y, Z])
+    assert a == b and not a._shown and not b._shown
+    c = product_sensitivities([(X * Y + Z, 2), (Z, -2)], [X, Y, Z])
+    assert a != c  # different factors: compared entry by entry
+    assert dict(a) == {n: a[n] for n in ("X", "Y", "Z")}
+
+
+_poly = st.lists(st.tuples(st.integers(1, 5), st.integers(0, 2), st.integers(0, 2), st.integers(0, 1)),
+                 min_size=1, max_size=4)
+
+
+@settings(max_examples=40, deadline=None)
+@given(_poly, _poly, st.sampled_from([sympy.Rational(1, 2), 1, -1, sympy.Rational(-1, 2), 2]),
+       st.tuples(st.integers(1, 9), st.integers(1, 9), st.integers(1, 9)))
+def test_product_sensitivities_equal_sympys_derivative(p1, p2, e, point):
+    polys = [sum(k * X**a * Y**b * Z**c for k, a, b, c in p) for p in (p1, p2)]
+    y = polys[0] ** e * polys[1] ** -1
+    table = product_sensitivities([(polys[0], e), (polys[1], -1)], [X, Y, Z])
+    at = dict(zip((X, Y, Z), map(sympy.Integer, point)))
+    got = table.numbers(at)
+    for x in (X, Y, Z):
+        want = sympy.N((x * sympy.diff(y, x) / y).xreplace(at), 40)
+        assert got[str(x)] == pytest.approx(float(want), rel=1e-13, abs=1e-15), x
+
+
+def test_second_order_chain_rule_at_q_of_one_over_root_two():
+    # Q = 1/sqrt(2): x = 0, wc = w0 and g = 1/(2 Q^2) = 1 (REFERENCES.md "Second order", common practice):
+    # S^wc = S^w0 + S^Q for a low-pass, S^w0 - S^Q for a high-pass. a0 = a2 = 1, a1 = sqrt(2) is not
+    # rational, so take Q^2 = a0 a2 / a1^2 = 1/2 from a0 = 1, a2 = 2, a1 = 2.
+    import flint
+
+    w, q = {"R": flint.fmpq(-1, 2)}, {"R": flint.fmpq(1, 4)}
+    one, two = flint.fmpq(1), flint.fmpq(2)
+    assert float(chain_rule_row(2, "lowpass", w, q, [one, two, two])["R"]) == pytest.approx(-0.25, rel=1e-30)
+    assert float(chain_rule_row(2, "highpass", w, q, [one, two, two])["R"]) == pytest.approx(-0.75, rel=1e-30)
+
+
+@pytest.mark.parametrize("name", ["sallen-key-lowpass", "mfb-bandpass", "adc-driver", "state-variable"])
+def test_a_text_report_builds_no_sensitivity_form(name):
+    r = report(catalogue.build(name))
+    text = derive_text(r)
+    assert "Sensitivity S_x^y" in text
+    tables = _tables(r.analysis)
+    assert tables and all(not t._shown for _v, _q, t in tables)
