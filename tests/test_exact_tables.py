@@ -101,3 +101,37 @@ def test_a_text_report_builds_no_sensitivity_form(name):
     assert "Sensitivity S_x^y" in text
     tables = _tables(r.analysis)
     assert tables and all(not t._shown for _v, _q, t in tables)
+
+
+@pytest.mark.parametrize("name", catalogue.names())
+def test_the_cutoff_number_equals_the_closed_form_at_the_values(name):
+    # The number comes from the exact coefficients (cutoff_value, 40-digit decimals); the reference
+    # puts the values into the closed form itself and lets sympy.N evaluate it at 30 digits.
+    import math
+
+    from symfilt.analysis.numbers import numeric_values
+
+    c = catalogue.build(name)
+    a = analyse(c, sensitivity=False, numbers=False)
+    for st_ in (a.loaded, a.ideal):
+        if st_.cutoff.value is None:
+            continue
+        want = finite_float(sympy.sympify(st_.cutoff.value).xreplace(c.values()))
+        assert numeric_values(st_, c.values())["cutoff_hz"] == pytest.approx(want / (2 * math.pi), rel=1e-14)
+
+
+def test_cutoff_value_in_floats_and_decimals():
+    # Q = 1/sqrt(2): the cutoff is w0 (common practice); Q = 1/2 (two equal real poles at w0):
+    # wc = w0·sqrt(sqrt(2) - 1) (from memory: the -3 dB point of 1/(1 + s/w0)^2).
+    import decimal
+    import math
+
+    from symfilt.analysis.forms import cutoff_value
+
+    assert cutoff_value(2, "lowpass", 10.0, 1 / math.sqrt(2), math.sqrt) == pytest.approx(10.0, rel=1e-15)
+    assert cutoff_value(2, "lowpass", 1.0, 0.5, math.sqrt) == pytest.approx(math.sqrt(math.sqrt(2) - 1), rel=1e-15)
+    assert cutoff_value(2, "highpass", 1.0, 0.5, math.sqrt) == pytest.approx(1 / math.sqrt(math.sqrt(2) - 1), rel=1e-15)
+    with decimal.localcontext(decimal.Context(prec=40)) as ctx:
+        got = cutoff_value(2, "lowpass", decimal.Decimal(1), decimal.Decimal("0.5"), ctx.sqrt)
+        want = (decimal.Decimal(2).sqrt() - 1).sqrt()
+    assert abs(got - want) < decimal.Decimal("1e-38")

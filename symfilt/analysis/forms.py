@@ -285,6 +285,43 @@ def cutoff(form: StandardForm) -> Cutoff:
     return Cutoff(None, reason=finding("no-closed-form-cutoff", kind=form.kind, order=form.order))
 
 
+def cutoff_value(order: int, kind: str, w0, other, sqrt):
+    """The -3 dB angular frequency of :func:`cutoff` from numbers, in any arithmetic.
+
+    Parameters
+    ----------
+    order : int
+        1 or 2.
+    kind : str
+        ``lowpass`` or ``highpass``, or ``general`` for a first order with a zero.
+    w0 : number
+        The pole frequency.
+    other : number or None
+        Q (second order) or the zero's frequency wz (a first order with a zero).
+    sqrt : callable
+        The square root of the arithmetic (``math.sqrt``, ``numpy.sqrt``, a decimal context's).
+
+    Returns
+    -------
+    number
+        Where the formula has no real value (a first order whose zero is too near the
+        pole) it is whatever ``sqrt`` makes of a negative number.
+
+    Examples
+    --------
+    >>> import math
+    >>> round(cutoff_value(2, "lowpass", 1.0, 1 / math.sqrt(2), math.sqrt), 12)
+    1.0
+    """
+    if order == 1 and kind in ("lowpass", "highpass"):
+        return w0
+    if order == 1:  # first_order_zero_cutoff
+        return w0 / sqrt(1 - 2 * w0**2 / other**2)
+    x = 1 - 1 / (2 * other**2)
+    root = sqrt(x + sqrt(x**2 + 1))  # second_order_root
+    return w0 * root if kind == "lowpass" else w0 / root
+
+
 def nested_radical(e) -> bool:
     """True when a root in ``e`` holds another root (a second-order cutoff, or its sensitivity, over symbols).
 

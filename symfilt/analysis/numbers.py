@@ -3,6 +3,7 @@ sensitivities, and the high-frequency end of the response (its stop-band floor o
 
 from __future__ import annotations
 
+import decimal
 import math
 from typing import TYPE_CHECKING, Mapping
 
@@ -13,7 +14,8 @@ from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.numeric import band_edges, cutoff_from_coefficients, finite_float, passband_gain, trim
 from symfilt.analysis.response import cutoff_sensitivities, pole_values, response_numbers
 from symfilt.analysis.roots import exact_roots
-from symfilt.analysis.exact_tables import ExactTable
+from symfilt.analysis.exact_tables import CHAIN_DIGITS, PI_DIGITS, ExactTable
+from symfilt.analysis.forms import cutoff_value
 from symfilt.model.safe import as_sympy
 
 if TYPE_CHECKING:
@@ -111,7 +113,9 @@ def _cutoff_number(stage: StageResult, values: Mapping, response: Mapping | None
     cut = stage.cutoff
     closed = cut.value is not None and not (as_sympy(cut.value).free_symbols - set(values))
     if closed:
-        w = finite_float(as_sympy(cut.value).xreplace(dict(values)))
+        w = _closed_cutoff_number(stage.form, values)
+        if w is False:  # a value that is not rational: evaluate the closed form itself
+            w = finite_float(as_sympy(cut.value).xreplace(dict(values)))
         if w is not None or stage.form.order != 1:
             return {"cutoff_hz": None if w is None else w / (2 * math.pi)}
     elif cut.edges is not None or stage.form.kind in NO_CUTOFF_KINDS or stage.form.order < 1:
@@ -130,6 +134,35 @@ def _cutoff_number(stage: StageResult, values: Mapping, response: Mapping | None
     if w is None:
         return {"cutoff_hz": None, "no_cutoff": True}
     return {"cutoff_hz": w / (2 * math.pi)}
+
+
+def _closed_cutoff_number(form, values: Mapping):
+    """The closed-form cutoff (rad/s) at rational values, from the exact coefficients in 40-digit
+    decimals (:func:`~symfilt.analysis.forms.cutoff_value`), without putting numbers into its
+    radicals. False where that does not apply (a value that is not rational, a coefficient
+    that is 0 or negative under a root, a root of a negative number): the caller then
+    evaluates the closed form itself, which says what such a case gives."""
+    ctx = decimal.Context(prec=CHAIN_DIGITS, traps=[decimal.InvalidOperation, decimal.DivisionByZero])
+    at = dict(values)
+    at[sympy.pi] = sympy.Rational(int(PI_DIGITS), 10 ** (len(PI_DIGITS) - 1))
+
+    def product(key):
+        out = decimal.Decimal(1)
+        for p, e in form.factors[key]:
+            v, e = as_sympy(p).xreplace(at), sympy.Rational(e)
+            if not isinstance(v, sympy.Rational) or v <= 0 and e.q != 1 or e.q not in (1, 2):
+                raise decimal.InvalidOperation
+            d = ctx.divide(decimal.Decimal(int(v.p)), decimal.Decimal(int(v.q)))
+            out = ctx.multiply(out, ctx.power(d if e.q == 1 else ctx.sqrt(d), int(e.p)))
+        return out
+
+    other = "zero" if form.order == 1 and form.kind == "general" else "q" if form.order == 2 else None
+    try:
+        with decimal.localcontext(ctx):  # the formula's operators use these digits too
+            w = cutoff_value(form.order, form.kind, product("w0"), other and product(other), ctx.sqrt)
+    except (ArithmeticError, KeyError):
+        return False
+    return float(w)
 
 
 def output_impedance_values(zout: NetworkFunction, values: Mapping, cutoff_hz: float | None) -> dict:

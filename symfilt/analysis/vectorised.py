@@ -26,7 +26,7 @@ from typing import Callable, Mapping, Sequence
 
 import sympy
 
-from symfilt.analysis.forms import cutoff, form_factors, standard_form
+from symfilt.analysis.forms import cutoff, cutoff_value, form_factors, standard_form
 from symfilt.analysis.network import NetworkFunction
 from symfilt.analysis.numbers import numeric_cutoff_sensitivity
 from symfilt.analysis.numeric import batch_cutoff, poly_values
@@ -184,16 +184,9 @@ def _closed_cutoff(form: CoefficientForm, pt: dict):
     """The -3 dB angular frequency by the formulas of :func:`symfilt.analysis.forms.cutoff`, in floats."""
     import numpy as np
 
+    other = "zero" if form.order == 1 and "zero" in form.factors else "q" if form.order == 2 else None
     w0 = _product(form.factors["w0"], pt)
-    if form.order == 1 and form.kind in ("lowpass", "highpass"):
-        return w0
-    if form.order == 1:  # first order with a zero: forms.first_order_zero_cutoff
-        wz = _product(form.factors["zero"], pt)
-        return w0 / np.sqrt(1 - 2 * w0**2 / wz**2)
-    q = _product(form.factors["q"], pt)
-    x = 1 - 1 / (2 * q**2)
-    root = np.sqrt(x + np.sqrt(x**2 + 1))  # forms.second_order_root
-    return w0 * root if form.kind == "lowpass" else w0 / root
+    return cutoff_value(form.order, form.kind, w0, other and _product(form.factors[other], pt), np.sqrt)
 
 
 def _coefficient_cutoff(ratio, names: Sequence[str], two_pi: float) -> Callable:

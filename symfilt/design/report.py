@@ -16,10 +16,8 @@ Examples
 from __future__ import annotations
 
 from dataclasses import dataclass
-from typing import Callable
+from typing import TYPE_CHECKING, Callable
 
-from symfilt.analysis.approx import approximations
-from symfilt.analysis.loading import LoadLimit, load_limits
 from symfilt.analysis.probe import Probe, probes as probe_all, substitute_probe as put_probe_values
 from symfilt.analysis.stage import Analysis, analyse, substitute as put_values
 from symfilt.design.opamp_error import OPAMP_ERROR_MODELS, OpampError, needs_opamp_error, opamp_error
@@ -30,6 +28,9 @@ from symfilt.model.keep import fixture_values, keep_warnings
 from symfilt.model.opamp import OPAMP_MODELS
 from symfilt.model.safe import require, require_budget
 from symfilt.model.structure import structure_warnings
+
+if TYPE_CHECKING:
+    from symfilt.analysis.loading import LoadLimit
 
 
 @dataclass(frozen=True)
@@ -144,11 +145,19 @@ def report(circuit: Circuit, *, load_limit: float | None = None, opamp_model: st
             error = None  # no ideal-op-amp form to compare with (no negative feedback), or too large
     warnings = tuple(structure_warnings(shown)) + keep_warnings(shown)
     a = analyse(shown, sensitivity=sensitivity, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress, at=at)
-    limits = tuple(load_limits(a, load_limit)) if load_limit is not None else None
+    limits = None
+    if load_limit is not None:  # imported only when asked for, as the approximation below
+        from symfilt.analysis.loading import load_limits
+
+        limits = tuple(load_limits(a, load_limit))
     found = probe_all(shown, max_terms=max_terms or DEFAULT_MAX_TERMS, progress=progress)
     if substitute:
         found = tuple(put_probe_values(p, shown) for p in found)
     if approx is not None and progress:
         progress("approximation")
-    approximate = approximations(a, approx) if approx is not None else ()
+    approximate = ()
+    if approx is not None:
+        from symfilt.analysis.approx import approximations
+
+        approximate = approximations(a, approx)
     return Report(shown, put_values(a) if substitute else a, limits, error, warnings, found, approximate)

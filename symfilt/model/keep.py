@@ -242,10 +242,10 @@ def load_keep(path) -> tuple[str, ...] | None:
     """
     from pathlib import Path
 
+    if str(path).startswith("@") or not Path(path).is_file():
+        return None  # before the TOML reader is imported: a built-in circuit never needs it
     from symfilt.model.circuit_file import read_text_file, read_toml
 
-    if str(path).startswith("@") or not Path(path).is_file():
-        return None
     text, name = read_text_file(path)
     keep = read_toml(text, name).get("keep")
     return None if keep is None else parse_keep(keep, f"{name} keep")
