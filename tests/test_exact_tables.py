@@ -1,11 +1,13 @@
-"""Sensitivity tables kept exact until read (issue 14, item 4: symbolic sensitivities built only when asked).
+"""What a report builds only when it is read (issue 14, item 4): sensitivity forms and the closed cutoff.
 
 * The numbers a table gives without sympy equal its sympy forms evaluated at the values by
   ``sympy.N`` at 30 digits (the outside reference for the arithmetic), on every catalogue circuit.
 * S_x^y of a product of polynomials against sympy's own derivative of the product,
   x·(dy/dx)/y, at random rational points (hypothesis; the definition of the normalised
   sensitivity, tests/REFERENCES.md "Sensitivity and tolerances").
-* A plain text report prints every sensitivity as a number and builds none of the forms.
+* A plain text report prints every sensitivity as a number and builds none of the forms, and
+  never builds a second-order closed cutoff (shown through w0 and Q; its number comes from the
+  exact coefficients and equals the closed form put to sympy.N).
 """
 
 from __future__ import annotations
@@ -135,3 +137,18 @@ def test_cutoff_value_in_floats_and_decimals():
         got = cutoff_value(2, "lowpass", decimal.Decimal(1), decimal.Decimal("0.5"), ctx.sqrt)
         want = (decimal.Decimal(2).sqrt() - 1).sqrt()
     assert abs(got - want) < decimal.Decimal("1e-38")
+
+
+@pytest.mark.parametrize("name", ["sallen-key-lowpass", "sallen-key-highpass", "mfb-lowpass", "adc-driver"])
+def test_a_text_report_never_builds_the_second_order_cutoff(name):
+    # The text shows the cutoff through w0 and Q and its number from the coefficients; the closed
+    # form w0·sqrt(x + sqrt(x^2 + 1)) (REFERENCES.md "Second order", common practice) waits until read.
+    from symfilt.analysis.forms import second_order_root
+
+    r = report(catalogue.build(name))
+    derive_text(r)
+    for st_ in (r.analysis.loaded, r.analysis.ideal):
+        assert st_.cutoff.has_value and "value" not in vars(st_.cutoff)
+        root = second_order_root(st_.form.q)
+        want = st_.form.w0 * root if st_.form.kind == "lowpass" else st_.form.w0 / root
+        assert st_.cutoff.value == want

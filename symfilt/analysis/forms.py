@@ -11,7 +11,9 @@ Analog Filters*, ch. on second-order sections):
 
 from __future__ import annotations
 
+import functools
 from dataclasses import dataclass, field
+from typing import Callable
 
 import sympy
 
@@ -163,14 +165,16 @@ def form_factors(order: int, b, a, zero=_zero) -> tuple[str | None, dict]:
     return None, {}
 
 
-@dataclass(frozen=True)
+@dataclass(frozen=True, eq=False)
 class Cutoff:
     """The -3 dB angular frequency (rad/s) relative to the pass-band gain.
 
     Parameters
     ----------
-    value : sympy.Expr or None
-        Closed form, when one exists.
+    closed : sympy.Expr, Later or None
+        Closed form, when one exists: the expression, or a :class:`Later` that builds it
+        when :attr:`value` is first read (a second-order root takes long to build, and a
+        report that prints only its number never needs it).
     edges : tuple or None
         Band-pass: the lower and upper -3 dB edges (closed forms).
     bandwidth : sympy.Expr or None
@@ -182,12 +186,53 @@ class Cutoff:
     --------
     >>> Cutoff(None, reason=finding("allpass-has-no-cutoff")).value is None
     True
+    >>> w = sympy.Symbol("w", positive=True)
+    >>> c = Cutoff(Later(lambda: 2 * w))
+    >>> c.has_value, c.value, c == Cutoff(2 * w)
+    (True, 2*w, True)
     """
 
-    value: sympy.Expr | None
+    closed: object
     edges: tuple | None = None
     bandwidth: sympy.Expr | None = None
     reason: Finding | None = None
+
+    @property
+    def has_value(self) -> bool:
+        """Whether there is a closed form, without building it."""
+        return self.closed is not None
+
+    @functools.cached_property
+    def value(self) -> sympy.Expr | None:
+        """The closed form (built on first reading), or None."""
+        return self.closed.build() if isinstance(self.closed, Later) else self.closed
+
+    def __eq__(self, other) -> bool:
+        if not isinstance(other, Cutoff):
+            return NotImplemented
+        return (self.value, self.edges, self.bandwidth, self.reason) == (other.value, other.edges, other.bandwidth,
+                                                                          other.reason)
+
+    def __hash__(self) -> int:
+        return hash((self.value, self.edges, self.bandwidth, self.reason))
+
+
+@dataclass(frozen=True)
+class Later:
+    """An expression built when first asked for: ``build()`` makes it.
+
+    Parameters
+    ----------
+    build : callable
+        No arguments; returns the expression.
+
+    Examples
+    --------
+    >>> Later(lambda: sympy.Integer(3)).build()
+    3
+    """
+
+    build: Callable[[], sympy.Expr]
 
 
 def second_order_root(q):
@@ -270,9 +315,11 @@ def cutoff(form: StandardForm) -> Cutoff:
         (b0, _), (b1, _) = form.factors["zero"]
         return Cutoff(first_order_zero_cutoff(form.w0, _tidy(b0 / b1)))
     if form.order == 2 and form.kind in ("lowpass", "highpass"):
-        root = second_order_root(form.q)
-        value = form.w0 * root if form.kind == "lowpass" else form.w0 / root
-        return Cutoff(value)
+        def closed():
+            root = second_order_root(form.q)
+            return form.w0 * root if form.kind == "lowpass" else form.w0 / root
+
+        return Cutoff(Later(closed))
     if form.order == 2 and form.kind == "bandpass":
         w0, q = form.w0, form.q
         lo = w0 * (sympy.sqrt(1 + 4 * q**2) - 1) / (2 * q)

@@ -111,11 +111,13 @@ def _cutoff_number(stage: StageResult, values: Mapping, response: Mapping | None
     its pass-band gain.
     """
     cut = stage.cutoff
-    closed = cut.value is not None and not (as_sympy(cut.value).free_symbols - set(values))
+    closed, w = cut.has_value, None
     if closed:
-        w = _closed_cutoff_number(stage.form, values)
-        if w is False:  # a value that is not rational: evaluate the closed form itself
-            w = finite_float(as_sympy(cut.value).xreplace(dict(values)))
+        w = _closed_cutoff_number(stage.form, values)  # a float, without building the closed form
+    if w is False:  # not every value rational: put the values into the closed form itself
+        closed = not (as_sympy(cut.value).free_symbols - set(values))
+        w = finite_float(as_sympy(cut.value).xreplace(dict(values))) if closed else None
+    if closed:
         if w is not None or stage.form.order != 1:
             return {"cutoff_hz": None if w is None else w / (2 * math.pi)}
     elif cut.edges is not None or stage.form.kind in NO_CUTOFF_KINDS or stage.form.order < 1:
@@ -399,7 +401,7 @@ def numeric_sensitivities(stage: StageResult, values: Mapping) -> dict:
             row[name] = finite_float(e.xreplace(dict(values)))
         if row is not None:
             out[quantity] = row
-    if "cutoff" not in out and stage.sensitivity and stage.cutoff.value is None and stage.cutoff.edges is None:
+    if "cutoff" not in out and stage.sensitivity and not stage.cutoff.has_value and stage.cutoff.edges is None:
         row = numeric_cutoff_sensitivity(stage, values)
         if row is not None:
             out["cutoff"] = row

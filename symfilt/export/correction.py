@@ -78,7 +78,7 @@ def _square_ratio(loaded, ideal):
     return factor_ratio(ctx.to_sympy(top[0] * bottom[1]), ctx.to_sympy(top[1] * bottom[0]))  # cancelled there
 
 
-def corrections(loaded_view, ideal_view, show) -> dict:
+def corrections(loaded_view, ideal_view, show, labels=QUANTITIES) -> dict:
     """Label -> shown factor for each quantity of :data:`QUANTITIES` worth one.
 
     Parameters
@@ -88,6 +88,8 @@ def corrections(loaded_view, ideal_view, show) -> dict:
     show : callable
         The one-line printer of the report (formula -> text); a factor is kept where
         ``show(factor)`` is shorter than ``show(loaded)`` and at most :data:`MAX_CHARS` long.
+    labels : iterable of str
+        The quantities the report shows (others of :data:`QUANTITIES` are not looked at).
 
     Returns
     -------
@@ -104,7 +106,7 @@ def corrections(loaded_view, ideal_view, show) -> dict:
     'R1/((R1 + R_s) || R_L)'
     """
     out = {}
-    for label in QUANTITIES:
+    for label in (x for x in QUANTITIES if x in labels):
         lo, hi = quantity(loaded_view, label), quantity(ideal_view, label)
         factor = correction_factor(lo, hi)
         if factor is not None and len(show(factor)) < min(len(show(lo)), MAX_CHARS + 1):
@@ -130,5 +132,6 @@ def quantity(view, label: str):
     1/(C1*R1)
     """
     f = view.form
-    return {"K": f.gain, "w0": f.w0, "Q": f.q, "tau": f.tau, "cutoff ωc": view.cutoff.value,
-            "DC gain": view.transfer.dc_gain()}.get(label)
+    pick = {"K": lambda: f.gain, "w0": lambda: f.w0, "Q": lambda: f.q, "tau": lambda: f.tau,
+            "cutoff ωc": lambda: view.cutoff.value, "DC gain": view.transfer.dc_gain}.get(label)
+    return None if pick is None else pick()  # only the one asked for is built

@@ -90,14 +90,16 @@ def stage_equations(st: StageResult, ideal: StageResult | None = None) -> list[t
     '\\\\frac{1}{C_{1} R_{1}}'
     """
     f = st.form
-    factors = corrections(st, ideal, lambda e: str(readable(e))) if ideal is not None else {}
     eqs = [(LABELS["transfer"], transfer_tex(st.transfer))]
-    cut = st.cutoff.value
-    if f.order == 2 and f.kind in ("lowpass", "highpass") and cut is not None:
+    if f.order == 2 and f.kind in ("lowpass", "highpass") and st.cutoff.has_value:
         root = "\\sqrt{x + \\sqrt{x^{2} + 1}}"
         rhs = "\\omega_{0} " + root if f.kind == "lowpass" else "\\frac{\\omega_{0}}{" + root + "}"
         eqs.append(("\\omega_{c}", rhs + ", \\quad x = 1 - \\frac{1}{2 Q^{2}}"))
-        cut = None
+        cut = None  # shown through w0 and Q: the closed form itself is never built here
+    else:
+        cut = st.cutoff.value
+    shown = [label for key, label in _TEXT_LABEL.items() if key != "cutoff" or cut is not None]
+    factors = corrections(st, ideal, lambda e: str(readable(e)), shown) if ideal is not None else {}
     for key, e in (("gain", f.gain), ("w0", f.w0), ("q", f.q), ("tau", f.tau), ("cutoff", cut),
                    ("bandwidth", st.cutoff.bandwidth), ("dc_gain", st.transfer.dc_gain()),
                    ("hf_gain", st.transfer.hf_gain()),
@@ -185,7 +187,7 @@ def _cutoff_through_w0_q(st: StageResult) -> str | None:
     1/(2 Q^2 sqrt(x^2 + 1)). Written once for every part instead of each sensitivity expanded.
     """
     f = st.form
-    if f.order != 2 or f.kind not in ("lowpass", "highpass") or st.cutoff.value is None:
+    if f.order != 2 or f.kind not in ("lowpass", "highpass") or not st.cutoff.has_value:
         return None
     sign = "+" if f.kind == "lowpass" else "-"
     return (f"S_{{p}}^{{\\omega_{{0}}}} {sign} \\kappa \\, S_{{p}}^{{Q}}, \\quad \\kappa = "

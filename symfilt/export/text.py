@@ -388,11 +388,12 @@ def stage_formulas(st: StageResult, ideal: StageResult | None = None) -> list[st
     """
     f = st.form
     rows = [f"  kind: {f.kind}, order {f.order}"]
-    cut = st.cutoff.value
-    if f.order == 2 and f.kind in ("lowpass", "highpass") and cut is not None:
+    if f.order == 2 and f.kind in ("lowpass", "highpass") and st.cutoff.has_value:
         op = "·" if f.kind == "lowpass" else "/"
         rows.append(f"  {'cutoff ωc':<10} = w0{op}√(x + √(x² + 1)), x = 1 − 1/(2·Q²)")
-        cut = None
+        cut = None  # shown through w0 and Q: the closed form itself is never built here
+    else:
+        cut = st.cutoff.value
     zero = None
     if f.order == 1 and f.kind == "general" and cut is not None and "zero" in f.factors:
         zero = tidy(sympy.Mul(*[p**e for p, e in f.factors["zero"]]))
@@ -401,7 +402,8 @@ def stage_formulas(st: StageResult, ideal: StageResult | None = None) -> list[st
     items = [("K", f.gain), ("w0", f.w0), ("wz", zero), ("Q", f.q), ("tau", f.tau), ("cutoff ωc", cut),
              ("DC gain", st.transfer.dc_gain()), ("HF gain", st.transfer.hf_gain()),
              ("Zin", st.zin), ("Zout", st.zout)]
-    factors = corrections(st, ideal, one_line) if ideal is not None else {}
+    shown = [label for label, e in items if e is not None]
+    factors = corrections(st, ideal, one_line, shown) if ideal is not None else {}
     for label, e in items:
         if label in factors and e is not None:
             rows += [f"  {label:<10} = {one_line(e)}", f"  {'':<10} = {label} (ideal) · {one_line(factors[label])}"]
@@ -418,7 +420,7 @@ def stage_formulas(st: StageResult, ideal: StageResult | None = None) -> list[st
     if st.cutoff.edges is not None:
         rows.append(f"  {'band edges':<10} = {one_line(st.cutoff.edges[0])}  …  {one_line(st.cutoff.edges[1])}")
         rows.append(f"  {'bandwidth':<10} = {one_line(st.cutoff.bandwidth)}")
-    if st.cutoff.value is None and st.cutoff.reason:
+    if not st.cutoff.has_value and st.cutoff.reason:
         rows.append(f"  cutoff: no closed form ({describe(st.cutoff.reason)})")
     return rows
 
