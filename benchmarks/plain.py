@@ -84,23 +84,46 @@ def nodal_equations(circuit: Circuit):
             else:
                 eqs.append(sympy.Eq(v, gain * branch_current[p.control]))
         elif p.kind == "opamp":
-            plus, minus, out = (volt[x] for x in p.nodes)
-            leave(p.nodes[2], branch_current[p.name])
-            if p.model == "ideal":
-                eqs.append(sympy.Eq(plus, minus))
-            else:
-                a0 = part_symbol(f"A_{p.name}")
-                a = a0
-                if p.model == "single-pole":
-                    wb = 2 * sympy.pi * part_symbol(f"GBW_{p.name}")
-                    a = a0 * wb / (a0 * S + wb)
-                eqs.append(sympy.Eq(out, a * (plus - minus)))
-    eqs = [sympy.Eq(kcl[n], 0) for n in nodes] + eqs
+            eqs.append(_opamp(p, volt, kcl, unknowns, branch_current[p.name]))
+    eqs = [sympy.Eq(current, 0) for current in kcl.values()] + eqs
     # tied values (R3 = R/2) go straight into the equations, as a user would write them
     tied = {circuit.part(name).symbol: expr for name, expr in circuit.ties().items()}
     if tied:
         eqs = [e.xreplace(tied) for e in eqs]
     return eqs, unknowns, volt[circuit.output]
+
+
+def _opamp(p, volt, kcl, unknowns, current):
+    """The op-amp's equation, with Rout (a node of its own behind it), Rin and Cin written in."""
+    plus, minus, out = (volt[x] for x in p.nodes)
+    sym = {key: part_symbol(f"{prefix}{p.name}") for key, prefix in
+           (("rout", "Rout_"), ("rin", "Rin_"), ("cin", "Cin_"))}
+    present = {key: getattr(p, key) is not None and getattr(p, key).present for key in sym}
+    for node, v in ((p.nodes[0], plus), (p.nodes[1], minus)):
+        if present["cin"] and node in kcl:
+            kcl[node] += v * S * sym["cin"]
+    if present["rin"]:
+        for node, i in ((p.nodes[0], (plus - minus) / sym["rin"]), (p.nodes[1], (minus - plus) / sym["rin"])):
+            if node in kcl:
+                kcl[node] += i
+    e = out
+    if present["rout"]:
+        e = sympy.Symbol(f"V_{p.name}_e")
+        unknowns.append(e)
+        kcl[p.nodes[2]] += (out - e) / sym["rout"]
+        kcl[f"{p.name}_e"] = (e - out) / sym["rout"] + current
+    elif p.nodes[2] in kcl:
+        kcl[p.nodes[2]] += current
+    if p.model == "ideal":
+        return sympy.Eq(plus, minus)
+    wb = 2 * sympy.pi * part_symbol(f"GBW_{p.name}") if p.model != "gain" else None
+    a = {"gain": lambda: part_symbol(f"A_{p.name}"),
+         "integrator": lambda: wb / S,
+         "single-pole": lambda: part_symbol(f"A_{p.name}") * wb / (part_symbol(f"A_{p.name}") * S + wb),
+         "two-pole": lambda: (part_symbol(f"A_{p.name}") * wb / (part_symbol(f"A_{p.name}") * S + wb)
+                              * 2 * sympy.pi * part_symbol(f"P2_{p.name}")
+                              / (S + 2 * sympy.pi * part_symbol(f"P2_{p.name}")))}[p.model]()
+    return sympy.Eq(e, a * (plus - minus))
 
 
 def plain_transfer(circuit: Circuit) -> sympy.Expr:
