@@ -17,7 +17,8 @@ import click
 
 from symfilt.errors import UsageError
 from symfilt.export.json import json_float
-from symfilt.export.text import number_text, one_line, transfer_line
+from symfilt.export.text import number_text, one_line
+from symfilt.export.transfer_text import transfer_line
 
 METHOD = "simplification after generation: the dominant terms of each coefficient of N(s) and D(s) at the values"
 ERROR_FORMULA = "max over the band of | |H_approx(jw)| / |H(jw)| - 1 |"

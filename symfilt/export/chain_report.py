@@ -121,7 +121,8 @@ def chain_text(r) -> str:
       source (ideal) → [1] RC → x1 → [2] RC → out → load (open)
     """
     from symfilt.export.response_text import pole_zero_lines
-    from symfilt.export.text import LONG, stage_formulas, transfer_line
+    from symfilt.export.text import LONG, stage_formulas
+    from symfilt.export.transfer_text import transfer_line
 
     ch = r.chain
     rs = "R_s = " + format_value(ch.source.value, "Ω") if ch.source.value is not None else \

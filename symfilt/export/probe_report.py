@@ -34,7 +34,8 @@ def probe_text(report) -> str:
     >>> print(probe_text(r).splitlines()[0])
     Probe out: H(s) = V(out)/V(source), with the load on out
     """
-    from symfilt.export.text import numbers_rows, stage_formulas, transfer_drawing
+    from symfilt.export.text import numbers_rows, stage_formulas
+    from symfilt.export.transfer_text import transfer_drawing
 
     c = report.circuit
     out = []

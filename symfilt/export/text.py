@@ -12,14 +12,14 @@ from symfilt.model.circuit import S
 from symfilt.analysis.stage import UNSTABLE_DROPS, Analysis, StageResult
 from symfilt.model.values import format_value
 from symfilt.engine.polybridge import smaller_than
-from symfilt.export.common import parallel_display, sensitivity_quantities, transfer_parts
+from symfilt.export.common import parallel_display, sensitivity_quantities
 from symfilt.export.correction import corrections
 from symfilt.export.findings import describe
 from symfilt.export.impedance_form import impedance_display
 from symfilt.export.readable import readable
 from symfilt.export.response_text import kind_rows, pole_zero_lines
+from symfilt.export.transfer_text import LONG, transfer_drawing, transfer_line
 
-LONG = 400  # one-line expressions longer than this are not printed in the text report
 _UNITS = {"resistor": "Ω", "capacitor": "F", "inductor": "H"}
 
 
@@ -89,97 +89,6 @@ def pretty(expr) -> str:
         return Printer({"use_unicode": True, "wrap_line": False}).doprint(expr)
     finally:
         pretty_use_unicode(flag)
-
-
-def transfer_pretty(h) -> str:
-    """H(s) drawn as ``K ⋅ N(s)/D(s)`` in 2-D unicode.
-
-    Parameters
-    ----------
-    h : NetworkFunction
-        The transfer function.
-
-    Examples
-    --------
-    >>> from symfilt import catalogue
-    >>> from symfilt.analysis.network import derive
-    >>> print(transfer_pretty(derive(catalogue.build("inverting-lowpass")).ideal()))  # doctest: +NORMALIZE_WHITESPACE
-    -R₂       1
-    ────⋅───────────
-     R₁  C₁⋅R₂⋅s + 1
-    """
-    from sympy.printing.pretty.stringpict import prettyForm
-
-    from symfilt.export.pretty import Printer
-
-    if h.infinite:
-        return "∞"
-    if h.ratio is not None and h.ratio.terms > 10 * LONG:
-        return f"({h.ratio.terms}-term transfer function; see --format json or latex)"
-    k, n, d = transfer_parts(h)
-    pp = Printer({"use_unicode": True, "order": "none", "wrap_line": False})
-    if d == 1:
-        ratio = n
-    elif n == 1:
-        ratio = sympy.Pow(d, -1, evaluate=False)
-    else:
-        ratio = sympy.Mul(n, sympy.Pow(d, -1, evaluate=False), evaluate=False)
-    form = pp._print(ratio)
-    if k != 1:
-        form = prettyForm(*pp._print(k).right("⋅", form))
-    return form.render(wrap_line=False)
-
-
-def transfer_line(h) -> str:
-    """H(s) on one line as ``K · (N)/(D)``.
-
-    Parameters
-    ----------
-    h : NetworkFunction
-        The transfer function.
-
-    Examples
-    --------
-    >>> from symfilt import catalogue
-    >>> from symfilt.analysis.network import derive
-    >>> transfer_line(derive(catalogue.build("rc-lowpass")))
-    'R_L/(R1 + R_L + R_s) · 1/(C1·((R1 + R_s) || R_L)·s + 1)'
-    """
-    if h.infinite:
-        return "∞"
-    if h.ratio is not None and h.ratio.terms > 10 * LONG:
-        return f"({h.ratio.terms}-term transfer function; see --format json or latex)"
-    k, n, d = transfer_parts(h)
-    fmt = lambda e: sympy.sstr(e, order="none").replace("**", "^").replace("*", "·")
-    body = fmt(n) if d == 1 else (f"({fmt(n)})" if isinstance(n, sympy.Add) else fmt(n)) + f"/({fmt(d)})"
-    text = body if k == 1 else f"{fmt(k)} · {body}"
-    if len(text) > 10 * LONG:
-        return f"({len(text)}-character expression; see --format json or latex)"
-    return text
-
-
-#: Widest 2-D drawing of H(s), in characters; a wider one is written on one line instead.
-DRAWING_WIDTH = 140
-
-
-def transfer_drawing(h) -> str:
-    """H(s) drawn in 2-D (:func:`transfer_pretty`), or on one line when the drawing would be too wide.
-
-    Parameters
-    ----------
-    h : NetworkFunction
-
-    Examples
-    --------
-    >>> from symfilt import catalogue
-    >>> from symfilt.analysis.network import derive
-    >>> transfer_drawing(derive(catalogue.build("rc-lowpass")).ideal()).splitlines()[1]
-    '───────────'
-    """
-    drawn = transfer_pretty(h)
-    if max(len(line) for line in drawn.splitlines()) > DRAWING_WIDTH:
-        return transfer_line(h)
-    return drawn
 
 
 def _indent(text: str, pad: str = "    ") -> str:
